@@ -1,0 +1,33 @@
+# Two entry points for a fresh Debian/Ubuntu machine with Python 3.11+:
+#   make demo   set everything up, then run the demo
+#   make test   set everything up, then lint, type-check and run the test suite
+PYTHON ?= python3
+VENV   ?= .venv
+BIN    := $(VENV)/bin
+
+.PHONY: demo test setup lint typecheck clean
+
+demo: setup
+	$(BIN)/memcheck demo
+
+test: setup lint typecheck
+	$(BIN)/pytest -n 2 -q
+
+setup: $(VENV)/.installed
+	@tools/ensure-iverilog.sh
+
+$(VENV)/.installed: pyproject.toml
+	@$(PYTHON) -c 'import sys; sys.exit(0 if sys.version_info >= (3, 11) else "memcheck needs Python 3.11 or newer")'
+	$(PYTHON) -m venv $(VENV)
+	$(BIN)/python -m pip install -q --upgrade pip
+	$(BIN)/python -m pip install -q -e '.[test]'
+	@touch $@
+
+lint:
+	$(BIN)/ruff check memcheck tests bench
+
+typecheck:
+	$(BIN)/mypy memcheck
+
+clean:
+	rm -rf $(VENV) build .pytest_cache .mypy_cache .ruff_cache

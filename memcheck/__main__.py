@@ -1,0 +1,7 @@
+"""``python -m memcheck`` runs the command line."""
+
+import sys
+
+from memcheck.cli import main
+
+sys.exit(main())

@@ -1,0 +1,44 @@
+"""``memcheck contract``: validate a contract file and show what it promises."""
+
+from __future__ import annotations
+
+import click
+from rich.console import Console
+from rich.table import Table
+
+from memcheck.cli import cli
+from memcheck.contract import load_contract
+
+
+@cli.group("contract")
+def contract_group() -> None:
+    """Inspect memory contract files."""
+
+
+@contract_group.command("validate")
+@click.argument("contract_file", type=click.Path(dir_okay=False))
+def validate(contract_file: str) -> None:
+    """Check CONTRACT_FILE and summarise it; exit 2 with the first problem found."""
+    c = load_contract(contract_file)
+    m = c.memory
+    console = Console()
+    console.print(f"[bold]{contract_file}[/bold]: valid contract")
+    t = Table(show_header=False, box=None)
+    t.add_row("geometry", f"{m.words} words x {m.width} bits")
+    writes = ("bit mask" if m.bit_mask else
+              f"{m.lanes} lanes of {m.lane_width} bits" if m.lane_width else "whole-word")
+    t.add_row("writes", writes)
+    t.add_row("read latency", str(m.read_latency))
+    for key in ("read_during_write", "collision", "write_collision", "initial", "idle_read_data"):
+        t.add_row(key, str(getattr(m, key)))
+    for p in c.ports:
+        t.add_row(f"port {p.name}", f"{p.role}: " + ", ".join(f"{k}={v}" for k, v in p.pins().items()))
+    if c.reset:
+        t.add_row("reset", f"{c.reset.signal} ({'active low' if c.reset.active_low else 'active high'}, "
+                           f"{c.reset.cycles} cycles)")
+    console.print(t)
+    unchecked = c.unchecked_behaviours()
+    if unchecked:
+        console.print("Not promised by this contract (left unknown, so never checked):")
+        for u in unchecked:
+            console.print(f"  - {u}")
