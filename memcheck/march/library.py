@@ -45,6 +45,13 @@ class Source:
     venue: str
     year: int
 
+    def short(self) -> str:
+        """First author's surname (et al.) and year, e.g. ``Hamdioui et al. 2002``."""
+        first = re.split(r",| and ", self.authors)[0].strip()
+        more = " et al." if ("," in self.authors or " and " in self.authors) else ""
+        surname = " ".join(t for t in first.split() if not t.endswith("."))
+        return f"{surname}{more} {self.year}"
+
     def cite(self) -> str:
         return f'{self.authors}, "{self.title}", {self.venue}, {self.year}'
 
