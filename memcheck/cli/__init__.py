@@ -8,7 +8,6 @@ with ``--debug``).
 from __future__ import annotations
 
 import sys
-import textwrap
 import traceback
 
 import click
@@ -38,9 +37,7 @@ def cli(ctx: click.Context, debug: bool) -> None:
 def render_error(exc: BaseException) -> str:
     """One paragraph for a user, whatever the error."""
     text = str(exc).strip() or exc.__class__.__name__
-    first, _, rest = text.partition("\n")
-    para = textwrap.fill(f"memcheck: error: {first}", width=100, subsequent_indent="  ")
-    return para + ("\n" + rest if rest else "")
+    return f"memcheck: error: {text}"
 
 
 def _register_commands() -> None:
