@@ -149,14 +149,17 @@ def resolve_background(name: str, width: int, layout: tuple[int, int] | None = N
 
 def resolve_backgrounds(spec: str | Sequence[str], width: int,
                         layout: tuple[int, int] | None = None) -> tuple[DataBackground, ...]:
-    """A comma-separated list (or sequence) of background names, in order, duplicates kept out."""
+    """A comma-separated list (or sequence) of background names, in order; a background equal to an
+    earlier one (same words) is dropped."""
     names = [s for s in (spec.split(",") if isinstance(spec, str) else spec) if s.strip()]
     if not names:
         raise NotationError("at least one data background is needed (e.g. solid or standard)")
     out: list[DataBackground] = []
+    seen: set[tuple[int, str]] = set()
     for n in names:
         for bg in resolve_background(n, width, layout):
-            if bg not in out:
+            if (bg.base, bg.flip) not in seen:  # the same words under another name run once
+                seen.add((bg.base, bg.flip))
                 out.append(bg)
     return tuple(out)
 

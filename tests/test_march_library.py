@@ -1,0 +1,106 @@
+"""The algorithm library against the published notations and lengths.
+
+Each expected value below is written out independently of memcheck/march/library.py and names its
+publication. Notations were written from memory of the cited papers and cross-checked against an
+independent public transcription of the same tests; lengths are the figures the papers state.
+"""
+
+from __future__ import annotations
+
+import pytest
+
+from memcheck.errors import NotationError, UnknownAlgorithm
+from memcheck.march import ALGORITHMS, FAULT_CLASSES, get_algorithm, parse_march, resolve_test
+
+PUBLISHED = {
+    # R. Nair, "Comments on 'An Optimal Algorithm for Testing Stuck-at Faults in Random Access Memories'",
+    # IEEE Trans. Computers, 1979 (notation from memory): MATS 4n.
+    "MATS": ("{⇕(w0); ⇕(r0,w1); ⇕(r1)}", 4),
+    # M.S. Abadir and H.K. Reghbati, "Functional Testing of Semiconductor Random Access Memories",
+    # ACM Computing Surveys, 1983 (notation from memory): MATS+ 5n.
+    "MATS+": ("{⇕(w0); ⇑(r0,w1); ⇓(r1,w0)}", 5),
+    # A.J. van de Goor, "Testing Semiconductor Memories: Theory and Practice", 1991 (notation from
+    # memory): MATS++ 6n, March X 6n, March Y 8n, March G 23n + 2 delays.
+    "MATS++": ("{⇕(w0); ⇑(r0,w1); ⇓(r1,w0,r0)}", 6),
+    "March X": ("{⇕(w0); ⇑(r0,w1); ⇓(r1,w0); ⇕(r0)}", 6),
+    "March Y": ("{⇕(w0); ⇑(r0,w1,r1); ⇓(r1,w0,r0); ⇕(r0)}", 8),
+    "March G": ("{⇕(w0); ⇑(r0,w1,r1,w0,r0,w1); ⇑(r1,w0,w1); ⇓(r1,w0,w1,w0); ⇓(r0,w1,w0); Del; ⇕(r0,w1,r1); Del; "
+                "⇕(r1,w0,r0)}", 23),
+    # M. Marinescu, "Simple and Efficient Algorithms for Functional RAM Testing", ITC 1982
+    # (notation from memory): March C 11n.
+    "March C": ("{⇕(w0); ⇑(r0,w1); ⇑(r1,w0); ⇕(r0); ⇓(r0,w1); ⇓(r1,w0); ⇕(r0)}", 11),
+    # A.J. van de Goor, "Using March Tests to Test SRAMs", IEEE Design & Test of Computers, 1993
+    # (notation from memory): March C- 10n.
+    "March C-": ("{⇕(w0); ⇑(r0,w1); ⇑(r1,w0); ⇓(r0,w1); ⇓(r1,w0); ⇕(r0)}", 10),
+    # D.S. Suk and S.M. Reddy, "A March Test for Functional Faults in Semiconductor Random Access
+    # Memories", IEEE Trans. Computers, 1981 (notation from memory): March A 15n, March B 17n.
+    "March A": ("{⇕(w0); ⇑(r0,w1,w0,w1); ⇑(r1,w0,w1); ⇓(r1,w0,w1,w0); ⇓(r0,w1,w0)}", 15),
+    "March B": ("{⇕(w0); ⇑(r0,w1,r1,w0,r0,w1); ⇑(r1,w0,w1); ⇓(r1,w0,w1,w0); ⇓(r0,w1,w0)}", 17),
+    # A.J. van de Goor and G.N. Gaydadjiev, "March U: a Test for Unlinked Memory Faults",
+    # IEE Proc. Circuits, Devices and Systems, 1997 (notation from memory): 13n.
+    "March U": ("{⇕(w0); ⇑(r0,w1,r1,w0); ⇑(r0,w1); ⇓(r1,w0,r0,w1); ⇓(r1,w0)}", 13),
+    # A.J. van de Goor, G.N. Gaydadjiev, V.N. Mikitjuk, V.N. Yarmolik, "March LR: a Test for
+    # Realistic Linked Faults", VTS 1996 (notation from memory): 14n.
+    "March LR": ("{⇕(w0); ⇓(r0,w1); ⇑(r1,w0,r0,w1); ⇑(r1,w0); ⇑(r0,w1,r1,w0); ⇑(r0)}", 14),
+    # S. Hamdioui and A.J. van de Goor, "An Experimental Analysis of Spot Defects in SRAMs: Realistic
+    # Fault Models and Tests", ATS 2000 (notation from memory; the abstract states 14n).
+    "March SR": ("{⇓(w0); ⇑(r0,w1,r1,w0); ⇑(r0,r0); ⇑(w1); ⇓(r1,w0,r0,w1); ⇓(r1,r1)}", 14),
+    # S. Hamdioui, A.J. van de Goor and M. Rodgers, "March SS: a Test for All Static Simple RAM
+    # Faults", MTDT 2002 (notation from memory; the abstract states 22n).
+    "March SS": ("{⇕(w0); ⇑(r0,r0,w0,r0,w1); ⇑(r1,r1,w1,r1,w0); ⇓(r0,r0,w0,r0,w1); ⇓(r1,r1,w1,r1,w0); ⇕(r0)}", 22),
+}
+
+
+@pytest.mark.parametrize("name", sorted(PUBLISHED))
+def test_notation_and_length_match_publication(name: str) -> None:
+    notation, length = PUBLISHED[name]
+    alg = get_algorithm(name)
+    assert alg.test == parse_march(notation)
+    assert alg.test.to_unicode() == notation
+    assert alg.length == length
+    assert alg.test.length == length  # the stated length agrees with the notation's operation count
+
+
+def test_library_covers_the_issue_list_and_a_retention_test() -> None:
+    names = {a.name for a in ALGORITHMS}
+    assert set(PUBLISHED) <= names
+    assert any(a.test.delays > 0 and "DRF" in a.claims for a in ALGORITHMS)
+
+
+@pytest.mark.parametrize("alg", ALGORITHMS, ids=lambda a: a.name)
+def test_entries_are_complete(alg: object) -> None:
+    from memcheck.march import MarchAlgorithm
+    assert isinstance(alg, MarchAlgorithm)
+    assert alg.claims and set(alg.claims) <= set(FAULT_CLASSES)
+    assert alg.source.authors and alg.source.title and alg.source.venue and 1970 < alg.source.year < 2030
+    assert alg.test.name == alg.name
+
+
+def test_claims_of_march_ss_and_march_c_minus() -> None:
+    # Hamdioui, van de Goor, Rodgers 2002 claim all static simple faults, including write destructive
+    # (WDF, CFwd) faults that March C- (van de Goor 1993) does not target (from memory).
+    ss = set(get_algorithm("March SS").claims)
+    assert {"WDF", "RDF", "DRDF", "IRF", "CFwd", "CFrd", "CFdrd", "CFir", "CFds", "CFtr", "CFst"} <= ss
+    assert "WDF" not in get_algorithm("March C-").claims
+
+
+@pytest.mark.parametrize(("query", "name"), [
+    ("march c-", "March C-"), ("MARCH_C-", "March C-"), ("march-c-minus", "March C-"), ("March C", "March C"),
+    ("mats++", "MATS++"), ("mats-plus", "MATS+"), ("marchss", "March SS"), (" March  LR ", "March LR"),
+])
+def test_lookup_is_forgiving(query: str, name: str) -> None:
+    assert get_algorithm(query).name == name
+
+
+def test_unknown_name_suggests_close_ones() -> None:
+    with pytest.raises(UnknownAlgorithm, match="Did you mean"):
+        get_algorithm("March Q")
+
+
+def test_resolve_test_takes_names_or_notation() -> None:
+    assert resolve_test("March C-").length == 10
+    assert resolve_test("{up(w0); down(r0)}").length == 2
+    with pytest.raises(UnknownAlgorithm):
+        resolve_test("nonsense")
+    with pytest.raises(NotationError):
+        resolve_test("{up(w0); down(r0}")
