@@ -73,5 +73,5 @@ def test_strategies_find_and_shrink_a_read_after_write_bug() -> None:
     assert found, "the strategies never produced a write followed at once by a read of that address"
     smallest = found[-1]  # Hypothesis replays the shrunk example last
     assert len(smallest) <= 6
-    writes = [op for c_ in smallest.cycles for op in c_ if op.kind == "write"]
-    assert all(op.address == 0 for op in writes), "shrinks toward address 0"
+    used = {op.address for c_ in smallest.cycles for op in c_ if op.kind != "idle"}
+    assert len(used) == 1, f"shrinks toward a single address: {smallest}"
