@@ -168,6 +168,16 @@ def parity(flip: Flip, addresses: IntArray, layout: tuple[int, int] | None) -> I
     """0/1 per address for the background's flip rule, or None when it never flips."""
     if flip == "none":
         return None
+    if layout is None:  # each word its own row, column 0
+        return np.zeros_like(addresses) if flip == "col" else addresses & 1
+    cols = int(layout[1])
+    if cols & (cols - 1) == 0:  # power of two: row = a >> log2(cols), col = a & (cols - 1)
+        shift = cols.bit_length() - 1
+        if flip == "row":
+            return (addresses >> shift) & 1
+        if flip == "col":
+            return addresses & (cols - 1) & 1
+        return ((addresses >> shift) + (addresses & (cols - 1))) & 1
     row, col = address_to_row_col(addresses, layout)
     if flip == "row":
         return row & 1

@@ -191,6 +191,11 @@ class MarchStream:
         is_write = (kinds == OP_WRITE).astype(np.uint64)
         ones = all_ones(width)
         base = int_to_limbs(bg.base, width)
+        # words_k[p, j]: the word operation j handles when the address's flip parity is p
+        flip = values.astype(np.uint64)[None, :] ^ np.array([[0], [1]], dtype=np.uint64)  # (2, k)
+        words_k = base[None, None, :] ^ (flip[:, :, None] * ones[None, None, :])  # (2, k, L)
+        data_k = words_k * is_write[None, :, None]
+        exp_k = words_k * (1 - is_write)[None, :, None]
         direction = self.direction(e)
         start = self.element_start(b, e)
         cache: dict[int, tuple[ByteArray, ShortArray, WordArray | None, WordArray | None]] = {}
@@ -202,10 +207,9 @@ class MarchStream:
                 op = _ro(np.tile(kinds, m))
                 step = _ro(np.tile(np.arange(k, dtype=np.uint16), m))
                 data_c = exp_c = None
-                if bg.flip == "none":
-                    words_k = base[None, :] ^ (values.astype(np.uint64)[:, None] * ones[None, :])  # (k, L)
-                    data_c = _ro(np.tile(words_k * is_write[:, None], (m, 1)))
-                    exp_c = _ro(np.tile(words_k * (1 - is_write)[:, None], (m, 1)))
+                if bg.flip == "none":  # the same words for every address: build once, share
+                    data_c = _ro(np.tile(data_k[0], (m, 1)))
+                    exp_c = _ro(np.tile(exp_k[0], (m, 1)))
                 cache[m] = (op, step, data_c, exp_c)
             op, step, data, expected = cache[m]
             addr = self.order.walk(direction, p0, p1)
@@ -213,11 +217,8 @@ class MarchStream:
             if data is None or expected is None:
                 par = parity(bg.flip, addr, self.layout)
                 assert par is not None
-                bit = (par.astype(np.uint8)[:, None] ^ values[None, :]).reshape(-1).astype(np.uint64)
-                words_all = base[None, :] ^ (bit[:, None] * ones[None, :])
-                w = np.tile(is_write, m)[:, None]
-                data = _ro(words_all * w)
-                expected = _ro(words_all * (1 - w))
+                data = _ro(data_k[par].reshape(m * k, -1))
+                expected = _ro(exp_k[par].reshape(m * k, -1))
             yield OpsChunk(start + p0 * k, e, b, op, address, data, expected, step)
 
     def steps(self) -> Iterator[MarchStep | Pause]:
