@@ -126,6 +126,15 @@ def _hexwords(words: WordArray, digits: int) -> list[str]:
     return [bytes(row).decode() for row in chars]
 
 
+def _text_rows(item: OpsChunk, lay: HexLayout) -> Iterator[tuple[str, str, str, str, int]]:
+    """(op letter, address hex, data hex, expected hex, step) per operation of a chunk."""
+    addr = _hexwords(item.address.astype(np.uint64)[:, None], lay.address_digits)
+    data = _hexwords(item.data, lay.data_digits)
+    exp = _hexwords(item.expected, lay.data_digits)
+    ops = np.where(item.op == OP_WRITE, "w", "r").tolist()
+    return zip(ops, addr, data, exp, item.step.tolist(), strict=True)
+
+
 def iter_csv(stream: MarchStream) -> Iterator[bytes]:
     """CSV rows in pieces (header row first)."""
     lay = hex_layout(stream)
@@ -134,15 +143,9 @@ def iter_csv(stream: MarchStream) -> Iterator[bytes]:
         if isinstance(item, Pause):
             yield f"{item.at},{item.background},{item.element},,pause,,,\n".encode()
             continue
-        addr = _hexwords(item.address.astype(np.uint64)[:, None], lay.address_digits)
-        data = _hexwords(item.data, lay.data_digits)
-        exp = _hexwords(item.expected, lay.data_digits)
-        rows = [
-            f"{item.start + i},{item.background},{item.element},{int(item.step[i])},"
-            f"{'w' if item.op[i] == OP_WRITE else 'r'},0x{addr[i]},0x{data[i]},0x{exp[i]}\n"
-            for i in range(len(item))
-        ]
-        yield "".join(rows).encode()
+        yield "".join(
+            f"{item.start + i},{item.background},{item.element},{step},{op},0x{addr},0x{data},0x{exp}\n"
+            for i, (op, addr, data, exp, step) in enumerate(_text_rows(item, lay))).encode()
 
 
 def iter_json(stream: MarchStream) -> Iterator[bytes]:
@@ -172,14 +175,9 @@ def iter_json(stream: MarchStream) -> Iterator[bytes]:
             pauses.append({"at": item.at, "element": item.element, "background": item.background,
                            "label": item.delay.label})
             continue
-        data = _hexwords(item.data, lay.data_digits)
-        exp = _hexwords(item.expected, lay.data_digits)
-        rows = [
-            f'["{"w" if item.op[i] == OP_WRITE else "r"}",{int(item.address[i])},"0x{data[i]}","0x{exp[i]}",'
-            f"{item.element},{int(item.step[i])},{item.background}]"
-            for i in range(len(item))
-        ]
-        piece = ",\n".join(rows)
+        piece = ",\n".join(
+            f'["{op}",{int(addr, 16)},"0x{data}","0x{exp}",{item.element},{step},{item.background}]'
+            for op, addr, data, exp, step in _text_rows(item, lay))
         yield (("\n" if first else ",\n") + piece).encode()
         first = False
     yield ("\n], " + json.dumps({"pauses": pauses})[1:] + "\n").encode()
