@@ -1,0 +1,160 @@
+"""How a March test meets one memory: geometry, address order and data backgrounds, resolved once
+into the small arrays the engines need.
+
+Both engines take a :class:`SimSetup`. The reference engine hands it to
+:func:`memcheck.march.expand.expand` and runs the whole stream; the fast engine only needs, per word,
+its position in the ⇑ order and which background bit each of its cells gets (its *signature*).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Literal
+
+import numpy as np
+import numpy.typing as npt
+
+from memcheck.errors import FaultModelError, MemcheckError
+from memcheck.march.backgrounds import DataBackground, parity, resolve_backgrounds
+from memcheck.march.notation import Delay, MarchElement, MarchTest
+from memcheck.march.orders import AddressOrder
+
+IntArray = npt.NDArray[np.int64]
+ByteArray = npt.NDArray[np.uint8]
+
+
+@dataclass(frozen=True)
+class SimSetup:
+    """A memory of ``words`` x ``width`` bits, an optional physical ``layout`` (rows x mux columns of
+    words, as in :mod:`memcheck.march.orders`), the address ``order`` kind and the data
+    ``backgrounds`` (default: ``solid`` for 1-bit words, the ``standard`` set for wider words)."""
+
+    words: int
+    width: int = 1
+    layout: tuple[int, int] | None = None
+    order: str = "linear"
+    backgrounds: str | tuple[str, ...] | None = None
+    seed: int | None = None
+
+    def __post_init__(self) -> None:
+        if isinstance(self.words, bool) or not isinstance(self.words, int) or self.words < 1:
+            raise FaultModelError(f"words must be a positive integer, not {self.words!r}")
+        if isinstance(self.width, bool) or not isinstance(self.width, int) or not 1 <= self.width <= 1024:
+            raise FaultModelError(f"width must be an integer from 1 to 1024, not {self.width!r}")
+
+    @property
+    def background_spec(self) -> str | tuple[str, ...]:
+        if self.backgrounds is not None:
+            return self.backgrounds
+        return "solid" if self.width == 1 else "standard"
+
+    @property
+    def cells(self) -> int:
+        return self.words * self.width
+
+    def resolve(self) -> Resolved:
+        try:
+            order = AddressOrder(self.order, self.words, self.layout, self.seed)
+            bgs = resolve_backgrounds(self.background_spec, self.width, self.layout)
+        except MemcheckError as exc:
+            raise FaultModelError(str(exc)) from None
+        up = order.up()
+        pos = np.empty(self.words, dtype=np.int64)
+        pos[up] = np.arange(self.words, dtype=np.int64)
+        k = len(bgs)
+        base = np.array([[(bg.base >> b) & 1 for b in range(self.width)] for bg in bgs], dtype=np.uint8)
+        addresses = np.arange(self.words, dtype=np.int64)
+        par = np.zeros((k, self.words), dtype=np.uint8)
+        for i, bg in enumerate(bgs):
+            p = parity(bg.flip, addresses, self.layout)
+            if p is not None:
+                par[i] = p.astype(np.uint8)
+        # word classes: words whose parity vector over the backgrounds is the same
+        pcode = (par.astype(np.int64) << np.arange(k, dtype=np.int64)[:, None]).sum(axis=0)
+        wc_codes, wclass = np.unique(pcode, return_inverse=True)
+        wpar = ((wc_codes[:, None] >> np.arange(k, dtype=np.int64)[None, :]) & 1).astype(np.uint8)  # (nwc, k)
+        return Resolved(self, bgs, up, pos, base, wclass.astype(np.int64), wpar)
+
+
+@dataclass(frozen=True, eq=False)
+class Resolved:
+    """Arrays derived from a setup.
+
+    ``up`` is the ⇑ walk (``pos`` its inverse), ``base[k, b]`` the bit of background ``k`` for data
+    bit ``b`` before the address-dependent flip, ``wclass[w]`` the word's class (words flipped alike
+    by every background) and ``wpar[c, k]`` the flip of class ``c`` under background ``k``.
+    A cell's signature code packs, over the backgrounds, the bit that ``w0`` writes to it.
+    """
+
+    setup: SimSetup
+    backgrounds: tuple[DataBackground, ...]
+    up: IntArray
+    pos: IntArray
+    base: ByteArray
+    wclass: IntArray
+    wpar: ByteArray
+    _codes: list[IntArray] = field(default_factory=list, repr=False)
+
+    @property
+    def nbg(self) -> int:
+        return len(self.backgrounds)
+
+    def class_codes(self) -> IntArray:
+        """``codes[c, b]``: the signature code of bit ``b`` in a word of class ``c``."""
+        if not self._codes:
+            bits = self.base[None, :, :] ^ self.wpar[:, :, None]  # (nwc, k, width)
+            weights = (1 << np.arange(self.nbg, dtype=np.int64))[None, :, None]
+            self._codes.append((bits.astype(np.int64) * weights).sum(axis=1))
+        return self._codes[0]
+
+    def cell_code(self, words: IntArray, bits: IntArray) -> IntArray:
+        return self.class_codes()[self.wclass[words], bits]
+
+
+# --------------------------------------------------------------------------------------------------
+# The per-word schedule: every word sees the same operations in the same order, so a test is a list
+# of *slots* (background, element, op index, kind, value); a pause is a slot of kind "T".
+# --------------------------------------------------------------------------------------------------
+
+SlotKind = Literal["r", "w", "T"]
+
+
+@dataclass(frozen=True, slots=True)
+class Slot:
+    background: int
+    element: int
+    op: int
+    kind: SlotKind
+    value: int
+    direction: Literal["up", "down"]
+
+
+def schedule(test: MarchTest, nbg: int) -> tuple[Slot, ...]:
+    """The operations every word sees, in time order, over ``nbg`` backgrounds (⇕ runs up)."""
+    out: list[Slot] = []
+    for k in range(nbg):
+        for e, el in enumerate(test.elements):
+            if isinstance(el, Delay):
+                out.append(Slot(k, e, -1, "T", 0, "up"))
+                continue
+            direction: Literal["up", "down"] = "down" if el.order == "down" else "up"
+            for j, op in enumerate(el.ops):
+                out.append(Slot(k, e, j, op.kind, op.value, direction))
+    return tuple(out)
+
+
+def check_consistent(test: MarchTest) -> None:
+    """Reject a test that a fault-free memory fails: a read expecting a value other than the one
+    written last in the same pass (reads before the first write are not compared)."""
+    last: int | None = None
+    for e, el in enumerate(test.elements):
+        if not isinstance(el, MarchElement):
+            continue
+        for j, op in enumerate(el.ops):
+            if op.kind == "w":
+                last = op.value
+            elif last is not None and op.value != last:
+                raise FaultModelError(
+                    f"element {e + 1} {el.to_unicode()} reads {op} at operation {j + 1}, but every word holds "
+                    f"{last} there in a good memory (written last by w{last}); a fault-free memory fails this "
+                    "test, so its coverage means nothing: fix the notation")
