@@ -210,6 +210,9 @@ def _atomic_binary(path: Path) -> Iterator[IO[bytes]]:
             yield fh
             fh.flush()
             os.fsync(fh.fileno())
+        umask = os.umask(0)
+        os.umask(umask)
+        os.chmod(tmp, 0o666 & ~umask)  # mkstemp makes 0600; give the file ordinary permissions
         os.replace(tmp, path)
     except BaseException:
         with contextlib.suppress(OSError):
