@@ -2,7 +2,7 @@
 
 Each expected value below is written out independently of memcheck/march/library.py and names its
 publication. Notations were written from memory of the cited papers and cross-checked against an
-independent public transcription of the same tests; lengths are the figures the papers state.
+independent public listing of the same tests; lengths are the figures the papers state.
 """
 
 from __future__ import annotations
