@@ -14,10 +14,10 @@ from memcheck.march import ALGORITHMS, FAULT_CLASSES, get_algorithm, parse_march
 
 PUBLISHED = {
     # R. Nair, "Comments on 'An Optimal Algorithm for Testing Stuck-at Faults in Random Access Memories'",
-    # IEEE Trans. Computers, 1979 (notation from memory): MATS 4n.
+    # IEEE Trans. Computers, 1979 (notation and length from memory): MATS 4n.
     "MATS": ("{⇕(w0); ⇕(r0,w1); ⇕(r1)}", 4),
     # M.S. Abadir and H.K. Reghbati, "Functional Testing of Semiconductor Random Access Memories",
-    # ACM Computing Surveys, 1983 (notation from memory): MATS+ 5n.
+    # ACM Computing Surveys, 1983 (notation and length from memory): MATS+ 5n.
     "MATS+": ("{⇕(w0); ⇑(r0,w1); ⇓(r1,w0)}", 5),
     # A.J. van de Goor, "Testing Semiconductor Memories: Theory and Practice", 1991 (notation from
     # memory): MATS++ 6n, March X 6n, March Y 8n, March G 23n + 2 delays.
@@ -27,20 +27,20 @@ PUBLISHED = {
     "March G": ("{⇕(w0); ⇑(r0,w1,r1,w0,r0,w1); ⇑(r1,w0,w1); ⇓(r1,w0,w1,w0); ⇓(r0,w1,w0); Del; ⇕(r0,w1,r1); Del; "
                 "⇕(r1,w0,r0)}", 23),
     # M. Marinescu, "Simple and Efficient Algorithms for Functional RAM Testing", ITC 1982
-    # (notation from memory): March C 11n.
+    # (notation and length from memory): March C 11n.
     "March C": ("{⇕(w0); ⇑(r0,w1); ⇑(r1,w0); ⇕(r0); ⇓(r0,w1); ⇓(r1,w0); ⇕(r0)}", 11),
     # A.J. van de Goor, "Using March Tests to Test SRAMs", IEEE Design & Test of Computers, 1993
-    # (notation from memory): March C- 10n.
+    # (notation and length from memory): March C- 10n.
     "March C-": ("{⇕(w0); ⇑(r0,w1); ⇑(r1,w0); ⇓(r0,w1); ⇓(r1,w0); ⇕(r0)}", 10),
     # D.S. Suk and S.M. Reddy, "A March Test for Functional Faults in Semiconductor Random Access
-    # Memories", IEEE Trans. Computers, 1981 (notation from memory): March A 15n, March B 17n.
+    # Memories", IEEE Trans. Computers, 1981 (notation and length from memory): March A 15n, March B 17n.
     "March A": ("{⇕(w0); ⇑(r0,w1,w0,w1); ⇑(r1,w0,w1); ⇓(r1,w0,w1,w0); ⇓(r0,w1,w0)}", 15),
     "March B": ("{⇕(w0); ⇑(r0,w1,r1,w0,r0,w1); ⇑(r1,w0,w1); ⇓(r1,w0,w1,w0); ⇓(r0,w1,w0)}", 17),
     # A.J. van de Goor and G.N. Gaydadjiev, "March U: a Test for Unlinked Memory Faults",
-    # IEE Proc. Circuits, Devices and Systems, 1997 (notation from memory): 13n.
+    # IEE Proc. Circuits, Devices and Systems, 1997 (notation and length from memory): 13n.
     "March U": ("{⇕(w0); ⇑(r0,w1,r1,w0); ⇑(r0,w1); ⇓(r1,w0,r0,w1); ⇓(r1,w0)}", 13),
     # A.J. van de Goor, G.N. Gaydadjiev, V.N. Mikitjuk, V.N. Yarmolik, "March LR: a Test for
-    # Realistic Linked Faults", VTS 1996 (notation from memory): 14n.
+    # Realistic Linked Faults", VTS 1996 (notation and length from memory): 14n.
     "March LR": ("{⇕(w0); ⇓(r0,w1); ⇑(r1,w0,r0,w1); ⇑(r1,w0); ⇑(r0,w1,r1,w0); ⇑(r0)}", 14),
     # S. Hamdioui and A.J. van de Goor, "An Experimental Analysis of Spot Defects in SRAMs: Realistic
     # Fault Models and Tests", ATS 2000 (notation from memory; the abstract states 14n).
