@@ -19,8 +19,8 @@ PUBLISHED = {
     # M.S. Abadir and H.K. Reghbati, "Functional Testing of Semiconductor Random Access Memories",
     # ACM Computing Surveys, 1983 (notation and length from memory): MATS+ 5n.
     "MATS+": ("{⇕(w0); ⇑(r0,w1); ⇓(r1,w0)}", 5),
-    # A.J. van de Goor, "Testing Semiconductor Memories: Theory and Practice", 1991 (notation from
-    # memory): MATS++ 6n, March X 6n, March Y 8n, March G 23n + 2 delays.
+    # A.J. van de Goor, "Testing Semiconductor Memories: Theory and Practice", 1991 (notation and
+    # length from memory): MATS++ 6n, March X 6n, March Y 8n, March G 23n + 2 delays.
     "MATS++": ("{⇕(w0); ⇑(r0,w1); ⇓(r1,w0,r0)}", 6),
     "March X": ("{⇕(w0); ⇑(r0,w1); ⇓(r1,w0); ⇕(r0)}", 6),
     "March Y": ("{⇕(w0); ⇑(r0,w1,r1); ⇓(r1,w0,r0); ⇕(r0)}", 8),
