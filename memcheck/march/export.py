@@ -22,18 +22,16 @@ same folder, then ``os.replace``).
 
 from __future__ import annotations
 
-import contextlib
 import json
-import os
-import tempfile
 from collections.abc import Iterator
 from dataclasses import dataclass
 from pathlib import Path
-from typing import IO, Literal
+from typing import Literal
 
 import numpy as np
 import numpy.typing as npt
 
+from memcheck._atomic import open_atomic
 from memcheck.errors import NotationError
 from memcheck.march.backgrounds import WordArray
 from memcheck.march.expand import OP_WRITE, MarchStream, OpsChunk, Pause
@@ -199,32 +197,11 @@ def render(stream: MarchStream, fmt: str) -> str:
     return b"".join(iter_export(stream, fmt)).decode()
 
 
-@contextlib.contextmanager
-def _atomic_binary(path: Path) -> Iterator[IO[bytes]]:
-    """Stream into a temporary file beside ``path`` and ``os.replace`` it on success (the streaming
-    sibling of memcheck._atomic.write_bytes_atomic, for outputs too large to hold in memory)."""
-    path.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
-    try:
-        with os.fdopen(fd, "wb") as fh:
-            yield fh
-            fh.flush()
-            os.fsync(fh.fileno())
-        umask = os.umask(0)
-        os.umask(umask)
-        os.chmod(tmp, 0o666 & ~umask)  # mkstemp makes 0600; give the file ordinary permissions
-        os.replace(tmp, path)
-    except BaseException:
-        with contextlib.suppress(OSError):
-            os.unlink(tmp)
-        raise
-
-
 def write_export(stream: MarchStream, path: str | Path, fmt: str) -> Path:
     """Write the stream to ``path`` in ``fmt``, atomically and chunk by chunk; returns the path."""
     pieces = iter_export(stream, fmt)
     target = Path(path)
-    with _atomic_binary(target) as fh:
+    with open_atomic(target) as fh:
         for piece in pieces:
             fh.write(piece)
     return target
