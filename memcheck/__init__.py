@@ -24,11 +24,24 @@ from memcheck.errors import (
     SimulationError,
     UnknownAlgorithm,
 )
+from memcheck.march import (
+    ALGORITHMS,
+    MarchStream,
+    MarchTest,
+    address_order,
+    expand,
+    get_algorithm,
+    parse_march,
+    resolve_test,
+    write_export,
+)
+from memcheck.model import Model
 from memcheck.ops import IDLE, UNKNOWN, Cycle, Expected, PortOp, Trace, idle, read, write
 
 __version__ = "0.1.0"
 
 __all__ = [
+    "ALGORITHMS",
     "IDLE",
     "UNKNOWN",
     "Contract",
@@ -37,8 +50,11 @@ __all__ = [
     "Expected",
     "FaultModelError",
     "InvalidOperation",
+    "MarchStream",
+    "MarchTest",
     "MemcheckError",
     "MemorySpec",
+    "Model",
     "NotationError",
     "PortOp",
     "PortSpec",
@@ -49,9 +65,15 @@ __all__ = [
     "Trace",
     "UnknownAlgorithm",
     "__version__",
+    "address_order",
+    "expand",
+    "get_algorithm",
     "idle",
     "load_contract",
     "parse_contract",
+    "parse_march",
     "read",
+    "resolve_test",
     "write",
+    "write_export",
 ]
