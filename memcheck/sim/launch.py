@@ -1,0 +1,118 @@
+"""Start one simulation of a built harness and collect what it found.
+
+The simulator runs :mod:`memcheck.sim._cocotb_entry` with a job file; we watch its progress file
+(stall watchdog, progress display) and read its result file.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import json
+import os
+import pickle
+from collections.abc import Mapping
+from pathlib import Path
+from typing import Any
+
+from memcheck.contract import Contract
+from memcheck.errors import SimulationError
+from memcheck.sim.build import Build
+from memcheck.sim.harness import HARNESS_TOP, PERIOD_NS
+from memcheck.sim.icarus import CommandFailed, ProgressCallback, QuietIcarus, Stalled, Watch
+from memcheck.sim.result import RunResult
+
+ENTRY_MODULE = "memcheck.sim._cocotb_entry"
+DEFAULT_STALL_SECONDS = 30.0
+
+
+def _picklable(contract: Contract) -> Contract:
+    rtl = contract.rtl
+    if rtl is None:
+        return contract
+    return dataclasses.replace(contract, rtl=dataclasses.replace(
+        rtl, parameters=dict(rtl.parameters), defines=dict(rtl.defines)))
+
+
+def _log_tail(log: Path, n: int = 15) -> str:
+    if not log.is_file():
+        return "  (no simulator log)"
+    lines = [ln for ln in log.read_text(encoding="utf-8", errors="replace").splitlines() if ln.strip()]
+    return "\n".join(f"  {ln}" for ln in lines[-n:]) or "  (empty simulator log)"
+
+
+def _where(last: Mapping[str, Any] | None) -> str:
+    if not last:
+        return "before the first batch of cycles (while starting the simulator)"
+    phase = last.get("phase", "?")
+    what = last.get("what")
+    text = f"in the {phase} phase" + (f" ({what}" if what else "")
+    if "done" in last and "total" in last:
+        text += f", {last['done']} of {last['total']}"
+    text += ")" if what else ""
+    if "batch" in last:
+        start = int(last.get("cycle", 0))
+        text += (f", in a batch of {last['batch']} cycles starting at cycle {start} "
+                 f"(simulated time {start * PERIOD_NS} ns onwards)")
+    return text
+
+
+def run_job(build: Build, job: Mapping[str, Any], workdir: Path, *,
+            stall_seconds: float = DEFAULT_STALL_SECONDS, on_progress: ProgressCallback | None = None,
+            vcd: bool = False) -> RunResult:
+    """Run ``job`` (mode, options, failure to replay) in a fresh simulator; returns its result."""
+    workdir = Path(workdir).resolve()
+    workdir.mkdir(parents=True, exist_ok=True)
+    pickle_file = workdir / "contract.pickle"
+    with pickle_file.open("wb") as fh:
+        pickle.dump(_picklable(build.contract), fh)
+    result_file = workdir / "result.json"
+    progress_file = workdir / "progress.jsonl"
+    for f in (result_file, progress_file):
+        f.unlink(missing_ok=True)
+    full = {**job, "contract_pickle": str(pickle_file), "widths": dict(build.pins.widths),
+            "result_file": str(result_file), "progress_file": str(progress_file)}
+    job_file = workdir / "job.json"
+    job_file.write_text(json.dumps(full), encoding="utf-8")
+
+    watch = Watch(progress_file, stall_seconds, on_progress)
+    runner = QuietIcarus(watch=watch, vcd=vcd)
+    runner.forced_env = {
+        "MEMCHECK_JOB": str(job_file),
+        "PYTEST_DISABLE_PLUGIN_AUTOLOAD": "1",
+        "PYTHONHASHSEED": "0",
+        "COCOTB_LOG_LEVEL": os.environ.get("MEMCHECK_COCOTB_LOG_LEVEL", "WARNING"),
+    }
+    log = workdir / "sim.log"
+    try:
+        runner.test(
+            test_module=ENTRY_MODULE,
+            hdl_toplevel=HARNESS_TOP,
+            hdl_toplevel_lang="verilog",
+            build_dir=build.sim_dir,
+            test_dir=workdir,
+            results_xml=str(workdir / "results.xml"),
+            log_file=log,
+        )
+    except Stalled as exc:
+        raise SimulationError(
+            f"the simulation stopped making progress (nothing for {exc.seconds:g} s) {_where(exc.last)}; "
+            "the RTL may contain a zero-delay loop or wait for something that never happens. "
+            f"The simulator was stopped; its log is {log}."
+        ) from None
+    except (CommandFailed, SystemExit):
+        if not result_file.is_file():
+            raise SimulationError(
+                f"the simulation ended before memcheck finished ({_where(watch.last)}); did the RTL call "
+                f"$finish or $fatal? Last lines of {log}:\n{_log_tail(log)}"
+            ) from None
+    if not result_file.is_file():
+        raise SimulationError(
+            f"the simulation ended without a result ({_where(watch.last)}). Last lines of {log}:\n"
+            f"{_log_tail(log)}"
+        )
+    out = json.loads(result_file.read_text(encoding="utf-8"))
+    if out.get("status") != "ok":
+        err = SimulationError(str(out.get("error", "unknown error in the simulation")))
+        err.sim_traceback = str(out.get("traceback", ""))  # type: ignore[attr-defined]
+        raise err
+    return RunResult.from_json(out)

@@ -1,0 +1,123 @@
+"""The top module's ports, read from an elaborated design, checked against the contract.
+
+Icarus writes one ``.port_info`` line per port of each root module into its compiled ``.vvp``
+file, with the width after parameters are applied. Reading those lines gives the ports exactly
+as the simulator sees them, without a Verilog parser of our own.
+"""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Mapping
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Literal
+
+from memcheck.contract import Contract
+from memcheck.errors import SimulationError
+
+Direction = Literal["input", "output", "inout"]
+
+_SCOPE = re.compile(r'^\S+ \.scope module, "((?:[^"\\]|\\.)*)" "(?:[^"\\]|\\.)*" \d+ \d+(, .*)?;$')
+_PORT = re.compile(r'^\s*\.port_info (\d+) /(INPUT|OUTPUT|INOUT) (\d+) "((?:[^"\\]|\\.)*)";$')
+
+
+@dataclass(frozen=True)
+class TopPort:
+    """One port of the top module as elaborated."""
+
+    name: str
+    direction: Direction
+    width: int
+
+    def describe(self) -> str:
+        return f"{self.direction} [{self.width}] {self.name}" if self.width > 1 else f"{self.direction} {self.name}"
+
+
+def read_ports(vvp_file: Path, top: str) -> dict[str, TopPort]:
+    """Ports of root module ``top`` in a compiled Icarus ``.vvp`` file, in declaration order."""
+    ports: dict[str, TopPort] = {}
+    inside = False
+    found = False
+    for line in vvp_file.read_text(encoding="utf-8", errors="replace").splitlines():
+        m = _SCOPE.match(line)
+        if m:
+            inside = m.group(1) == top and m.group(2) is None  # a root scope has no parent
+            found = found or inside
+            continue
+        if not inside:
+            continue
+        p = _PORT.match(line)
+        if p:
+            direction: Direction = p.group(2).lower()  # type: ignore[assignment]
+            ports[p.group(4)] = TopPort(p.group(4), direction, int(p.group(3)))
+        elif ports:
+            break
+    if not found:
+        raise SimulationError(f"the compiled design has no root module named {top!r}; check [rtl] top.")
+    return ports
+
+
+@dataclass(frozen=True)
+class PinCheck:
+    """Result of matching a contract against the top module's ports."""
+
+    widths: Mapping[str, int]
+    unconnected_inputs: tuple[str, ...]
+
+
+def expected_pins(contract: Contract) -> dict[str, tuple[Direction, int | None, str]]:
+    """Pin -> (direction, required width or None for "at least the address bits", what it is)."""
+    m = contract.memory
+    out: dict[str, tuple[Direction, int | None, str]] = {contract.clock: ("input", 1, "the clock")}
+    if contract.reset is not None:
+        out[contract.reset.signal] = ("input", 1, "the reset")
+    for p in contract.ports:
+        where = f"port {p.name!r}"
+        if p.enable:
+            out[p.enable] = ("input", 1, f"{where} enable")
+        if p.write_enable:
+            out[p.write_enable] = ("input", 1, f"{where} write enable")
+        out[p.address] = ("input", None, f"{where} address")
+        if p.write_data:
+            out[p.write_data] = ("input", m.width, f"{where} write data")
+        if p.lane_enable:
+            out[p.lane_enable] = ("input", m.lanes, f"{where} lane enables")
+        if p.read_data:
+            out[p.read_data] = ("output", m.width, f"{where} read data")
+    return out
+
+
+def check_pins(contract: Contract, ports: Mapping[str, TopPort], top: str) -> PinCheck:
+    """Every contract pin must exist on ``top`` with the right direction and width.
+
+    Raises :class:`SimulationError` naming the pin, the width the contract implies and the
+    module's actual ports. Address pins may be wider than needed (the extra addresses lie beyond
+    ``words``) but not narrower.
+    """
+    m = contract.memory
+    actual = "; ".join(p.describe() for p in ports.values()) or "(none)"
+    widths: dict[str, int] = {}
+    for pin, (direction, width, what) in expected_pins(contract).items():
+        want = f"{width} bit{'s' if width != 1 else ''}" if width is not None else (
+            f"at least {m.address_bits} bit{'s' if m.address_bits != 1 else ''} for {m.words} words")
+        port = ports.get(pin)
+        if port is None:
+            raise SimulationError(
+                f"the top module {top!r} has no pin {pin!r} ({what}, {direction}, {want}). "
+                f"Its ports are: {actual}."
+            )
+        if port.direction != direction and not (direction == "input" and port.direction == "inout"):
+            raise SimulationError(
+                f"pin {pin!r} ({what}) of {top!r} is an {port.direction}, but the contract needs an "
+                f"{direction} of {want}. Its ports are: {actual}."
+            )
+        ok = port.width >= m.address_bits if width is None else port.width == width
+        if not ok:
+            raise SimulationError(
+                f"pin {pin!r} ({what}) of {top!r} is {port.width} bit{'s' if port.width != 1 else ''} wide, "
+                f"but the contract needs {want}. Its ports are: {actual}."
+            )
+        widths[pin] = port.width
+    spare = tuple(p.name for p in ports.values() if p.name not in widths and p.direction != "output")
+    return PinCheck(widths=widths, unconnected_inputs=spare)

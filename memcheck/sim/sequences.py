@@ -1,0 +1,237 @@
+"""Fixed operation sequences: reset, canonical fill and flush, the smoke phase and the sweep phase.
+
+Everything here is a pure function of the contract, so a replay can regenerate any of it.
+
+The *canonical state* makes property examples independent of the order they run in: every
+address is written once with a fixed, address-dependent pattern (:func:`fill_word`), and after each
+example the addresses it wrote are written back with that pattern, followed by a fixed flush (one
+write and one read of address 0, then quiet cycles). A wrapper whose state depends only on what was
+written where, and on the last few operations, is then in the same state at the start of every
+example, so a failure found after many examples is reproduced by the example alone.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable, Iterator, Sequence
+from dataclasses import dataclass
+
+from memcheck.contract import Contract
+from memcheck.ops import Cycle, PortOp
+from memcheck.strategies import drain_cycle
+
+#: Memories up to this many addresses get the canonical fill; above it examples start from
+#: whatever earlier examples left (documented in docs/check.md).
+FILL_LIMIT = 1 << 16
+_M64 = (1 << 64) - 1
+
+
+@dataclass(frozen=True)
+class Segment:
+    """Cycles run as one unit; ``reset`` marks the cycles with the reset pin asserted."""
+
+    cycles: tuple[Cycle, ...]
+    reset: bool = False
+
+    def __len__(self) -> int:
+        return len(self.cycles)
+
+
+def quiet(contract: Contract) -> Cycle:
+    """A cycle that issues nothing (ports without an enable read address 0)."""
+    return drain_cycle(contract)
+
+
+def reset_segment(contract: Contract) -> Segment | None:
+    if contract.reset is None:
+        return None
+    return Segment(tuple(quiet(contract) for _ in range(contract.reset.cycles)), reset=True)
+
+
+def writer_index(contract: Contract) -> int | None:
+    for i, p in enumerate(contract.ports):
+        if p.can_write:
+            return i
+    return None
+
+
+def reader_indices(contract: Contract) -> list[int]:
+    return [i for i, p in enumerate(contract.ports) if p.can_read]
+
+
+def _splitmix(x: int) -> int:
+    x = (x + 0x9E3779B97F4A7C15) & _M64
+    z = x
+    z = ((z ^ (z >> 30)) * 0xBF58476D1CE4E5B9) & _M64
+    z = ((z ^ (z >> 27)) * 0x94D049BB133111EB) & _M64
+    return z ^ (z >> 31)
+
+
+def fill_word(width: int, address: int) -> int:
+    """The canonical fill pattern: pseudo-random per address, never all zeros or all ones."""
+    mask = (1 << width) - 1
+    x = address * 0x2545F4914F6CDD1D & _M64
+    v = 0
+    for limb in range((width + 63) // 64):
+        x = _splitmix(x)
+        v |= x << (64 * limb)
+    v &= mask
+    if v in (0, mask):
+        v ^= 1
+    return v
+
+
+def fill_limit(contract: Contract) -> int:
+    """Addresses the canonical fill covers (every address the address bits reach), or 0 if none."""
+    n = 1 << contract.memory.address_bits
+    return n if n <= FILL_LIMIT and writer_index(contract) is not None else 0
+
+
+def _with(contract: Contract, ops: dict[int, PortOp]) -> Cycle:
+    base = list(quiet(contract))
+    for i, op in ops.items():
+        base[i] = op
+    return tuple(base)
+
+
+def restore_cycles(contract: Contract, addresses: Iterable[int]) -> list[Cycle]:
+    """Write the canonical pattern back to ``addresses`` (in ascending order)."""
+    w = writer_index(contract)
+    if w is None:
+        return []
+    width = contract.memory.width
+    return [_with(contract, {w: PortOp("write", a, fill_word(width, a))}) for a in sorted(set(addresses))]
+
+
+def fill_segments(contract: Contract, chunk: int) -> Iterator[Segment]:
+    """The canonical fill of every address, in chunks of at most ``chunk`` cycles."""
+    n = fill_limit(contract)
+    for lo in range(0, n, chunk):
+        yield Segment(tuple(restore_cycles(contract, range(lo, min(n, lo + chunk)))))
+
+
+def flush_cycles(contract: Contract) -> list[Cycle]:
+    """A fixed tail that leaves pipelines and last-operation registers in one state."""
+    out: list[Cycle] = []
+    w = writer_index(contract)
+    if w is not None and fill_limit(contract):
+        out.append(_with(contract, {w: PortOp("write", 0, fill_word(contract.memory.width, 0))}))
+    readers = reader_indices(contract)
+    if readers:
+        out.append(_with(contract, {r: PortOp("read", 0) for r in readers}))
+    out.extend(quiet(contract) for _ in range(contract.memory.read_latency + 1))
+    return out
+
+
+def written_addresses(cycles: Iterable[Cycle]) -> set[int]:
+    """Every address a cycle wrote (or tried to: lanes all zero and beyond ``words`` included)."""
+    return {op.address for c in cycles for op in c if op.kind == "write"}
+
+
+# -- smoke ---------------------------------------------------------------------------------
+
+
+def _smoke_addresses(words: int) -> list[int]:
+    return sorted({0, 1, words // 2, words - 1} & set(range(words)))
+
+
+def _lane_list(contract: Contract) -> list[int]:
+    """Lanes (or, with a bit mask, data bits) the smoke phase writes one at a time: at most 8."""
+    n = contract.memory.lanes
+    if n == 0:
+        return []
+    if n <= 8:
+        return list(range(n))
+    return sorted({round(i * (n - 1) / 7) for i in range(8)})
+
+
+def smoke_cycles(contract: Contract) -> list[Cycle]:
+    """Short and readable: reads after reset (when contents are promised), then per writing port and
+    a few addresses, a full write, a read back, and one write and read per lane."""
+    m = contract.memory
+    readers = reader_indices(contract)
+    writers = [i for i, p in enumerate(contract.ports) if p.can_write]
+    addrs = _smoke_addresses(m.words)
+    out: list[Cycle] = []
+
+    def read_all(a: int) -> None:
+        if readers:
+            out.append(_with(contract, {r: PortOp("read", a) for r in readers}))
+
+    if m.initial == "zero":
+        for a in addrs:
+            read_all(a)
+    for w in writers:
+        for a in addrs:
+            d1 = fill_word(m.width, a + 0x5A5A)
+            out.append(_with(contract, {w: PortOp("write", a, d1)}))
+            read_all(a)
+            for lane in _lane_list(contract):
+                d2 = ~d1 & m.word_mask
+                out.append(_with(contract, {w: PortOp("write", a, d2, 1 << lane)}))
+                read_all(a)
+                d1 = (d1 & ~m.lane_bits(1 << lane)) | (d2 & m.lane_bits(1 << lane))
+    out.extend(quiet(contract) for _ in range(m.read_latency))
+    return out
+
+
+# -- sweep ---------------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class SweepPlan:
+    """A March test run through one writing and one reading port."""
+
+    algorithm: str
+    backgrounds: str
+    writer: int
+    reader: int
+
+    def describe(self, contract: Contract) -> str:
+        w, r = contract.ports[self.writer].name, contract.ports[self.reader].name
+        via = f"port {w}" if w == r else f"write port {w}, read port {r}"
+        return f"{self.algorithm} ({self.backgrounds} backgrounds) via {via}"
+
+
+def sweep_plans(contract: Contract, algorithm: str, backgrounds: str) -> list[SweepPlan]:
+    """One plan per port that can read: through itself when it also writes, else with the first writer."""
+    w0 = writer_index(contract)
+    if w0 is None:
+        return []
+    plans = []
+    for r in reader_indices(contract):
+        w = r if contract.ports[r].can_write else w0
+        plans.append(SweepPlan(algorithm, backgrounds, w, r))
+    return plans
+
+
+def sweep_ops(contract: Contract, plan: SweepPlan) -> int:
+    from memcheck.march import expand
+
+    m = contract.memory
+    return expand(plan.algorithm, m.words, m.width, backgrounds=plan.backgrounds).total_ops
+
+
+def sweep_segments(contract: Contract, plan: SweepPlan, chunk: int) -> Iterator[Segment]:
+    """The March stream as cycles, one operation per cycle, back to back, in chunks."""
+    from memcheck.march import OP_WRITE, expand, limbs_to_int
+
+    m = contract.memory
+    stream = expand(plan.algorithm, m.words, m.width, backgrounds=plan.backgrounds,
+                    chunk_ops=chunk)
+    q = quiet(contract)
+    for ch in stream.chunks():
+        cycles: list[Cycle] = []
+        for i in range(len(ch)):
+            cyc = list(q)
+            addr = int(ch.address[i])
+            if ch.op[i] == OP_WRITE:
+                cyc[plan.writer] = PortOp("write", addr, limbs_to_int(ch.data[i]))
+            else:
+                cyc[plan.reader] = PortOp("read", addr)
+            cycles.append(tuple(cyc))
+        yield Segment(tuple(cycles))
+    yield Segment(tuple(q for _ in range(m.read_latency)))
+
+
+def concat(segments: Sequence[Segment]) -> list[Cycle]:
+    return [c for s in segments for c in s.cycles]
