@@ -204,7 +204,8 @@ class ClassRun:
 
     def escape_state(self) -> IntArray:
         """(C, M): the first power-up state that escapes (0 when none does)."""
-        return np.argmin(self.detected, axis=2).astype(np.int64)
+        out: IntArray = np.argmin(self.detected, axis=2).astype(np.int64)
+        return out
 
 
 def _track(t: int, diff: BoolArray, exc: IntArray, mask: IntArray) -> None:

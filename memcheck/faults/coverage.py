@@ -1,0 +1,424 @@
+"""Coverage of a March test over a fault universe, per fault class, with examples of escapes.
+
+``coverage(test, setup, classes=..., universe=...)`` runs the fast engine over every class and
+returns a :class:`CoverageReport`: instances, detected, partial ("detected only from some power-up
+states") and escaped per class, broken down by fault model and (for coupling faults) by where the
+aggressor sits, plus one example instance with its witness for every model and scope that has
+escapes. Coverage counts guaranteed detections only. The verdicts cover the modelled fault models
+only: they are an engineering aid, not sign-off.
+"""
+
+from __future__ import annotations
+
+import math
+import time
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+import numpy.typing as npt
+
+from memcheck.errors import FaultModelError
+from memcheck.faults.engine import (
+    AF_RELATIONS,
+    AF_VARIANTS,
+    CELL_RELATIONS,
+    Plan,
+    combine_bits,
+    run_af_classes,
+    run_cell_classes,
+    simulate,
+    sof_detection,
+)
+from memcheck.faults.instances import (
+    Cell,
+    CellFault,
+    CouplingFault,
+    DecoderFault,
+    FaultInstance,
+    FaultResult,
+    StuckOpenFault,
+    Verdict,
+)
+from memcheck.faults.primitives import FaultModel, models_of
+from memcheck.faults.setup import SimSetup
+from memcheck.faults.universe import (
+    CLASSES,
+    SCOPES,
+    TWO_CELL_CLASSES,
+    Universe,
+    cell_table,
+    find_cells,
+    find_pairs,
+    find_word_pairs,
+    pair_table_all,
+    pair_table_neighbours,
+    parse_classes,
+    parse_universe,
+    sample_class,
+    sof_contexts,
+    word_pair_key,
+    word_pair_table,
+)
+from memcheck.march.library import resolve_test
+from memcheck.march.notation import MarchTest
+
+IntArray = npt.NDArray[np.int64]
+
+DISCLAIMER = ("Verdicts cover the modelled fault models only (single faults, the fault primitives and read "
+              "conventions in docs/faults.md); they are an engineering aid, not sign-off.")
+Z95 = 1.959963984540054
+NO_SCOPE = "-"
+_VERDICTS: tuple[Verdict, ...] = ("detected", "partial", "escaped")
+
+
+def wilson_interval(successes: int, trials: int, z: float = Z95) -> tuple[float, float]:
+    """Wilson score interval for a binomial proportion (E.B. Wilson, "Probable Inference, the Law of
+    Succession, and Statistical Inference", JASA 22, 1927)."""
+    if trials <= 0:
+        return 0.0, 1.0
+    p = successes / trials
+    denom = 1 + z * z / trials
+    centre = (p + z * z / (2 * trials)) / denom
+    half = z * math.sqrt(p * (1 - p) / trials + z * z / (4 * trials * trials)) / denom
+    return max(0.0, centre - half), min(1.0, centre + half)
+
+
+@dataclass(frozen=True)
+class Breakdown:
+    label: str
+    faults: int
+    detected: int
+    partial: int
+
+    @property
+    def escaped(self) -> int:
+        return self.faults - self.detected - self.partial
+
+
+@dataclass(frozen=True)
+class ClassCoverage:
+    cls: str
+    faults: int
+    detected: int
+    partial: int
+    by_model: tuple[Breakdown, ...] = ()
+    by_scope: tuple[Breakdown, ...] = ()
+    ci95: tuple[float, float] | None = None
+
+    @property
+    def escaped(self) -> int:
+        return self.faults - self.detected - self.partial
+
+    @property
+    def coverage(self) -> float:
+        """Guaranteed detections / instances (0 for an empty class)."""
+        return self.detected / self.faults if self.faults else 0.0
+
+
+@dataclass(frozen=True)
+class EscapeGroup:
+    """Escapes of one fault model in one scope, with one example and its witness."""
+
+    cls: str
+    model: str
+    scope: str
+    escaped: int
+    partial: int
+    example: FaultResult | None
+
+
+@dataclass(frozen=True)
+class CoverageReport:
+    test: MarchTest
+    label: str
+    setup: SimSetup
+    backgrounds: tuple[str, ...]
+    universe: Universe
+    classes: tuple[ClassCoverage, ...]
+    escapes: tuple[EscapeGroup, ...]
+    seconds: float = 0.0
+
+    def __getitem__(self, cls: str) -> ClassCoverage:
+        for c in self.classes:
+            if c.cls == cls:
+                return c
+        raise KeyError(cls)
+
+    @property
+    def notation(self) -> str:
+        return self.test.to_unicode()
+
+    def to_json(self) -> dict[str, Any]:
+        """{"test", "words", "width", "universe", "classes": {CLASS: {"faults", "detected", "partial",
+        "coverage", ...}}, ...}."""
+        s = self.setup
+        classes: dict[str, Any] = {}
+        for c in self.classes:
+            entry: dict[str, Any] = {"faults": c.faults, "detected": c.detected, "partial": c.partial,
+                                     "coverage": c.coverage, "escaped": c.escaped}
+            if c.ci95 is not None:
+                entry["ci95"] = list(c.ci95)
+            entry["by_model"] = {b.label: {"faults": b.faults, "detected": b.detected, "partial": b.partial}
+                                 for b in c.by_model}
+            if c.by_scope:
+                entry["by_scope"] = {b.label: {"faults": b.faults, "detected": b.detected, "partial": b.partial}
+                                     for b in c.by_scope}
+            classes[c.cls] = entry
+        escapes = []
+        for g in self.escapes:
+            item: dict[str, Any] = {"class": g.cls, "model": g.model, "scope": g.scope, "escaped": g.escaped,
+                                    "partial": g.partial}
+            if g.example is not None:
+                item["example"] = g.example.fault.describe()
+                item["verdict"] = g.example.verdict
+                if g.example.witness is not None:
+                    item["witness"] = g.example.witness.describe(self.test)
+            escapes.append(item)
+        return {
+            "test": self.label, "words": s.words, "width": s.width, "universe": self.universe.label,
+            "classes": classes, "notation": self.notation,
+            "layout": None if s.layout is None else f"{s.layout[0]}x{s.layout[1]}", "order": s.order,
+            "backgrounds": list(self.backgrounds), "seed": self.universe.seed, "escapes": escapes,
+            "note": DISCLAIMER,
+        }
+
+
+# ---------------------------------------------------------------------------------------------------
+# Tallies
+# ---------------------------------------------------------------------------------------------------
+
+@dataclass
+class _Tally:
+    """Counts per (class, model, scope) and one way to find an example per group and verdict."""
+
+    counts: dict[tuple[str, str, str], list[int]] = field(default_factory=dict)
+    locators: dict[tuple[str, str, str], tuple[Verdict, tuple[Any, ...]]] = field(default_factory=dict)
+    results: dict[tuple[str, str, str], FaultResult] = field(default_factory=dict)
+
+    def add(self, group: tuple[str, str, str], verdict: int, count: int,
+            locator: tuple[Any, ...] | None = None) -> None:
+        if count <= 0:
+            return
+        self.counts.setdefault(group, [0, 0, 0])[verdict] += count
+        if locator is not None and verdict > 0:
+            have = self.locators.get(group)
+            if have is None or (have[0] == "partial" and verdict == 2):
+                self.locators[group] = (_VERDICTS[verdict], locator)
+
+
+def _tally_table(tally: _Tally, cls_of: list[str], names: list[str], scope: IntArray | None, verdicts: npt.NDArray[Any],
+                 counts: IntArray, locate: Any) -> None:
+    """Add (rows x models) verdicts with per-row counts; ``locate(row, model)`` gives a locator."""
+    nrows, nm = verdicts.shape
+    sc = np.zeros(nrows, np.int64) if scope is None else scope
+    for m in range(nm):
+        for s in np.unique(sc).tolist():
+            in_scope = sc == s
+            label = NO_SCOPE if scope is None else SCOPES[s]
+            for v in (0, 1, 2):
+                sel = in_scope & (verdicts[:, m] == v)
+                if not sel.any():
+                    continue
+                first = int(np.flatnonzero(sel)[0])
+                tally.add((cls_of[m], names[m], label), v, int(counts[sel].sum()), locate(first, m) if v else None)
+
+
+def _single_cell(plan: Plan, classes: Sequence[str], tally: _Tally) -> None:
+    models = [m for c in classes for m in models_of(c)]
+    if not models:
+        return
+    ct = cell_table(plan.rs)
+    run = run_cell_classes(plan, "single", np.zeros_like(ct.code), ct.code, models)
+    _tally_table(tally, [m.cls for m in models], [m.name for m in models], None, run.verdicts(), ct.count,
+                 lambda r, m: ("cell", models[m], int(ct.code[r])))
+
+
+def _two_cell(plan: Plan, classes: Sequence[str], kind: str, tally: _Tally) -> None:
+    models = [m for c in classes for m in models_of(c)]
+    if not models or plan.setup.cells < 2:
+        return
+    pt = pair_table_all(plan.rs) if kind == "all" else pair_table_neighbours(plan.rs)
+    ncode = 1 << plan.rs.nbg
+    for ri in (1, 2, 3):
+        sel = np.flatnonzero(pt.relation == ri)
+        if sel.size == 0:
+            continue
+        keys, inv = np.unique(np.stack([pt.code_a[sel], pt.code_v[sel]], axis=1), axis=0, return_inverse=True)
+        run = run_cell_classes(plan, CELL_RELATIONS[ri], keys[:, 0], keys[:, 1], models)
+        verdicts = run.verdicts()[inv.reshape(-1)]
+        scope, ca, cv = pt.scope[sel], pt.code_a[sel], pt.code_v[sel]
+
+        def locate(r: int, m: int, scope: IntArray = scope, ca: IntArray = ca, cv: IntArray = cv,
+                   ri: int = ri) -> tuple[Any, ...]:
+            key = ((ri * 3 + int(scope[r])) * ncode + int(ca[r])) * ncode + int(cv[r])
+            return ("pair", models[m], key)
+
+        _tally_table(tally, [m.cls for m in models], [m.name for m in models], scope, verdicts,
+                     pt.count[sel], locate)
+
+
+def _stuck_open(plan: Plan, tally: _Tally) -> None:
+    width = plan.setup.width
+    reps, counts = sof_contexts(plan.rs)
+    words = np.repeat(reps, width)
+    bits = np.tile(np.arange(width, dtype=np.int64), reps.size)
+    d0, d1 = sof_detection(plan, words, bits)
+    verdict = np.where(d0 & d1, 0, np.where(d0 | d1, 1, 2))
+    weight = np.repeat(counts, width)
+    for v in (0, 1, 2):
+        sel = np.flatnonzero(verdict == v)
+        if sel.size:
+            first = int(sel[np.argmin(words[sel] * width + bits[sel])])
+            tally.add(("SOF", "SOF", NO_SCOPE), v, int(weight[sel].sum()),
+                      ("sof", int(words[first]), int(bits[first])) if v else None)
+
+
+def af_label(kind: str, wired: str | None) -> str:
+    return kind + (f" ({wired})" if wired else "")
+
+
+def _decoder(plan: Plan, kind: str, tally: _Tally) -> None:
+    rs = plan.rs
+    codes = rs.class_codes()
+    nwc, width = codes.shape
+    per_class = np.bincount(rs.wclass, minlength=nwc)
+    wt = word_pair_table(rs, kind)
+    groups = [
+        (0, list(AF_VARIANTS[:1]), np.flatnonzero(per_class).astype(np.int64), None, per_class[per_class > 0]),
+    ]
+    for ri in (1, 2):
+        sel = wt.relation == ri
+        if sel.any():
+            groups.append((ri, list(AF_VARIANTS[1:]), wt.class_x[sel], wt.class_y[sel], wt.count[sel]))
+    for ri, variants, cx, cy, counts in groups:
+        cy_ = cx if cy is None else cy
+        pairs = np.stack([codes[cx].reshape(-1), codes[cy_].reshape(-1)], axis=1)
+        keys, inv = np.unique(pairs, axis=0, return_inverse=True)
+        inv = inv.reshape(len(cx), width)
+        run = run_af_classes(plan, AF_RELATIONS[ri], keys[:, 0], keys[:, 1], variants)
+        states = np.array([0, 1, 4, 5]) if ri == 0 else np.arange(8)
+        verdicts = np.zeros((len(cx), len(variants)), np.int8)
+        for r in range(len(cx)):
+            for m in range(len(variants)):
+                verdicts[r, m] = combine_bits(run.detected[inv[r], m][:, states])[0]
+        names = [af_label(k, w) for k, w in variants]
+
+        def locate(r: int, m: int, ri: int = ri, cx: IntArray = cx, cy: IntArray | None = cy,
+                   variants: Sequence[tuple[str, str | None]] = variants) -> tuple[Any, ...]:
+            if cy is None:
+                return ("word", variants[m], int(cx[r]))
+            return ("wordpair", variants[m], word_pair_key(rs, ri, int(cx[r]), int(cy[r])))
+
+        _tally_table(tally, ["AF"] * len(variants), names, None, verdicts, counts, locate)
+
+
+def _resolve_examples(plan: Plan, kind: str, tally: _Tally) -> dict[tuple[str, str, str], FaultResult]:
+    """Turn locators into instances (one batch search per kind) and simulate them for witnesses."""
+    rs = plan.rs
+    loc = {g: lc for g, (_, lc) in tally.locators.items()}
+    cells = find_cells(rs, [loc_[2] for loc_ in loc.values() if loc_[0] == "cell"])
+    pairs = find_pairs(rs, kind, [loc_[2] for loc_ in loc.values() if loc_[0] == "pair"])
+    wpairs = find_word_pairs(rs, kind, [loc_[2] for loc_ in loc.values() if loc_[0] == "wordpair"])
+    instances: dict[tuple[str, str, str], FaultInstance] = {}
+    for g, loc_ in loc.items():
+        if loc_[0] == "cell" and loc_[2] in cells:
+            instances[g] = CellFault(loc_[1], cells[loc_[2]])
+        elif loc_[0] == "pair" and loc_[2] in pairs:
+            a, v = pairs[loc_[2]]
+            instances[g] = CouplingFault(loc_[1], a, v)
+        elif loc_[0] == "sof":
+            instances[g] = StuckOpenFault(Cell(loc_[1], loc_[2]))
+        elif loc_[0] == "word":
+            instances[g] = DecoderFault(loc_[1][0], int(np.flatnonzero(rs.wclass == loc_[2])[0]), None, loc_[1][1])
+        elif loc_[0] == "wordpair" and loc_[2] in wpairs:
+            x, y = wpairs[loc_[2]]
+            instances[g] = DecoderFault(loc_[1][0], x, y, loc_[1][1])
+    keys = list(instances)
+    results = simulate(plan.test, [instances[k] for k in keys], plan.setup, plan)
+    return dict(zip(keys, results, strict=True))
+
+
+def _group_of(r: FaultResult) -> tuple[str, str, str]:
+    f = r.fault
+    if isinstance(f, DecoderFault):
+        return "AF", af_label(f.kind, f.wired), NO_SCOPE
+    if isinstance(f, CouplingFault):
+        return f.cls, f.name, f.scope
+    return f.cls, f.name, NO_SCOPE
+
+
+def _model_order(cls: str) -> list[str]:
+    if cls == "AF":
+        return [af_label(k, w) for k, w in AF_VARIANTS]
+    if cls == "SOF":
+        return ["SOF"]
+    return [m.name for m in models_of(cls)]
+
+
+def coverage(test: MarchTest | str, setup: SimSetup, *, classes: str | Sequence[str] | None = None,
+             universe: str | Universe = "all", seed: int | None = None) -> CoverageReport:
+    """Coverage of ``test`` (a MarchTest, library name or notation) on the memory ``setup`` describes."""
+    t0 = time.perf_counter()
+    t = resolve_test(test) if isinstance(test, str) else test
+    label = t.name or (test if isinstance(test, str) else t.to_unicode())
+    cls_list = parse_classes(classes if classes is None or isinstance(classes, str) else tuple(classes))
+    uni = parse_universe(universe, seed)
+    plan = Plan.build(t, setup)
+    tally = _Tally()
+    if uni.kind == "sample":
+        assert uni.size is not None
+        for cls in cls_list:
+            inst = sample_class(cls, setup, uni.size, uni.seed)
+            for r in simulate(t, inst, setup, plan):
+                g = _group_of(r)
+                v = _VERDICTS.index(r.verdict)
+                tally.add(g, v, 1)
+                if v and (g not in tally.results or (tally.results[g].verdict == "partial" and v == 2)):
+                    tally.results[g] = r
+        examples = tally.results
+    else:
+        if uni.kind == "neighbours" and setup.layout is None:
+            raise FaultModelError("the neighbours universe needs the physical layout: give --layout ROWSxCOLS "
+                                  "(rows x column-mux words, rows*cols = words)")
+        _single_cell(plan, [c for c in cls_list if models_of(c) and not models_of(c)[0].two_cell], tally)
+        _two_cell(plan, [c for c in cls_list if c in TWO_CELL_CLASSES], uni.kind, tally)
+        if "SOF" in cls_list:
+            _stuck_open(plan, tally)
+        if "AF" in cls_list and setup.words >= 1:
+            _decoder(plan, uni.kind, tally)
+        examples = _resolve_examples(plan, uni.kind, tally)
+    class_rows: list[ClassCoverage] = []
+    escape_rows: list[EscapeGroup] = []
+    for cls in cls_list:
+        groups = {g: c for g, c in tally.counts.items() if g[0] == cls}
+        total = [sum(c[i] for c in groups.values()) for i in range(3)]
+        faults = sum(total)
+        by_model = []
+        for name in _model_order(cls):
+            cs = [c for g, c in groups.items() if g[1] == name]
+            if cs:
+                by_model.append(Breakdown(name, sum(map(sum, cs)), sum(c[0] for c in cs), sum(c[1] for c in cs)))
+            for scope in (*SCOPES, NO_SCOPE):
+                c = groups.get((cls, name, scope))
+                if c is not None and (c[1] or c[2]):
+                    escape_rows.append(EscapeGroup(cls, name, scope, c[2], c[1], examples.get((cls, name, scope))))
+        by_scope = []
+        if cls in TWO_CELL_CLASSES:
+            for scope in SCOPES:
+                cs = [c for g, c in groups.items() if g[2] == scope]
+                if cs:
+                    by_scope.append(Breakdown(scope, sum(map(sum, cs)), sum(c[0] for c in cs),
+                                              sum(c[1] for c in cs)))
+        ci = wilson_interval(total[0], faults) if uni.kind == "sample" else None
+        class_rows.append(ClassCoverage(cls, faults, total[0], total[1], tuple(by_model), tuple(by_scope), ci))
+    return CoverageReport(t, label, setup, tuple(bg.name for bg in plan.rs.backgrounds), uni, tuple(class_rows),
+                          tuple(escape_rows), time.perf_counter() - t0)
+
+
+def fault_models(cls: str) -> tuple[FaultModel, ...]:
+    """The FP-based models of one class (empty for SOF and AF)."""
+    if cls not in CLASSES:
+        raise FaultModelError(f"unknown fault class {cls!r}; choose from {', '.join(CLASSES)}")
+    return models_of(cls)

@@ -1,0 +1,513 @@
+"""Fault universes: which fault instances a coverage figure is over.
+
+``all``         every cell for single-cell faults, every ordered pair of distinct cells for two-cell
+                faults, every address (pair) for decoder faults;
+``neighbours``  single-cell faults on every cell; two-cell faults between each cell and its eight
+                physical neighbours (layout needed); decoder faults between each word and the four
+                words next to it in the rows x columns word grid (adjacent word lines or mux
+                selects);
+``sample:K``    K instances per fault class drawn without replacement, uniformly from the ``all``
+                universe, with a seeded generator; coverage then carries a Wilson 95% interval.
+
+For ``all`` and ``neighbours`` nothing is enumerated one instance at a time: the fast engine only needs
+how many instances share a relation and cell signatures (see :mod:`memcheck.faults.engine`), and those
+multiplicities are counted here with numpy (pair counts by address and ⇑ position use an inversion
+count, O(words log words)).
+
+Physical cell positions follow :mod:`memcheck.march.backgrounds`: word ``w`` sits at row
+``w // cols`` and mux column ``w % cols``; its bit ``b`` at physical column ``b * cols + w % cols``.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterator
+from dataclasses import dataclass
+from typing import Literal
+
+import numpy as np
+import numpy.typing as npt
+
+from memcheck.errors import FaultModelError
+from memcheck.faults.engine import AF_VARIANTS, af_relation, cell_relation
+from memcheck.faults.instances import (
+    Cell,
+    CellFault,
+    CouplingFault,
+    DecoderFault,
+    FaultInstance,
+    StuckOpenFault,
+)
+from memcheck.faults.primitives import models_of
+from memcheck.faults.setup import Resolved, SimSetup
+
+IntArray = npt.NDArray[np.int64]
+
+CLASSES: tuple[str, ...] = ("SAF", "TF", "WDF", "RDF", "DRDF", "IRF", "SOF", "DRF", "CFst", "CFds", "CFtr",
+                            "CFwd", "CFrd", "CFdrd", "CFir", "CFin", "CFid", "AF")
+SINGLE_CLASSES: tuple[str, ...] = ("SAF", "TF", "WDF", "RDF", "DRDF", "IRF", "DRF")
+TWO_CELL_CLASSES: tuple[str, ...] = ("CFst", "CFds", "CFtr", "CFwd", "CFrd", "CFdrd", "CFir", "CFin", "CFid")
+SCOPES: tuple[str, ...] = ("intra-word", "aggressor below", "aggressor above")
+
+DEFAULT_SEED = 1
+CELL_OFFSETS = ((-1, -1), (-1, 0), (-1, 1), (0, -1), (0, 1), (1, -1), (1, 0), (1, 1))
+WORD_OFFSETS = ((-1, 0), (1, 0), (0, -1), (0, 1))
+
+
+@dataclass(frozen=True)
+class Universe:
+    kind: Literal["all", "neighbours", "sample"]
+    size: int | None = None
+    seed: int = DEFAULT_SEED
+
+    @property
+    def label(self) -> str:
+        return f"sample:{self.size}" if self.kind == "sample" else self.kind
+
+
+def parse_universe(text: str | Universe, seed: int | None = None) -> Universe:
+    """``all``, ``neighbours`` (or ``neighbors``) or ``sample:K``."""
+    if isinstance(text, Universe):
+        return text
+    t = text.strip().lower()
+    s = DEFAULT_SEED if seed is None else seed
+    if t == "all":
+        return Universe("all", seed=s)
+    if t in ("neighbours", "neighbors"):
+        return Universe("neighbours", seed=s)
+    if t.startswith("sample:") and t[7:].isdigit() and int(t[7:]) > 0:
+        return Universe("sample", int(t[7:]), s)
+    raise FaultModelError(f"unknown fault universe {text!r}: use all, neighbours or sample:K (K a positive count)")
+
+
+def parse_classes(spec: str | tuple[str, ...] | list[str] | None) -> tuple[str, ...]:
+    """Fault class abbreviations (comma-separated or a sequence), in the canonical order."""
+    if spec is None:
+        return CLASSES
+    names = [s.strip() for s in (spec.split(",") if isinstance(spec, str) else spec) if s.strip()]
+    lookup = {c.lower(): c for c in CLASSES}
+    out = []
+    for n in names:
+        if n.lower() == "all":
+            return CLASSES
+        if n.lower() not in lookup:
+            raise FaultModelError(f"unknown fault class {n!r}; choose from {', '.join(CLASSES)}")
+        out.append(lookup[n.lower()])
+    if not out:
+        raise FaultModelError("no fault class given")
+    return tuple(c for c in CLASSES if c in out)
+
+
+def require_layout(setup: SimSetup) -> tuple[int, int]:
+    if setup.layout is None:
+        raise FaultModelError("the neighbours universe needs the physical layout: give --layout ROWSxCOLS "
+                              "(rows x column-mux words, rows*cols = words)")
+    return setup.layout
+
+
+# ---------------------------------------------------------------------------------------------------
+# Counting helpers
+# ---------------------------------------------------------------------------------------------------
+
+def count_keys(keys: IntArray) -> tuple[IntArray, IntArray]:
+    """Distinct keys and how often each occurs."""
+    if keys.size and int(keys.max()) < (1 << 22) and int(keys.min()) >= 0:
+        c = np.bincount(keys)
+        nz = np.flatnonzero(c)
+        return nz.astype(np.int64), c[nz].astype(np.int64)
+    u, c = np.unique(keys, return_counts=True)
+    return u.astype(np.int64), c.astype(np.int64)
+
+
+def _onehot_cumsum(cls: IntArray, mask: npt.NDArray[np.bool_], ncls: int) -> IntArray:
+    """Exclusive running count, per class, of the entries where ``mask`` holds."""
+    h = np.zeros((len(cls), ncls), np.int64)
+    h[np.arange(len(cls)), cls] = mask
+    c = np.cumsum(h, axis=0)
+    return c - h
+
+
+def inversions_by_class(seq: IntArray, cls_of: IntArray, ncls: int) -> IntArray:
+    """``I[c_lo, c_hi]``: pairs of positions p < q with ``seq[p] > seq[q]``, where ``c_lo`` is the class
+    of the smaller value ``seq[q]`` and ``c_hi`` of ``seq[p]``. One pass per address bit: a pair is
+    counted at the highest bit where the two values differ."""
+    out = np.zeros((ncls, ncls), np.int64)
+    n = len(seq)
+    if n < 2 or bool(np.all(np.diff(seq) > 0)):
+        return out
+    nbits = int(seq.max()).bit_length()
+    for level in range(nbits):
+        key = seq >> (level + 1)
+        idx = np.argsort(key, kind="stable")
+        ks = key[idx]
+        bit = (seq[idx] >> level) & 1
+        cs = cls_of[seq[idx]]
+        cum = _onehot_cumsum(cs, bit == 1, ncls)
+        start = np.r_[0, np.flatnonzero(np.diff(ks)) + 1]
+        group_start = np.repeat(start, np.diff(np.r_[start, n]))
+        before = cum - cum[group_start]
+        zero = bit == 0
+        for c in range(ncls):
+            sel = zero & (cs == c)
+            if sel.any():
+                out[c] += before[sel].sum(axis=0)
+    return out
+
+
+def word_pair_counts(rs: Resolved) -> IntArray:
+    """``N[posrel, addrrel, c1, c2]``: ordered word pairs (a, b), a != b, with classes c1, c2;
+    posrel 0 when a comes first in the ⇑ order, addrrel 0 when a < b."""
+    n = rs.setup.words
+    nwc = rs.wpar.shape[0]
+    wc = rs.wclass
+    # T[c1, c2] = #{a < b}
+    cum = _onehot_cumsum(wc, np.ones(n, bool), nwc)
+    t_lt = np.zeros((nwc, nwc), np.int64)
+    for c2 in range(nwc):
+        t_lt[:, c2] = cum[wc == c2].sum(axis=0)
+    inv = inversions_by_class(rs.up, wc, nwc)  # [c_lo, c_hi]: lo address visited later
+    out = np.zeros((2, 2, nwc, nwc), np.int64)
+    out[0, 0] = t_lt - inv          # a below b, a first
+    out[1, 0] = inv                 # a below b, b first
+    out[0, 1] = inv.T               # a above b, a first
+    out[1, 1] = t_lt.T - inv.T      # a above b, b first
+    return out
+
+
+# ---------------------------------------------------------------------------------------------------
+# Multiplicity tables
+# ---------------------------------------------------------------------------------------------------
+
+@dataclass(frozen=True, eq=False)
+class CellTable:
+    """Distinct signature codes of single cells and how many cells have each."""
+
+    code: IntArray
+    count: IntArray
+
+
+@dataclass(frozen=True, eq=False)
+class PairTable:
+    """Distinct (relation, scope, aggressor code, victim code) rows of cell pairs with counts;
+    ``relation`` indexes engine.CELL_RELATIONS, ``scope`` indexes SCOPES."""
+
+    relation: IntArray
+    scope: IntArray
+    code_a: IntArray
+    code_v: IntArray
+    count: IntArray
+
+
+@dataclass(frozen=True, eq=False)
+class WordPairTable:
+    """Decoder-fault rows: (relation index into engine.AF_RELATIONS, class of x, class of y, count)."""
+
+    relation: IntArray
+    class_x: IntArray
+    class_y: IntArray
+    count: IntArray
+
+
+def cell_table(rs: Resolved) -> CellTable:
+    codes = rs.class_codes()  # (nwc, width)
+    per_class = np.bincount(rs.wclass, minlength=codes.shape[0])
+    u, c = _merge([codes.reshape(-1)], [np.repeat(per_class, codes.shape[1])])
+    return CellTable(u, c)
+
+
+def _pack(rel: IntArray, scope: IntArray, ca: IntArray, cv: IntArray, ncode: int) -> IntArray:
+    return ((rel * 3 + scope) * ncode + ca) * ncode + cv
+
+
+def _unpack(keys: IntArray, counts: IntArray, ncode: int) -> PairTable:
+    cv = keys % ncode
+    ca = (keys // ncode) % ncode
+    rs_ = keys // (ncode * ncode)
+    return PairTable(rs_ // 3, rs_ % 3, ca, cv, counts)
+
+
+def _merge(keys: list[IntArray], counts: list[IntArray]) -> tuple[IntArray, IntArray]:
+    if not keys:
+        z = np.zeros(0, np.int64)
+        return z, z
+    k = np.concatenate(keys)
+    c = np.concatenate(counts)
+    u, inv = np.unique(k, return_inverse=True)
+    return u, np.bincount(inv.reshape(-1), weights=c.astype(float)).round().astype(np.int64)
+
+
+def pair_table_all(rs: Resolved) -> PairTable:
+    """Every ordered pair of distinct cells."""
+    codes = rs.class_codes()
+    nwc, width = codes.shape
+    ncode = 1 << rs.nbg
+    n_words = np.bincount(rs.wclass, minlength=nwc)
+    keys: list[IntArray] = []
+    counts: list[IntArray] = []
+    ba, bv = np.meshgrid(np.arange(width), np.arange(width), indexing="ij")
+    off = ba != bv
+    for c in range(nwc):  # intra-word
+        if n_words[c] and width > 1:
+            k = _pack(np.ones(off.sum(), np.int64), np.zeros(off.sum(), np.int64), codes[c, ba[off]],
+                      codes[c, bv[off]], ncode)
+            u, cnt = count_keys(k)
+            keys.append(u)
+            counts.append(cnt * n_words[c])
+    n = word_pair_counts(rs)
+    for posrel in (0, 1):
+        for addrrel in (0, 1):
+            for c1 in range(nwc):
+                for c2 in range(nwc):
+                    mult = int(n[posrel, addrrel, c1, c2])
+                    if mult == 0:
+                        continue
+                    ca = np.repeat(codes[c1], width)
+                    cv = np.tile(codes[c2], width)
+                    k = _pack(np.full(ca.size, 2 + posrel), np.full(ca.size, 1 + addrrel), ca, cv, ncode)
+                    u, cnt = count_keys(k)
+                    keys.append(u)
+                    counts.append(cnt * mult)
+    uk, uc = _merge(keys, counts)
+    return _unpack(uk, uc, ncode)
+
+
+def neighbour_pairs(setup: SimSetup) -> Iterator[tuple[IntArray, IntArray, IntArray, IntArray]]:
+    """(aggressor word, aggressor bit, victim word, victim bit) arrays, one batch per neighbour offset,
+    victims in physical row-major order."""
+    rows, cols = require_layout(setup)
+    pcols = setup.width * cols
+    for dr, dc in CELL_OFFSETS:
+        r = np.arange(max(0, -dr), rows - max(0, dr), dtype=np.int64)
+        pc = np.arange(max(0, -dc), pcols - max(0, dc), dtype=np.int64)
+        if r.size == 0 or pc.size == 0:
+            continue
+        rv = np.repeat(r, pc.size)
+        pv = np.tile(pc, r.size)
+        ra, pa = rv + dr, pv + dc
+        yield ra * cols + pa % cols, pa // cols, rv * cols + pv % cols, pv // cols
+
+
+def _pair_keys(rs: Resolved, wa: IntArray, ba: IntArray, wv: IntArray, bv: IntArray) -> IntArray:
+    rel = cell_relation(rs.pos, wa, wv)
+    scope = np.where(wa == wv, 0, np.where(wa < wv, 1, 2))
+    return _pack(rel, scope, rs.cell_code(wa, ba), rs.cell_code(wv, bv), 1 << rs.nbg)
+
+
+def pair_table_neighbours(rs: Resolved) -> PairTable:
+    keys: list[IntArray] = []
+    counts: list[IntArray] = []
+    for wa, ba, wv, bv in neighbour_pairs(rs.setup):
+        u, c = np.unique(_pair_keys(rs, wa, ba, wv, bv), return_counts=True)
+        keys.append(u)
+        counts.append(c)
+    u, c = _merge(keys, counts)
+    return _unpack(u, c, 1 << rs.nbg)
+
+
+def word_neighbours(setup: SimSetup) -> Iterator[tuple[IntArray, IntArray]]:
+    rows, cols = require_layout(setup)
+    for dr, dc in WORD_OFFSETS:
+        r = np.arange(max(0, -dr), rows - max(0, dr), dtype=np.int64)
+        c = np.arange(max(0, -dc), cols - max(0, dc), dtype=np.int64)
+        if r.size == 0 or c.size == 0:
+            continue
+        rx = np.repeat(r, c.size)
+        cx = np.tile(c, r.size)
+        yield rx * cols + cx, (rx + dr) * cols + cx + dc
+
+
+def word_pair_table(rs: Resolved, kind: str) -> WordPairTable:
+    """Ordered word pairs (x, y) for decoder faults: all distinct pairs or grid neighbours."""
+    nwc = rs.wpar.shape[0]
+    if kind == "all":
+        n = word_pair_counts(rs).sum(axis=1)  # [posrel, c1, c2]
+        rel, c1, c2 = np.nonzero(n)
+        return WordPairTable(rel + 1, c1, c2, n[rel, c1, c2])
+    keys: list[IntArray] = []
+    counts: list[IntArray] = []
+    for x, y in word_neighbours(rs.setup):
+        k = (af_relation(rs.pos, x, y) * nwc + rs.wclass[x]) * nwc + rs.wclass[y]
+        u, c = np.unique(k, return_counts=True)
+        keys.append(u)
+        counts.append(c)
+    u, c = _merge(keys, counts)
+    return WordPairTable(u // (nwc * nwc), (u // nwc) % nwc, u % nwc, c)
+
+
+# ---------------------------------------------------------------------------------------------------
+# Finding an instance for a table row (examples of escapes)
+# ---------------------------------------------------------------------------------------------------
+
+def find_cells(rs: Resolved, codes_wanted: list[int]) -> dict[int, Cell]:
+    """For each signature code, the first cell (by word, then bit) that has it."""
+    codes = rs.class_codes()
+    first_word = {int(c): int(np.flatnonzero(rs.wclass == c)[0]) for c in np.unique(rs.wclass)}
+    out: dict[int, Cell] = {}
+    for code in codes_wanted:
+        cands = [(first_word[c], int(np.flatnonzero(codes[c] == code)[0])) for c in first_word
+                 if (codes[c] == code).any()]
+        if cands:
+            out[code] = Cell(*min(cands))
+    return out
+
+
+def find_pairs(rs: Resolved, kind: str, keys: list[int], budget: int = 1 << 26) -> dict[int, tuple[Cell, Cell]]:
+    """For each packed pair key, the first (by victim, then aggressor, in address order) instance."""
+    width = rs.setup.width
+    wanted = np.array(sorted(set(keys)), np.int64)
+    best: dict[int, tuple[int, int]] = {}
+    if kind == "neighbours":
+        for wa, ba, wv, bv in neighbour_pairs(rs.setup):
+            k = _pair_keys(rs, wa, ba, wv, bv)
+            vic, agg = wv * width + bv, wa * width + ba
+            hit = np.flatnonzero(np.isin(k, wanted))
+            if not hit.size:
+                continue
+            order = hit[np.lexsort((agg[hit], vic[hit]))]
+            uk, first = np.unique(k[order], return_index=True)
+            for key, i in zip(uk.tolist(), order[first].tolist(), strict=True):
+                cand = (int(vic[i]), int(agg[i]))
+                if key not in best or cand < best[key]:
+                    best[key] = cand
+    else:
+        n = rs.setup.cells
+        cells = np.arange(n, dtype=np.int64)
+        wa, ba = cells // width, cells % width
+        for victim in range(min(n, max(1, budget // max(n, 1)))):
+            k = _pair_keys(rs, wa, ba, np.full(n, victim // width), np.full(n, victim % width))
+            k[victim] = -1
+            hit = np.flatnonzero(np.isin(k, wanted))
+            uk, first = np.unique(k[hit], return_index=True)
+            for key, i in zip(uk.tolist(), hit[first].tolist(), strict=True):
+                best.setdefault(key, (victim, i))
+            if len(best) == len(wanted):
+                break
+    return {k: (Cell(*divmod(a, width)), Cell(*divmod(v, width))) for k, (v, a) in best.items()}
+
+
+def word_pair_key(rs: Resolved, relation: int, cx: int, cy: int) -> int:
+    nwc = int(rs.wpar.shape[0])
+    return (relation * nwc + cx) * nwc + cy
+
+
+def find_word_pairs(rs: Resolved, kind: str, keys: list[int], budget: int = 1 << 26) -> dict[int, tuple[int, int]]:
+    """For each word-pair key (:func:`word_pair_key`), the first (x, then y) pair that has it."""
+    nwc = rs.wpar.shape[0]
+    wanted = np.array(sorted(set(keys)), np.int64)
+    best: dict[int, tuple[int, int]] = {}
+
+    def keys_of(x: IntArray, y: IntArray) -> IntArray:
+        out: IntArray = (af_relation(rs.pos, x, y) * nwc + rs.wclass[x]) * nwc + rs.wclass[y]
+        return out
+
+    if kind == "neighbours":
+        for x, y in word_neighbours(rs.setup):
+            k = keys_of(x, y)
+            hit = np.flatnonzero(np.isin(k, wanted))
+            if not hit.size:
+                continue
+            order = hit[np.lexsort((y[hit], x[hit]))]
+            uk, first = np.unique(k[order], return_index=True)
+            for key, i in zip(uk.tolist(), order[first].tolist(), strict=True):
+                cand = (int(x[i]), int(y[i]))
+                if key not in best or cand < best[key]:
+                    best[key] = cand
+        return best
+    n = rs.setup.words
+    ys = np.arange(n, dtype=np.int64)
+    for xw in range(min(n, max(1, budget // n))):
+        kx = keys_of(np.full(n, xw), ys)
+        kx[xw] = -1
+        hit = np.flatnonzero(np.isin(kx, wanted))
+        uk, first = np.unique(kx[hit], return_index=True)
+        for key, i in zip(uk.tolist(), hit[first].tolist(), strict=True):
+            best.setdefault(int(key), (xw, int(i)))
+        if len(best) == len(wanted):
+            break
+    return best
+
+
+def sof_contexts(rs: Resolved) -> tuple[IntArray, IntArray]:
+    """Words that stand for every stuck-open context, and how many words each stands for.
+
+    A stuck-open cell's verdict depends on its word's class, the classes of the words just before
+    and after it in the ⇑ order, and, for the two words at each end of the order, on which word it is.
+    """
+    n = rs.setup.words
+    nwc = rs.wpar.shape[0]
+    p = rs.pos
+    prev = np.where(p > 0, rs.wclass[rs.up[np.maximum(p - 1, 0)]], nwc)
+    nxt = np.where(p < n - 1, rs.wclass[rs.up[np.minimum(p + 1, n - 1)]], nwc)
+    special = np.where((p < 2) | (p > n - 3), p, -1) + 1
+    key = ((special * (nwc + 1) + prev) * (nwc + 1) + nxt) * nwc + rs.wclass
+    _, first, counts = np.unique(key, return_index=True, return_counts=True)
+    return first.astype(np.int64), counts.astype(np.int64)
+
+
+# ---------------------------------------------------------------------------------------------------
+# Explicit instances (samples, and the whole universe of a small memory for tests)
+# ---------------------------------------------------------------------------------------------------
+
+def class_size(cls: str, setup: SimSetup) -> int:
+    """Instances of ``cls`` in the ``all`` universe."""
+    n, w = setup.cells, setup.words
+    if cls == "SOF":
+        return n
+    if cls == "AF":
+        return w + 5 * w * (w - 1)
+    models = models_of(cls)
+    return len(models) * (n * (n - 1) if models[0].two_cell else n)
+
+
+def instance_at(cls: str, setup: SimSetup, i: int) -> FaultInstance:
+    """Instance number ``i`` of ``cls`` in the ``all`` universe (a fixed enumeration)."""
+    n, width, words = setup.cells, setup.width, setup.words
+    if cls == "SOF":
+        return StuckOpenFault(Cell(*divmod(i, width)))
+    if cls == "AF":
+        if i < words:
+            return DecoderFault("no-cell", i)
+        i -= words
+        variant, j = divmod(i, words * (words - 1))
+        kind, wired = AF_VARIANTS[1 + variant]
+        x, r = divmod(j, words - 1)
+        return DecoderFault(kind, x, r + (r >= x), wired)
+    models = models_of(cls)
+    if not models[0].two_cell:
+        m, c = divmod(i, n)
+        return CellFault(models[m], Cell(*divmod(c, width)))
+    m, j = divmod(i, n * (n - 1))
+    a, r = divmod(j, n - 1)
+    v = r + (r >= a)
+    return CouplingFault(models[m], Cell(*divmod(a, width)), Cell(*divmod(v, width)))
+
+
+def enumerate_class(cls: str, setup: SimSetup, kind: str = "all") -> list[FaultInstance]:
+    """Every instance of ``cls`` in the ``all`` or ``neighbours`` universe (small memories only)."""
+    if kind == "all":
+        return [instance_at(cls, setup, i) for i in range(class_size(cls, setup))]
+    width = setup.width
+    cells = [Cell(w, b) for w in range(setup.words) for b in range(width)]
+    if cls == "SOF":
+        return [StuckOpenFault(c) for c in cells]
+    if cls == "AF":
+        out: list[FaultInstance] = [DecoderFault("no-cell", w) for w in range(setup.words)]
+        for kind_, wired in AF_VARIANTS[1:]:
+            for x, y in word_neighbours(setup):
+                out += [DecoderFault(kind_, int(a), int(b), wired) for a, b in zip(x, y, strict=True)]
+        return out
+    models = models_of(cls)
+    if not models[0].two_cell:
+        return [CellFault(m, c) for m in models for c in cells]
+    pairs = [(Cell(int(a), int(b)), Cell(int(c), int(d)))
+             for wa, ba, wv, bv in neighbour_pairs(setup) for a, b, c, d in zip(wa, ba, wv, bv, strict=True)]
+    return [CouplingFault(m, a, v) for m in models for a, v in pairs]
+
+
+def sample_class(cls: str, setup: SimSetup, size: int, seed: int) -> list[FaultInstance]:
+    """``size`` distinct instances of ``cls`` drawn uniformly (all of them when there are fewer)."""
+    total = class_size(cls, setup)
+    if total == 0:
+        return []
+    rng = np.random.default_rng([seed, CLASSES.index(cls)])
+    picks = np.arange(total) if size >= total else np.sort(rng.choice(total, size=size, replace=False))
+    return [instance_at(cls, setup, int(i)) for i in picks]
