@@ -253,7 +253,8 @@ class Witness:
         state = ", ".join(f"{k}={v:#x}" if v > 1 else f"{k}={v}" for k, v in self.power_up)
         where: str
         if self.excited is None:
-            where = "the test never makes the faulty memory differ from a good one, and no read returns a wrong value"
+            where = ("nothing in the test exposes the fault: the faulty cells always hold what a good memory holds "
+                     "and every read returns the expected value")
         elif self.masked is None:
             where = (f"it first shows after {self.excited.describe(test)} and is still in the memory when the "
                      "test ends, never read")

@@ -1,0 +1,73 @@
+"""Hypothesis strategies for fault-simulation tests: consistent random March tests, memory setups
+and fault lists."""
+
+from __future__ import annotations
+
+from hypothesis import strategies as st
+
+from memcheck.faults.engine import AF_VARIANTS
+from memcheck.faults.instances import (
+    Cell,
+    CellFault,
+    CouplingFault,
+    DecoderFault,
+    FaultInstance,
+    StuckOpenFault,
+)
+from memcheck.faults.primitives import SINGLE_CELL_MODELS, TWO_CELL_MODELS
+from memcheck.faults.setup import SimSetup
+from memcheck.march.notation import Delay, MarchElement, MarchOp, MarchTest
+
+
+@st.composite
+def march_tests(draw: st.DrawFn, max_elements: int = 5, max_ops: int = 5, delays: bool = True) -> MarchTest:
+    """A random March test that a fault-free memory passes: every read after the first write of a
+    pass expects the value written last; reads before it may expect anything (they are not compared)."""
+    n = draw(st.integers(1, max_elements))
+    elements: list[MarchElement | Delay] = []
+    state: int | None = None
+    for _ in range(n):
+        if delays and draw(st.integers(0, 5)) == 0:
+            elements.append(Delay())
+        ops = []
+        for _ in range(draw(st.integers(1, max_ops))):
+            if draw(st.booleans()):
+                value = draw(st.sampled_from((0, 1)))
+                ops.append(MarchOp("w", value))
+                state = value
+            else:
+                ops.append(MarchOp("r", state if state is not None else draw(st.sampled_from((0, 1)))))
+        elements.append(MarchElement(draw(st.sampled_from(("up", "down", "any"))), tuple(ops)))
+    return MarchTest(tuple(elements))
+
+
+@st.composite
+def setups(draw: st.DrawFn, max_words: int = 6, max_width: int = 3) -> SimSetup:
+    words = draw(st.integers(1, max_words))
+    width = draw(st.integers(1, max_width))
+    divisors = [c for c in range(1, words + 1) if words % c == 0]
+    cols = draw(st.sampled_from(divisors))
+    layout = (words // cols, cols)
+    order = draw(st.sampled_from(("linear", "gray", "complement", "lfsr", "row-fast", "col-fast")))
+    bgs = draw(st.sampled_from((None, "solid", "checkerboard", "row-stripe", "col-stripe", "standard,checkerboard")))
+    return SimSetup(words, width, layout=layout, order=order, backgrounds=bgs, seed=draw(st.integers(0, 7)))
+
+
+@st.composite
+def faults(draw: st.DrawFn, setup: SimSetup) -> FaultInstance:
+    cells = [Cell(w, b) for w in range(setup.words) for b in range(setup.width)]
+    cell = st.sampled_from(cells)
+    choices = ["cell", "sof"] + (["pair"] if len(cells) > 1 else []) + (["af"] if setup.words > 1 else [])
+    kind = draw(st.sampled_from(choices))
+    if kind == "cell":
+        return CellFault(draw(st.sampled_from(SINGLE_CELL_MODELS)), draw(cell))
+    if kind == "sof":
+        return StuckOpenFault(draw(cell))
+    if kind == "pair":
+        a = draw(cell)
+        v = draw(cell.filter(lambda c: c != a))
+        return CouplingFault(draw(st.sampled_from(TWO_CELL_MODELS)), a, v)
+    k, wired = draw(st.sampled_from(AF_VARIANTS))
+    x = draw(st.integers(0, setup.words - 1))
+    y = None if k == "no-cell" else draw(st.integers(0, setup.words - 1).filter(lambda w: w != x))
+    return DecoderFault(k, x, y, wired)

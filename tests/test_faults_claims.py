@@ -1,0 +1,150 @@
+"""Published claims about March tests, reproduced by the fault simulator.
+
+Each check names its source. Where a claim is written from memory of the source, it says so.
+Memories are small (the claims are about every address, so 8 words already exercise every relative
+position) and bit-oriented unless stated.
+"""
+
+from __future__ import annotations
+
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from memcheck.faults.coverage import CoverageReport, coverage
+from memcheck.faults.setup import SimSetup
+from memcheck.march.notation import MarchElement, MarchOp, MarchTest
+from tests.fault_strategies import march_tests
+
+STATIC_SINGLE = ("SAF", "TF", "WDF", "RDF", "DRDF", "IRF")
+STATIC_TWO_CELL = ("CFst", "CFds", "CFtr", "CFwd", "CFrd", "CFdrd", "CFir")
+
+
+def _report(test: str, words: int = 8, **kw: object) -> CoverageReport:
+    return coverage(test, SimSetup(words, **kw))  # type: ignore[arg-type]
+
+
+def _full(report: CoverageReport, classes: tuple[str, ...]) -> dict[str, float]:
+    return {c: report[c].coverage for c in classes}
+
+
+def test_mats_plus_detects_saf_and_af_not_all_tf() -> None:
+    # A.J. van de Goor, "Testing Semiconductor Memories: Theory and Practice", Wiley, 1991 (MATS+ detects
+    # all SAFs and AFs; transition faults need MATS++).
+    r = _report("MATS+")
+    assert _full(r, ("SAF", "AF")) == {"SAF": 1.0, "AF": 1.0}
+    assert r["TF"].coverage < 1.0
+    # the cell that cannot fall is only caught if it powered up at 1 (the last w0 is never read back)
+    assert r["TF"].by_model[1].label == "TF↓" and r["TF"].by_model[1].detected == 0
+
+
+def test_mats_plus_plus_adds_tf() -> None:
+    # van de Goor 1991 (as above): MATS++ detects all SAFs, AFs and TFs.
+    r = _report("MATS++")
+    assert _full(r, ("SAF", "AF", "TF")) == {"SAF": 1.0, "AF": 1.0, "TF": 1.0}
+
+
+def test_march_x_adds_cfin() -> None:
+    # van de Goor 1991 (as above): March X detects SAFs, AFs, TFs and CFins.
+    r = _report("March X")
+    assert _full(r, ("SAF", "AF", "TF", "CFin")) == dict.fromkeys(("SAF", "AF", "TF", "CFin"), 1.0)
+    assert _report("MATS++")["CFin"].coverage < 1.0  # what March X adds
+
+
+def test_march_c_minus_unlinked_faults() -> None:
+    # A.J. van de Goor, "Using March Tests to Test SRAMs", IEEE Design & Test of Computers 10(1), 1993:
+    # March C- detects all unlinked SAFs, TFs, AFs, CFins, CFids and CFsts (aggressor below and above).
+    classes = ("SAF", "TF", "AF", "CFin", "CFid", "CFst")
+    r = _report("March C-")
+    assert _full(r, classes) == dict.fromkeys(classes, 1.0)
+    for cls in ("CFin", "CFid", "CFst"):
+        assert {b.label for b in r[cls].by_scope} == {"aggressor below", "aggressor above"}
+
+
+def test_march_ss_detects_all_static_simple_faults() -> None:
+    # S. Hamdioui, A.J. van de Goor and M. Rodgers, "March SS: a Test for All Static Simple RAM Faults",
+    # IEEE MTDT, 2002: all static simple single-cell and two-cell faults, including the read-disturb
+    # faults (DRDF, CFdrd) and write-disturb faults (WDF, CFwd) that March C- misses.
+    r = _report("March SS")
+    assert _full(r, STATIC_SINGLE + STATIC_TWO_CELL) == dict.fromkeys(STATIC_SINGLE + STATIC_TWO_CELL, 1.0)
+    c = _report("March C-")
+    for cls in ("DRDF", "CFdrd"):
+        assert c[cls].coverage == 0.0  # no read of March C- is followed by a second read of the same value
+    for cls in ("WDF", "CFwd", "CFds"):
+        assert c[cls].coverage < 1.0
+
+
+def test_retention_needs_a_pause() -> None:
+    # van de Goor 1991 (as above): data-retention faults need delay elements (March G has two).
+    assert _report("March G")["DRF"].coverage == 1.0
+    assert _report("March SS")["DRF"].coverage == 0.0
+
+
+def test_stuck_open_needs_a_read_after_the_write() -> None:
+    # van de Goor 1991 (as above), from memory: MATS++ detects stuck-open faults thanks to the final
+    # r0 of ⇓(r1,w0,r0), which reads a value different from the read just before it; MATS+ does not.
+    assert _report("MATS++")["SOF"].coverage == 1.0
+    assert _report("MATS+")["SOF"].coverage < 1.0
+
+
+def test_word_oriented_backgrounds_expose_intra_word_coupling() -> None:
+    # A.J. van de Goor and I.B.S. Tlili, "A Systematic Method for Modifying March Tests for Bit-Oriented
+    # Memories into Tests for Word-Oriented Memories", IEEE Trans. Computers 52(10), 2003, from memory:
+    # with one solid background the two bits of a word are always written alike, so half the intra-word
+    # state and idempotent coupling faults escape; the log2(width)+1 standard backgrounds catch them.
+    solid = coverage("March C-", SimSetup(4, 4, backgrounds="solid"), classes="CFst,CFid")
+    standard = coverage("March C-", SimSetup(4, 4, backgrounds="standard"), classes="CFst,CFid")
+    for cls in ("CFst", "CFid"):
+        intra_solid = next(b for b in solid[cls].by_scope if b.label == "intra-word")
+        intra_std = next(b for b in standard[cls].by_scope if b.label == "intra-word")
+        assert intra_solid.detected * 2 == intra_solid.faults
+        assert intra_std.detected == intra_std.faults
+        assert standard[cls].coverage == 1.0
+
+
+@st.composite
+def _af_condition_tests(draw: st.DrawFn) -> MarchTest:
+    """Tests holding ⇑(rx,…,w¬x) and ⇓(r¬x,…,wx) with the memory at x when the ⇑ element starts."""
+    x = draw(st.sampled_from((0, 1)))
+    prefix = draw(march_tests(max_elements=2, max_ops=3, delays=False)).elements if draw(st.booleans()) else ()
+
+    def middle(start: int) -> list[MarchOp]:
+        ops, state = [], start
+        for _ in range(draw(st.integers(0, 3))):
+            if draw(st.booleans()):
+                state = draw(st.sampled_from((0, 1)))
+                ops.append(MarchOp("w", state))
+            else:
+                ops.append(MarchOp("r", state))
+        return ops
+
+    up = MarchElement("up", (MarchOp("r", x), *middle(x), MarchOp("w", 1 - x)))
+    down = MarchElement("down", (MarchOp("r", 1 - x), *middle(1 - x), MarchOp("w", x)))
+    init = MarchElement(draw(st.sampled_from(("up", "down", "any"))), (MarchOp("w", x),))
+    between = (MarchElement("any", (MarchOp("r", 1 - x),)),) if draw(st.booleans()) else ()
+    pair = (up, *between, down) if draw(st.booleans()) else (down, up)
+    if pair[0] is down:  # start the ⇓ element from ¬x instead
+        init = MarchElement(init.order, (MarchOp("w", 1 - x),))
+    return MarchTest((*prefix, init, *pair))
+
+
+@settings(max_examples=30)
+@given(test=_af_condition_tests(), words=st.integers(2, 9),
+       order=st.sampled_from(("linear", "gray", "complement", "lfsr")))
+def test_sufficient_condition_for_address_decoder_faults(test: MarchTest, words: int, order: str) -> None:
+    # van de Goor 1991 (as above), condition as we recall it: a March test containing ⇑(rx,…,w¬x) and
+    # ⇓(r¬x,…,wx) detects all address-decoder faults, for any address order whose ⇓ is the reverse of ⇑
+    # (with our read conventions: no cell reached -> a fixed unknown value; two cells -> wired AND/OR).
+    assert coverage(test, SimSetup(words, order=order), classes="AF")["AF"].coverage == 1.0
+
+
+@pytest.mark.parametrize("test", ["MATS+", "March C-", "March SS"])
+def test_claims_hold_for_every_address_order(test: str) -> None:
+    # van de Goor 1991 (as above): up and down only need to be each other's reverse, so a March test's
+    # coverage of these classes does not depend on the address order.
+    base = _report(test)
+    for order in ("gray", "complement", "lfsr"):
+        other = _report(test, order=order)
+        for cls in ("SAF", "TF", "AF", "CFin", "CFid", "CFst"):
+            if base[cls].coverage == 1.0:
+                assert other[cls].coverage == 1.0, (order, cls)
