@@ -113,6 +113,15 @@ def explain(contract: Contract, checked: CheckedTrace) -> Explanation | None:
                            f"The read of address {addr:#x} was issued at cycle {issue_cycle}. {timing}".strip(),
                            "read data")
     wc, q, w = last
+    same_edge = [(q2, o) for q2, o in enumerate(by_cycle[wc].ops) if o.kind == "write" and o.address == addr]
+    if len(same_edge) > 1 and m.write_collision == "first":
+        q1 = same_edge[0][0]
+        names = " and ".join(f"port {contract.ports[x].name} ({o.describe()})" for x, o in same_edge)
+        rule = ("write_collision = \"first\": when two ports write one address on the same edge, the "
+                "earlier-listed port's data should win.")
+        return Explanation(first.cycle, port.name, prefix + rule,
+                           f"At cycle {wc} {names} both wrote address {addr:#x}; port "
+                           f"{contract.ports[q1].name} is listed first. {timing}".strip(), "write_collision")
     written = m.word_mask if w.lanes is None else m.lane_bits(w.lanes)
     src = f"port {contract.ports[q].name} at cycle {wc} ({w.describe()})"
     if diff & ~written and not diff & written:

@@ -36,7 +36,20 @@ _EXPORTS = {
     "PhaseResult": "memcheck.sim.result",
 }
 
-__all__ = sorted(_EXPORTS)
+__all__ = [
+    "CheckOptions",
+    "CheckResult",
+    "CheckedTrace",
+    "CycleRow",
+    "Engine",
+    "Failure",
+    "Observed",
+    "PhaseResult",
+    "ReplayResult",
+    "RunOptions",
+    "check_contract",
+    "replay_file",
+]
 
 
 def __getattr__(name: str) -> Any:

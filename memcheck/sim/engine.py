@@ -28,7 +28,7 @@ from memcheck.sim.checker import CheckedTrace, CycleRow, ModelStart, check, comp
 from memcheck.sim.layout import Observed
 from memcheck.sim.result import Failure, PhaseResult, RunResult
 from memcheck.sim.sequences import Segment
-from memcheck.sim.shrink import ddmin, quieten, trim_quiet_edges
+from memcheck.sim.shrink import ddmin, quieten, simplify_values, trim_quiet_edges
 
 PHASES: tuple[str, ...] = ("smoke", "sweep", "property")
 #: The preamble of every independent example: reset, canonical fill, flush.
@@ -175,6 +175,7 @@ class Engine:
         current = quieten(current, self._quiet, fails)
         current = trim_quiet_edges(current, self._quiet, fails)
         current = ddmin(current, fails)
+        current = simplify_values(current, fails)
         # Run the final trace once more, so the canonical-state run is the reported one.
         return self.run_example(current)
 

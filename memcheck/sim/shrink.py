@@ -1,15 +1,16 @@
 """Shrink a failing trace found by the smoke or sweep phase (Hypothesis shrinks its own).
 
 Delta debugging (A. Zeller and R. Hildebrandt, "Simplifying and Isolating Failure-Inducing Input",
-IEEE TSE 28(2), 2002) over cycles, then a pass that replaces each remaining operation with a quiet
-one. ``fails`` runs a candidate in the simulator, so every step is a real RTL run.
+IEEE TSE 28(2), 2002) over cycles, then passes that replace operations with quiet ones and make
+addresses and data simpler. ``fails`` runs a candidate in the simulator, so every step is a real RTL run.
 """
 
 from __future__ import annotations
 
 from collections.abc import Callable, Sequence
+from dataclasses import replace
 
-from memcheck.ops import Cycle
+from memcheck.ops import Cycle, PortOp
 
 
 def ddmin(items: Sequence[Cycle], fails: Callable[[list[Cycle]], bool], *, budget: int = 2000) -> list[Cycle]:
@@ -43,10 +44,7 @@ def quieten(cycles: Sequence[Cycle], quiet: Cycle, fails: Callable[[list[Cycle]]
         for p in range(len(quiet)):
             if current[k][p] == quiet[p]:
                 continue
-            cand = list(current)
-            cyc = list(cand[k])
-            cyc[p] = quiet[p]
-            cand[k] = tuple(cyc)
+            cand = _replace_op(current, k, p, quiet[p])
             if fails(cand):
                 current = cand
     return current
@@ -59,4 +57,36 @@ def trim_quiet_edges(cycles: Sequence[Cycle], quiet: Cycle, fails: Callable[[lis
         current = current[1:]
     while len(current) > 1 and current[-1] == quiet and fails(current[:-1]):
         current = current[:-1]
+    return current
+
+
+def _replace_op(cycles: list[Cycle], k: int, p: int, op: PortOp) -> list[Cycle]:
+    cand = list(cycles)
+    cyc = list(cand[k])
+    cyc[p] = op
+    cand[k] = tuple(cyc)
+    return cand
+
+
+def simplify_values(cycles: Sequence[Cycle], fails: Callable[[list[Cycle]], bool]) -> list[Cycle]:
+    """Make the trace easier to read where the failure survives: addresses renamed to 0, write data
+    zero, all lanes enabled."""
+    current = list(cycles)
+    used = {op.address for c in current for op in c if op.kind != "idle"}
+    for a in sorted(used - {0}):
+        if any(op.address == 0 and op.kind != "idle" for c in current for op in c):
+            break
+        cand = [tuple(replace(op, address=0) if op.kind != "idle" and op.address == a else op for op in c)
+                for c in current]
+        if fails(cand):
+            current = cand
+    for k in range(len(current)):
+        for p, op in enumerate(current[k]):
+            if op.kind != "write":
+                continue
+            for simpler in (replace(op, data=0), replace(op, lanes=None)):
+                if simpler != current[k][p]:
+                    cand = _replace_op(current, k, p, simpler)
+                    if fails(cand):
+                        current = cand
     return current
