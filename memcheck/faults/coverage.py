@@ -82,7 +82,9 @@ def wilson_interval(successes: int, trials: int, z: float = Z95) -> tuple[float,
     denom = 1 + z * z / trials
     centre = (p + z * z / (2 * trials)) / denom
     half = z * math.sqrt(p * (1 - p) / trials + z * z / (4 * trials * trials)) / denom
-    return max(0.0, centre - half), min(1.0, centre + half)
+    lo = 0.0 if successes == 0 else max(0.0, centre - half)
+    hi = 1.0 if successes == trials else min(1.0, centre + half)
+    return lo, hi
 
 
 @dataclass(frozen=True)
