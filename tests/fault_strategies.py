@@ -20,12 +20,16 @@ from memcheck.march.notation import Delay, MarchElement, MarchOp, MarchTest
 
 
 @st.composite
-def march_tests(draw: st.DrawFn, max_elements: int = 5, max_ops: int = 5, delays: bool = True) -> MarchTest:
-    """A random March test that a fault-free memory passes: every read after the first write of a
-    pass expects the value written last; reads before it may expect anything (they are not compared)."""
+def march_tests(draw: st.DrawFn, max_elements: int = 5, max_ops: int = 5, delays: bool = True,
+                leading_reads: bool = True) -> MarchTest:
+    """A random March test that a fault-free memory passes: every read after the first write expects
+    the value written last; reads before it (only with ``leading_reads``, which needs a single data
+    background) may expect anything, as they are not compared."""
     n = draw(st.integers(1, max_elements))
     elements: list[MarchElement | Delay] = []
-    state: int | None = None
+    state: int | None = None if leading_reads else draw(st.sampled_from((0, 1)))
+    if state is not None:
+        elements.append(MarchElement(draw(st.sampled_from(("up", "down", "any"))), (MarchOp("w", state),)))
     for _ in range(n):
         if delays and draw(st.integers(0, 5)) == 0:
             elements.append(Delay())
@@ -39,6 +43,11 @@ def march_tests(draw: st.DrawFn, max_elements: int = 5, max_ops: int = 5, delays
                 ops.append(MarchOp("r", state if state is not None else draw(st.sampled_from((0, 1)))))
         elements.append(MarchElement(draw(st.sampled_from(("up", "down", "any"))), tuple(ops)))
     return MarchTest(tuple(elements))
+
+
+def valid_tests(setup: SimSetup, **kw: object) -> st.SearchStrategy[MarchTest]:
+    """Random tests valid on ``setup`` (leading reads only with a single background)."""
+    return march_tests(leading_reads=setup.resolve().nbg == 1, **kw)  # type: ignore[arg-type]
 
 
 @st.composite

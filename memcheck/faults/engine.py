@@ -139,8 +139,8 @@ class Plan:
 
     @classmethod
     def build(cls, test: MarchTest, setup: SimSetup) -> Plan:
-        check_consistent(test)
         rs = setup.resolve()
+        check_consistent(test, rs.nbg)
         return cls(test, setup, rs, schedule(test, rs.nbg))
 
     def stream(self, relation: str) -> Stream:

@@ -257,7 +257,7 @@ def simulate_one(test: MarchTest, fault: FaultInstance, setup: SimSetup,
                  events: Sequence[_Event] | None = None) -> FaultResult:
     """Run every power-up state of ``fault``'s cells through the whole test."""
     if events is None:
-        check_consistent(test)
+        check_consistent(test, len(setup.resolve().backgrounds))
         events = _events(test, setup)
     labels = fault.power_up_labels()
     states = _states(len(labels))
@@ -294,6 +294,6 @@ def simulate_one(test: MarchTest, fault: FaultInstance, setup: SimSetup,
 
 def simulate_naive(test: MarchTest, faults: Iterable[FaultInstance], setup: SimSetup) -> list[FaultResult]:
     """Reference verdicts for ``faults`` under ``test`` on the memory ``setup`` describes."""
-    check_consistent(test)
+    check_consistent(test, len(setup.resolve().backgrounds))
     events = _events(test, setup)
     return [simulate_one(test, f, setup, events) for f in faults]

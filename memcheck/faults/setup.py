@@ -143,9 +143,11 @@ def schedule(test: MarchTest, nbg: int) -> tuple[Slot, ...]:
     return tuple(out)
 
 
-def check_consistent(test: MarchTest) -> None:
+def check_consistent(test: MarchTest, backgrounds: int = 1) -> None:
     """Reject a test that a fault-free memory fails: a read expecting a value other than the one
-    written last in the same pass (reads before the first write are not compared)."""
+    written last in the same pass. Reads before the test's first write see the unknown power-up
+    content and are not compared; over several backgrounds such a read would compare the previous
+    background's data against the new one, so it is rejected there."""
     last: int | None = None
     for e, el in enumerate(test.elements):
         if not isinstance(el, MarchElement):
@@ -153,6 +155,12 @@ def check_consistent(test: MarchTest) -> None:
         for j, op in enumerate(el.ops):
             if op.kind == "w":
                 last = op.value
+            elif last is None and backgrounds > 1:
+                raise FaultModelError(
+                    f"element {e + 1} {el.to_unicode()} reads at operation {j + 1} before the test writes "
+                    f"anything; run over {backgrounds} data backgrounds, that read would expect the new "
+                    "background while a good memory still holds the previous one: start the test with a "
+                    "write element (e.g. ⇕(w0)) or use a single background")
             elif last is not None and op.value != last:
                 raise FaultModelError(
                     f"element {e + 1} {el.to_unicode()} reads {op} at operation {j + 1}, but every word holds "
