@@ -1,0 +1,84 @@
+"""A Python stand-in for wrapper RTL, so the checking engine can be tested without a simulator.
+
+``PyRam`` behaves like a single-port, read-latency-1 SRAM wrapper with lane enables, old data on a
+read-during-write and read data that holds while idle; each ``bug`` switches on one realistic
+wrapper mistake. It answers like the generated harness does: per cycle, the read data sampled just
+before the rising edge, with X as undefined bits.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+
+from memcheck.contract import Contract
+from memcheck.sim.layout import Observed
+from memcheck.sim.sequences import Segment
+
+BUGS = ("none", "swap_lanes", "stale_bypass", "late_data", "no_lane_mask")
+
+
+def contract(words: int = 16, width: int = 8, lane_width: int = 4) -> Contract:
+    return Contract.simple(words, width, lane_width=lane_width, read_latency=1, read_during_write="old",
+                           idle_read_data="keep")
+
+
+class PyRam:
+    """A tiny cycle-based wrapper model; ``bug`` picks a deliberate defect (see BUGS)."""
+
+    batch_limit = 64  # small, so multi-batch paths get exercised
+
+    def __init__(self, c: Contract, bug: str = "none") -> None:
+        assert bug in BUGS
+        self.c = c
+        self.bug = bug
+        m = c.memory
+        self.mask = m.word_mask
+        self.mem: dict[int, int] = {}
+        self.rdata: tuple[int, int] = (0, 0)  # (value, defined)
+        self.prev: tuple[int, int] = (0, 0)
+        self.bypass: tuple[int, int] | None = None  # (address, data) of the last full write
+        self.batches = 0
+
+    def _bits(self, lanes: int | None) -> int:
+        m = self.c.memory
+        if lanes is None:
+            return self.mask
+        if self.bug == "swap_lanes" and m.lanes == 2:
+            lanes = ((lanes & 1) << 1) | ((lanes >> 1) & 1)
+        if self.bug == "no_lane_mask" and lanes:
+            return self.mask
+        return m.lane_bits(lanes)
+
+    def _edge(self, op_kind: str, address: int, data: int, lanes: int | None) -> None:
+        m = self.c.memory
+        new_rdata = self.rdata
+        if op_kind in ("read", "write"):
+            if address < m.words and address in self.mem:
+                word = self.mem[address]
+                if self.bug == "stale_bypass" and self.bypass is not None and self.bypass[0] == address:
+                    word = self.bypass[1]
+                new_rdata = (word, self.mask)
+            else:
+                new_rdata = (0, 0)
+        if op_kind == "write" and address < m.words:
+            bits = self._bits(lanes)
+            old = self.mem.get(address, 0)
+            self.mem[address] = (old & ~bits) | (data & bits)
+            if bits == self.mask:
+                self.bypass = (address, data)
+        self.prev = self.rdata
+        self.rdata = new_rdata
+
+    def run(self, segments: Sequence[Segment], *, dump: bool = False) -> list[tuple[Observed | None, ...]]:
+        out: list[tuple[Observed | None, ...]] = []
+        n = sum(len(s) for s in segments)
+        self.batches += (n + self.batch_limit - 1) // self.batch_limit
+        for s in segments:
+            for cyc in s.cycles:
+                shown = self.prev if self.bug == "late_data" else self.rdata
+                out.append((Observed(shown[0], shown[1]),))
+                op = cyc[0]
+                self._edge(op.kind, op.address, op.data, op.lanes)
+                if s.reset:
+                    self.rdata = (0, 0)
+        return out
