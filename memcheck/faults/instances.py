@@ -36,16 +36,11 @@ class Cell:
         return f"bit {self.bit} of word {self.word}"
 
 
-@dataclass(frozen=True, slots=True)
-class CellFault:
-    """A single-cell fault model (SAF, TF, WDF, RDF, DRDF, IRF, DRF) on one cell."""
+class _ModelFault:
+    """Class and name of an instance of a :class:`FaultModel`."""
 
+    __slots__ = ()
     model: FaultModel
-    cell: Cell
-
-    def __post_init__(self) -> None:
-        if self.model.two_cell:
-            raise FaultModelError(f"{self.model.name} involves two cells; use CouplingFault")
 
     @property
     def cls(self) -> str:
@@ -54,6 +49,18 @@ class CellFault:
     @property
     def name(self) -> str:
         return self.model.name
+
+
+@dataclass(frozen=True, slots=True)
+class CellFault(_ModelFault):
+    """A single-cell fault model (SAF, TF, WDF, RDF, DRDF, IRF, DRF) on one cell."""
+
+    model: FaultModel
+    cell: Cell
+
+    def __post_init__(self) -> None:
+        if self.model.two_cell:
+            raise FaultModelError(f"{self.model.name} involves two cells; use CouplingFault")
 
     @property
     def cells(self) -> tuple[Cell, ...]:
@@ -70,7 +77,7 @@ class CellFault:
 
 
 @dataclass(frozen=True, slots=True)
-class CouplingFault:
+class CouplingFault(_ModelFault):
     """A two-cell fault model: ``aggressor`` sensitises, ``victim`` goes wrong (different cells,
     in the same word for intra-word coupling)."""
 
@@ -83,14 +90,6 @@ class CouplingFault:
             raise FaultModelError(f"{self.model.name} is a single-cell fault; use CellFault")
         if self.aggressor == self.victim:
             raise FaultModelError(f"a coupling fault needs two different cells, not {self.victim} twice")
-
-    @property
-    def cls(self) -> str:
-        return self.model.cls
-
-    @property
-    def name(self) -> str:
-        return self.model.name
 
     @property
     def cells(self) -> tuple[Cell, ...]:

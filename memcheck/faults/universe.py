@@ -20,7 +20,7 @@ Physical cell positions follow :mod:`memcheck.march.backgrounds`: word ``w`` sit
 
 from __future__ import annotations
 
-from collections.abc import Iterator
+from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass
 from typing import Literal
 
@@ -350,37 +350,50 @@ def find_cells(rs: Resolved, codes_wanted: list[int]) -> dict[int, Cell]:
     return out
 
 
+def _first_by_key(batches: Iterable[tuple[IntArray, IntArray, IntArray]], wanted: IntArray,
+                  stop_when_all: bool = False) -> dict[int, tuple[int, int]]:
+    """For each wanted key, the smallest (primary, secondary) over batches of (keys, primary, secondary)."""
+    best: dict[int, tuple[int, int]] = {}
+    for k, primary, secondary in batches:
+        hit = np.flatnonzero(np.isin(k, wanted))
+        if hit.size:
+            order = hit[np.lexsort((secondary[hit], primary[hit]))]
+            uk, first = np.unique(k[order], return_index=True)
+            for key, i in zip(uk.tolist(), order[first].tolist(), strict=True):
+                cand = (int(primary[i]), int(secondary[i]))
+                if key not in best or cand < best[key]:
+                    best[key] = cand
+        if stop_when_all and len(best) == len(wanted):
+            break
+    return best
+
+
+def _scan(n: int, budget: int, keys_of: Callable[[int], IntArray]) -> Iterator[tuple[IntArray, IntArray, IntArray]]:
+    """Batches for every first item in order (second items all at once), itself excluded."""
+    everything = np.arange(n, dtype=np.int64)
+    for first in range(min(n, max(1, budget // max(n, 1)))):
+        k = keys_of(first)
+        k[first] = -1
+        yield k, np.full(n, first, np.int64), everything
+
+
 def find_pairs(rs: Resolved, kind: str, keys: list[int], budget: int = 1 << 26) -> dict[int, tuple[Cell, Cell]]:
     """For each packed pair key, the first (by victim, then aggressor, in address order) instance."""
     width = rs.setup.width
     wanted = np.array(sorted(set(keys)), np.int64)
-    best: dict[int, tuple[int, int]] = {}
     if kind == "neighbours":
-        for wa, ba, wv, bv in neighbour_pairs(rs.setup):
-            k = _pair_keys(rs, wa, ba, wv, bv)
-            vic, agg = wv * width + bv, wa * width + ba
-            hit = np.flatnonzero(np.isin(k, wanted))
-            if not hit.size:
-                continue
-            order = hit[np.lexsort((agg[hit], vic[hit]))]
-            uk, first = np.unique(k[order], return_index=True)
-            for key, i in zip(uk.tolist(), order[first].tolist(), strict=True):
-                cand = (int(vic[i]), int(agg[i]))
-                if key not in best or cand < best[key]:
-                    best[key] = cand
+        batches: Iterator[tuple[IntArray, IntArray, IntArray]] = (
+            (_pair_keys(rs, wa, ba, wv, bv), wv * width + bv, wa * width + ba)
+            for wa, ba, wv, bv in neighbour_pairs(rs.setup))
+        best = _first_by_key(batches, wanted)
     else:
-        n = rs.setup.cells
-        cells = np.arange(n, dtype=np.int64)
+        cells = np.arange(rs.setup.cells, dtype=np.int64)
         wa, ba = cells // width, cells % width
-        for victim in range(min(n, max(1, budget // max(n, 1)))):
-            k = _pair_keys(rs, wa, ba, np.full(n, victim // width), np.full(n, victim % width))
-            k[victim] = -1
-            hit = np.flatnonzero(np.isin(k, wanted))
-            uk, first = np.unique(k[hit], return_index=True)
-            for key, i in zip(uk.tolist(), hit[first].tolist(), strict=True):
-                best.setdefault(key, (victim, i))
-            if len(best) == len(wanted):
-                break
+
+        def keys_of(victim: int) -> IntArray:
+            return _pair_keys(rs, wa, ba, np.full(cells.size, victim // width), np.full(cells.size, victim % width))
+
+        best = _first_by_key(_scan(cells.size, budget, keys_of), wanted, stop_when_all=True)
     return {k: (Cell(*divmod(a, width)), Cell(*divmod(v, width))) for k, (v, a) in best.items()}
 
 
@@ -393,37 +406,16 @@ def find_word_pairs(rs: Resolved, kind: str, keys: list[int], budget: int = 1 <<
     """For each word-pair key (:func:`word_pair_key`), the first (x, then y) pair that has it."""
     nwc = rs.wpar.shape[0]
     wanted = np.array(sorted(set(keys)), np.int64)
-    best: dict[int, tuple[int, int]] = {}
 
-    def keys_of(x: IntArray, y: IntArray) -> IntArray:
+    def pair_keys(x: IntArray, y: IntArray) -> IntArray:
         out: IntArray = (af_relation(rs.pos, x, y) * nwc + rs.wclass[x]) * nwc + rs.wclass[y]
         return out
 
     if kind == "neighbours":
-        for x, y in word_neighbours(rs.setup):
-            k = keys_of(x, y)
-            hit = np.flatnonzero(np.isin(k, wanted))
-            if not hit.size:
-                continue
-            order = hit[np.lexsort((y[hit], x[hit]))]
-            uk, first = np.unique(k[order], return_index=True)
-            for key, i in zip(uk.tolist(), order[first].tolist(), strict=True):
-                cand = (int(x[i]), int(y[i]))
-                if key not in best or cand < best[key]:
-                    best[key] = cand
-        return best
+        return _first_by_key(((pair_keys(x, y), x, y) for x, y in word_neighbours(rs.setup)), wanted)
     n = rs.setup.words
     ys = np.arange(n, dtype=np.int64)
-    for xw in range(min(n, max(1, budget // n))):
-        kx = keys_of(np.full(n, xw), ys)
-        kx[xw] = -1
-        hit = np.flatnonzero(np.isin(kx, wanted))
-        uk, first = np.unique(kx[hit], return_index=True)
-        for key, i in zip(uk.tolist(), hit[first].tolist(), strict=True):
-            best.setdefault(int(key), (xw, int(i)))
-        if len(best) == len(wanted):
-            break
-    return best
+    return _first_by_key(_scan(n, budget, lambda x: pair_keys(np.full(n, x), ys)), wanted, stop_when_all=True)
 
 
 def sof_contexts(rs: Resolved) -> tuple[IntArray, IntArray]:
