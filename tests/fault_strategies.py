@@ -15,7 +15,7 @@ from memcheck.faults.instances import (
     StuckOpenFault,
 )
 from memcheck.faults.primitives import SINGLE_CELL_MODELS, TWO_CELL_MODELS
-from memcheck.faults.setup import SimSetup
+from memcheck.faults.geometry import SimSetup
 from memcheck.march.notation import Delay, MarchElement, MarchOp, MarchTest
 
 

@@ -12,7 +12,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from memcheck.faults.coverage import CoverageReport, coverage
-from memcheck.faults.setup import SimSetup
+from memcheck.faults.geometry import SimSetup
 from memcheck.march.notation import MarchElement, MarchOp, MarchTest
 from tests.fault_strategies import march_tests
 

@@ -22,7 +22,7 @@ from memcheck.faults.primitives import (
     settle,
     victim_op,
 )
-from memcheck.faults.setup import SimSetup
+from memcheck.faults.geometry import SimSetup
 from memcheck.faults.universe import (
     CLASSES,
     class_size,

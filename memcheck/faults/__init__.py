@@ -44,7 +44,7 @@ from memcheck.faults.primitives import (
     model_named,
     models_of,
 )
-from memcheck.faults.setup import SimSetup
+from memcheck.faults.geometry import SimSetup
 from memcheck.faults.universe import CLASSES, Universe, enumerate_class, parse_universe, sample_class
 
 __all__ = [

@@ -42,7 +42,7 @@ from memcheck.faults.instances import (
     Verdict,
 )
 from memcheck.faults.primitives import FaultModel, models_of
-from memcheck.faults.setup import SimSetup
+from memcheck.faults.geometry import SimSetup
 from memcheck.faults.universe import (
     CLASSES,
     SCOPES,

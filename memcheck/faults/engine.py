@@ -2,7 +2,7 @@
 
 Why this is exact. A single fault involves one or two cells (a decoder fault: two words). Only
 operations on the fault's own words can change those cells or be compared against them; every word
-sees the same per-word operation list (:func:`memcheck.faults.setup.schedule`); and inside one
+sees the same per-word operation list (:func:`memcheck.faults.geometry.schedule`); and inside one
 element, whether the aggressor's word is visited before the victim's depends only on their
 positions in the ⇑ order (⇓ is its exact reverse). So a fault's behaviour is fixed by
 
@@ -39,7 +39,7 @@ from memcheck.faults.instances import (
     Witness,
 )
 from memcheck.faults.primitives import FaultModel, aggressor_op, pause, settle, victim_op
-from memcheck.faults.setup import Resolved, SimSetup, Slot, check_consistent, schedule
+from memcheck.faults.geometry import Resolved, SimSetup, Slot, check_consistent, schedule
 from memcheck.march.notation import MarchTest
 
 IntArray = npt.NDArray[np.int64]

@@ -28,7 +28,7 @@ from memcheck.faults.instances import (
     Witness,
 )
 from memcheck.faults.primitives import aggressor_op, pause, settle, victim_op
-from memcheck.faults.setup import SimSetup, check_consistent
+from memcheck.faults.geometry import SimSetup, check_consistent
 from memcheck.march.expand import Pause, expand
 from memcheck.march.notation import MarchTest
 

@@ -38,7 +38,7 @@ from memcheck.faults.instances import (
     StuckOpenFault,
 )
 from memcheck.faults.primitives import models_of
-from memcheck.faults.setup import Resolved, SimSetup
+from memcheck.faults.geometry import Resolved, SimSetup
 
 IntArray = npt.NDArray[np.int64]
 
