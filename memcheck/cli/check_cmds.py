@@ -150,7 +150,8 @@ def replay(replay_file: str, out_dir: str | None, no_waveform: bool) -> int:
     _echo(f"memcheck replay {replay_file}: {len(f.trace)} cycles against {res.replay.contract_path}")
     if res.contract_changed:
         _echo("note: the contract file changed since the replay file was written.")
-    _echo(render_failure(res.contract, res.checked, start_text=start_description(f.preamble, res.checked.start)))
+    _echo(render_failure(res.contract, res.checked, start_text=start_description(f.preamble, res.checked.start,
+                                                                                       res.contract)))
     if res.checked.ok:
         _echo("\nThe trace now conforms to the contract.")
     elif res.reproduced:

@@ -147,15 +147,22 @@ def render_failure(contract: Contract, checked: CheckedTrace, *, start_text: str
     return "\n\n".join(parts)
 
 
-def start_description(preamble: tuple[str, ...], start: str) -> str:
+def start_description(preamble: tuple[str, ...], start: str, contract: Contract | None = None) -> str:
     """How the trace starts, in words."""
+    has_reset = contract is None or contract.reset is not None
     if tuple(preamble) == ("reset", "fill", "flush"):
-        return ("Starts from: reset (if the contract has one), every address written with a fixed pattern, then "
-                "a flush; the model knows nothing at the start, so only what the trace writes is checked.")
-    steps = ", ".join(preamble) or "nothing"
+        first = "the reset sequence, then " if has_reset and contract is not None else (
+            "the reset sequence (if any), then " if contract is None else "")
+        return (f"Starts from: {first}every address written with a fixed pattern and a short flush (not "
+                "checked); the model knows nothing at the start, so only what the trace itself writes is checked.")
+    names = {"reset": "the reset sequence", "fill": "every address written with a fixed pattern",
+             "flush": "a short flush", "smoke": "the smoke sequence"}
+    steps = [names.get(s, f"sweep {s.split(':', 1)[1]}" if s.startswith("sweep:") else s) for s in preamble
+             if s != "reset" or has_reset]
     model = {"power-up": "the model at power-up", "reset": "the model right after reset",
              "unknown": "a model that knows nothing"}[start]
-    return f"Starts from: {steps} (unchecked), then the trace below is checked against {model}."
+    return (f"Starts from: {', then '.join(steps) or 'power-up'} (not checked), then the trace below is checked "
+            f"against {model}.")
 
 
 def render_report(result: CheckResult) -> str:
@@ -163,8 +170,8 @@ def render_report(result: CheckResult) -> str:
     parts = [result.summary()]
     if result.failure is not None:
         f = result.failure
-        parts.append(render_failure(result.contract, f.checked, start_text=start_description(f.preamble,
-                                                                                              f.checked.start)))
+        parts.append(render_failure(result.contract, f.checked,
+                                    start_text=start_description(f.preamble, f.checked.start, result.contract)))
         files = []
         if result.replay_file:
             files.append(f"replay file: {result.replay_file}")
