@@ -46,6 +46,9 @@ class HarnessBackend:
         self.dumping = False
         self.engine: Engine | None = None
         self.sim_cycles = 0
+        self.batches = 0
+        self.batch_seconds = 0.0  # wall time of batches: files, the round trip and the simulator
+        self.record: Path | None = None  # bench/: keep every stimulus and capture file
 
     def run(self, segments: Sequence[Segment], *, dump: bool = False) -> Observations:
         flat = [(c, s.reset) for s in segments for c in s.cycles]
@@ -55,10 +58,19 @@ class HarnessBackend:
             if self.engine is not None:
                 self.engine.before_batch(len(part))
             text = "".join(f"{self.layout.encode(c, r):x}\n" for c, r in part)
+            t0 = time.perf_counter()
             self.stim.write_text(text, encoding="ascii")
             resume(self._batch)(len(part), dump)
-            out.extend(self.layout.decode(self.cap.read_bytes(), len(part)))
+            captured = self.cap.read_bytes()
+            self.batch_seconds += time.perf_counter() - t0
+            out.extend(self.layout.decode(captured, len(part)))
             self.sim_cycles += len(part)
+            self.batches += 1
+            if self.record is not None:
+                with (self.record / "stim.hex").open("a") as fh:
+                    fh.write(text)
+                with (self.record / "cap.bin").open("ab") as fb:
+                    fb.write(captured)
         return out
 
     async def _batch(self, count: int, dump: bool) -> None:
@@ -88,6 +100,8 @@ def _session(dut: Any, job: dict[str, Any]) -> dict[str, Any]:
     layout = Layout.build(contract, {k: int(v) for k, v in job["widths"].items()})
     workdir = Path.cwd()
     backend = HarnessBackend(dut, layout, workdir)
+    if job.get("record"):
+        backend.record = Path(job["record"])
     progress = _Progress(Path(job["progress_file"]))
     progress.backend = backend
     options = RunOptions.from_json(job["options"])
@@ -102,7 +116,8 @@ def _session(dut: Any, job: dict[str, Any]) -> dict[str, Any]:
         result = engine.run()
     out = result.to_json()
     out["extra"] = {**out["extra"], "sim_seconds": round(time.perf_counter() - t0, 3),
-                    "cycles_simulated": backend.sim_cycles}
+                    "cycles_simulated": backend.sim_cycles, "batches": backend.batches,
+                    "seconds_batches": round(backend.batch_seconds, 4)}
     progress({"phase": "done"})
     return out
 

@@ -97,6 +97,8 @@ class Engine:
         self.cycles = 0
         self.where: dict[str, Any] = {"phase": "start"}
         self.examples_run = 0
+        # Where example time goes (for bench/): running cycles on the RTL, and the model + comparison.
+        self.timing: dict[str, float] = {"example_rtl": 0.0, "example_model": 0.0}
 
     # -- running cycles --------------------------------------------------------------------
 
@@ -151,10 +153,15 @@ class Engine:
         else:
             restore = seq.restore_cycles(c, self._dirty) if seq.fill_limit(c) else []
             pre = restore + seq.flush_cycles(c)
+        t0 = time.perf_counter()
         obs = self._run([Segment(tuple(pre) + tuple(cycles))])
+        t1 = time.perf_counter()
         self._dirty = seq.written_addresses(cycles)
         self.examples_run += 1
-        return check(c, "unknown", list(cycles), obs[len(pre):])
+        checked = check(c, "unknown", list(cycles), obs[len(pre):])
+        self.timing["example_rtl"] += t1 - t0
+        self.timing["example_model"] += time.perf_counter() - t1
+        return checked
 
     def _fails(self, cache: dict[tuple[Cycle, ...], CheckedTrace]) -> Callable[[list[Cycle]], bool]:
         def fails(cycles: list[Cycle]) -> bool:
@@ -358,7 +365,8 @@ class Engine:
             phase_result, failure = getattr(self, name)()
             results.append(phase_result)
         return RunResult(phases=tuple(results), failure=failure, seed=self.options.seed,
-                         extra={"cycles_simulated": self.cycles, "examples_run": self.examples_run})
+                         extra={"cycles_simulated": self.cycles, "examples_run": self.examples_run,
+                                **{f"seconds_{k}": round(v, 4) for k, v in self.timing.items()}})
 
     # -- replay --------------------------------------------------------------------------------
 

@@ -1,0 +1,212 @@
+"""Benchmark: property-phase throughput of ``memcheck check`` against a plain Verilog testbench.
+
+On a 1K x 32 single-port wrapper (bench/rtl/sp1k) the property phase runs with its stimulus and
+capture files recorded. A plain, self-checking Verilog testbench then plays exactly the same cycles
+(every stimulus word of every batch, restore and flush cycles included) through the same wrapper in
+the same Icarus, in one run, comparing each cycle's read data with a reference array. Printed:
+
+* operations per second of the plain testbench;
+* operations per second of memcheck counting only simulator time (stimulus file, the cocotb round
+  trip, the simulated cycles, the capture file) - the part the generated harness is responsible for;
+* operations per second of the whole property phase (Hypothesis generation and shrinking, the
+  reference model, the simulator);
+* the ratios. Target: the harness within 2x of the plain testbench.
+
+"Operations" are the example operations (non-idle port operations Hypothesis generated); both sides
+are timed on the same cycles, so the ratio compares the same work.
+
+With ``--wall`` it also runs a default ``memcheck check`` (build included, fresh output folder) on
+every rtl_examples wrapper and prints verdict, minimal trace length and wall time.
+
+    .venv/bin/python bench/bench_check.py [--examples N] [--max-blocks B] [--wall]
+"""
+
+from __future__ import annotations
+
+import argparse
+import re
+import shutil
+import subprocess
+import sys
+import tempfile
+import time
+import tomllib
+from pathlib import Path
+
+from memcheck.contract import load_contract
+from memcheck.sim.build import build
+from memcheck.sim.engine import RunOptions
+from memcheck.sim.launch import run_job
+
+HERE = Path(__file__).resolve().parent
+ROOT = HERE.parent
+CONTRACT = HERE / "rtl" / "sp1k" / "contract.toml"
+
+PLAIN_TB = """`timescale 1ns/1ps
+module plain_tb;
+  localparam integer N = {n};
+  reg [43:0] stim [0:N-1];
+  reg [31:0] ref_value [0:N-1];
+  reg [31:0] ref_known [0:N-1];
+  reg clk = 0; reg en = 0; reg we = 0; reg [9:0] addr = 0; reg [31:0] wdata = 0;
+  wire [31:0] rdata;
+  integer i; integer errors = 0;
+  sp1k_wrap dut(.clk(clk), .en(en), .we(we), .addr(addr), .wdata(wdata), .rdata(rdata));
+  initial begin
+    $readmemh("stim.hex", stim);
+    $readmemh("ref_value.hex", ref_value);
+    $readmemh("ref_known.hex", ref_known);
+    for (i = 0; i < N; i = i + 1) begin
+      #1 {{wdata, addr, we, en}} = stim[i];
+      #4 clk = 0;
+      #4 if (((rdata ^ ref_value[i]) & ref_known[i]) !== 32'b0) errors = errors + 1;
+      #1 clk = 1;
+    end
+    $display("cycles %0d errors %0d", N, errors);
+    $finish;
+  end
+endmodule
+"""
+
+
+def _run_vvp(folder: Path, n: int) -> float:
+    """Compile and run the plain testbench over the first ``n`` recorded cycles; wall seconds of vvp."""
+    (folder / "plain_tb.v").write_text(PLAIN_TB.format(n=max(n, 1)))
+    vvp = folder / f"plain_{n}.vvp"
+    subprocess.run(["iverilog", "-g2012", "-o", str(vvp), str(folder / "plain_tb.v"),
+                    str(CONTRACT.parent / "sp1k_wrap.v")], check=True, cwd=folder)
+    t0 = time.perf_counter()
+    out = subprocess.run(["vvp", "-n", str(vvp), "-none"], check=True, cwd=folder, capture_output=True,
+                         text=True).stdout
+    seconds = time.perf_counter() - t0
+    m = re.search(r"cycles (\d+) errors (\d+)", out)
+    assert m and int(m.group(2)) == 0, out
+    return seconds
+
+
+def plain_testbench(record: Path) -> tuple[int, float]:
+    """Cycles played and vvp seconds (start-up subtracted) for the recorded stimulus."""
+    stim = [ln for ln in (record / "stim.hex").read_text().split() if ln]
+    caps = [ln for ln in re.sub(r"//[^\n]*", "", (record / "cap.bin").read_text()).split() if ln]
+    assert len(stim) == len(caps)
+    # The contract's stimulus layout for this wrapper: en, we, addr[9:0], wdata[31:0] from bit 0.
+    (record / "stim.hex").write_text("\n".join(stim) + "\n")
+    (record / "ref_value.hex").write_text("\n".join(f"{int(c.replace('x', '0').replace('z', '0'), 2):x}"
+                                                     for c in caps) + "\n")
+    (record / "ref_known.hex").write_text("\n".join(
+        f"{int(''.join('1' if ch in '01' else '0' for ch in c), 2):x}" for c in caps) + "\n")
+    full = _run_vvp(record, len(stim))
+    empty = _run_vvp(record, 1)
+    return len(stim), max(full - empty, 1e-9)
+
+
+def property_run(examples: int, max_blocks: int, seed: int) -> tuple[dict[str, float], Path]:
+    contract = load_contract(CONTRACT)
+    work = Path(tempfile.mkdtemp(prefix="memcheck-bench-"))
+    b = build(contract, work / "build")
+    record = work / "record"
+    record.mkdir()
+    opts = RunOptions(phases=("property",), examples=examples, seed=seed, max_blocks=max_blocks)
+    t0 = time.perf_counter()
+    res = run_job(b, {"mode": "check", "options": opts.to_json(), "record": str(record)}, work / "run")
+    wall = time.perf_counter() - t0
+    assert res.failure is None, "the benchmark wrapper should conform"
+    phase = res.phases[0]
+    stats = {"ops": float(phase.operations), "phase_seconds": phase.seconds, "wall": wall,
+             **{k: float(v) for k, v in res.extra.items()}}
+    return stats, record
+
+
+def bench_property(examples: int, max_blocks: int, seed: int) -> None:
+    stats, record = property_run(examples, max_blocks, seed)
+    cycles, plain_s = plain_testbench(record)
+    ops = stats["ops"]
+    sim_s = stats["seconds_batches"]
+    phase_s = stats["phase_seconds"]
+    print(f"property phase, 1K x 32 single port: {examples} examples, up to {max_blocks} blocks each, seed {seed}")
+    print(f"  example operations          {int(ops):>10}")
+    print(f"  cycles simulated            {cycles:>10}  (examples + restore/flush + canonical fill)")
+    print(f"  simulator batches           {int(stats['batches']):>10}")
+    print(f"  plain Verilog testbench     {ops / plain_s:>10.0f} ops/s  ({plain_s:.3f} s, same cycles, one run)")
+    print(f"  memcheck, simulator time    {ops / sim_s:>10.0f} ops/s  ({sim_s:.3f} s)   "
+          f"ratio {sim_s / plain_s:.2f}x")
+    print(f"  memcheck, whole phase       {ops / phase_s:>10.0f} ops/s  ({phase_s:.3f} s)   "
+          f"ratio {phase_s / plain_s:.2f}x")
+    other = phase_s - stats["seconds_example_rtl"] - stats["seconds_example_model"]
+    print(f"    of which: RTL runs {stats['seconds_example_rtl']:.2f} s, model and comparison "
+          f"{stats['seconds_example_model']:.2f} s, Hypothesis generation/shrinking {other:.2f} s")
+    shutil.rmtree(record.parent, ignore_errors=True)
+
+
+def bench_long_batches(cycles: int, seed: int) -> None:
+    """The harness on long batches: a random trace of ``cycles`` cycles replayed through the same
+    stimulus/capture path (batches of up to 8192 cycles), against the plain testbench."""
+    import random
+
+    from memcheck.ops import IDLE, Trace, read, write
+    from memcheck.sim.checker import CheckedTrace
+    from memcheck.sim.result import Failure
+
+    rng = random.Random(seed)
+    ops = []
+    for _ in range(cycles):
+        r = rng.random()
+        a = rng.randrange(1024)
+        ops.append((write(a, rng.getrandbits(32)),) if r < 0.45 else (read(a),) if r < 0.9 else (IDLE,))
+    trace = Trace.of(ops)
+    contract = load_contract(CONTRACT)
+    work = Path(tempfile.mkdtemp(prefix="memcheck-bench-"))
+    b = build(contract, work / "build")
+    record = work / "record"
+    record.mkdir()
+    failure = Failure("bench", (), CheckedTrace("unknown", ()), full_trace=trace)
+    res = run_job(b, {"mode": "replay", "options": RunOptions().to_json(), "failure": failure.to_json(),
+                      "record": str(record)}, work / "run")
+    n_ops = trace.operation_count()
+    sim_s = float(res.extra["seconds_batches"])
+    _, plain_s = plain_testbench(record)
+    print(f"long batches: one random trace of {cycles} cycles ({n_ops} operations), "
+          f"{int(res.extra['batches'])} batches")
+    print(f"  plain Verilog testbench     {n_ops / plain_s:>10.0f} ops/s  ({plain_s:.3f} s)")
+    print(f"  memcheck harness            {n_ops / sim_s:>10.0f} ops/s  ({sim_s:.3f} s)   ratio {sim_s / plain_s:.2f}x")
+    shutil.rmtree(work, ignore_errors=True)
+
+
+def bench_examples_wall() -> None:
+    index = tomllib.loads((ROOT / "rtl_examples" / "index.toml").read_text())["example"]
+    print("\ndefault `memcheck check` (build included) on each rtl_examples wrapper:")
+    for ex in index:
+        out = Path(tempfile.mkdtemp(prefix="memcheck-wall-"))
+        t0 = time.perf_counter()
+        proc = subprocess.run([sys.executable, "-m", "memcheck", "check", str(ROOT / "rtl_examples" / ex["contract"]),
+                               "--seed", "1", "--out", str(out), "--quiet", "--json", str(out / "r.json")],
+                              capture_output=True, text=True)
+        wall = time.perf_counter() - t0
+        import json
+
+        rep = json.loads((out / "r.json").read_text())
+        mt = rep.get("minimal_trace") or {}
+        trace = f"{mt.get('cycles')} cycles" if mt else ""
+        ok = "ok" if rep["verdict"] == ex["expect"] else "UNEXPECTED"
+        print(f"  {ex['name']:30s} expect {ex['expect']:4s} got {rep['verdict']:4s} {ok:10s} {wall:6.1f} s  {trace}"
+              f"  (exit {proc.returncode})")
+        shutil.rmtree(out, ignore_errors=True)
+
+
+def main() -> None:
+    ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
+    ap.add_argument("--examples", type=int, default=300)
+    ap.add_argument("--max-blocks", type=int, default=12)
+    ap.add_argument("--seed", type=int, default=1)
+    ap.add_argument("--long-cycles", type=int, default=100_000, help="cycles of the long-batch measurement")
+    ap.add_argument("--wall", action="store_true", help="also time a default check of every rtl_examples wrapper")
+    args = ap.parse_args()
+    bench_property(args.examples, args.max_blocks, args.seed)
+    print()
+    bench_long_batches(args.long_cycles, args.seed)
+    if args.wall:
+        bench_examples_wall()
+
+
+if __name__ == "__main__":
+    main()
