@@ -113,6 +113,20 @@ def explain(contract: Contract, checked: CheckedTrace) -> Explanation | None:
                            f"The read of address {addr:#x} was issued at cycle {issue_cycle}. {timing}".strip(),
                            "read data")
     wc, q, w = last
+    # A disabled port with this address on its pins in between: it must not have written.
+    for r in rows:
+        if not wc < r.cycle < issue_cycle + (1 if lat == 0 else 0):
+            continue
+        for q2, o in enumerate(r.ops):
+            if (o.kind == "idle" and o.address == addr and contract.ports[q2].can_write
+                    and (o.address or o.data or o.lanes is not None)
+                    and obs is not None and not (obs.value ^ o.data) & diff):
+                rule = ("Enables: with its enable deasserted a port must do nothing, whatever its other pins "
+                        "carry; the read returns the data that was on a disabled port's pins.")
+                return Explanation(first.cycle, port.name, prefix + rule,
+                                   f"At cycle {r.cycle} port {contract.ports[q2].name} was disabled with address "
+                                   f"{o.address:#x} and data {o.data:#x} on its pins (write enable asserted); "
+                                   f"address {addr:#x} was last written at cycle {wc}. {timing}".strip(), "enable")
     same_edge = [(q2, o) for q2, o in enumerate(by_cycle[wc].ops) if o.kind == "write" and o.address == addr]
     if len(same_edge) > 1 and m.write_collision == "first":
         q1 = same_edge[0][0]

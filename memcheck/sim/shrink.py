@@ -76,8 +76,8 @@ def simplify_values(cycles: Sequence[Cycle], fails: Callable[[list[Cycle]], bool
     for a in sorted(used - {0}):
         if any(op.address == 0 and op.kind != "idle" for c in current for op in c):
             break
-        cand = [tuple(replace(op, address=0) if op.kind != "idle" and op.address == a else op for op in c)
-                for c in current]
+        # Rename the address everywhere, disabled ports' pins included (they may matter to the bug).
+        cand = [tuple(replace(op, address=0) if op.address == a else op for op in c) for c in current]
         if fails(cand):
             current = cand
     for k in range(len(current)):
