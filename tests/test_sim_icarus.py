@@ -285,3 +285,32 @@ def test_replay_of_a_damaged_file_is_a_clear_error(tmp_path: Path, capsys) -> No
     bad.write_text('{"format": "something else"}')
     rc, _, err = _cli(["replay", str(bad)], capsys)
     assert rc == 2 and "not a memcheck replay file" in err
+
+
+def test_check_contract_from_inside_a_users_cocotb_test(tmp_path: Path, build_cache: Path) -> None:
+    """The Python API also works from a user's own cocotb test (it runs its own simulator)."""
+    from cocotb_tools.runner import get_runner
+
+    (tmp_path / "user_top.v").write_text("module user_top(input clk); endmodule\n")
+    (tmp_path / "user_checks.py").write_text(f"""
+import cocotb
+from pathlib import Path
+from memcheck.sim import check_contract
+
+@cocotb.test()
+async def wrapper_conforms(dut):
+    res = await cocotb.task.bridge(check_contract)({str(SP / "contract.toml")!r}, examples=10, seed=1,
+                                                   out_dir=Path({str(tmp_path / "mc")!r}),
+                                                   build_dir=Path({str(build_cache)!r}))
+    Path({str(tmp_path / "verdict.txt")!r}).write_text(res.verdict)
+    assert res.passed, res.summary()
+""")
+    runner = get_runner("icarus")
+    runner.build(sources=[tmp_path / "user_top.v"], hdl_toplevel="user_top", build_dir=tmp_path / "b",
+                 log_file=tmp_path / "build.log")
+    import sys
+
+    runner.test(test_module="user_checks", hdl_toplevel="user_top", build_dir=tmp_path / "b", test_dir=tmp_path,
+                results_xml=str(tmp_path / "results.xml"), log_file=tmp_path / "test.log",
+                extra_env={"PYTHONPATH": ":".join([str(tmp_path), *sys.path])})
+    assert (tmp_path / "verdict.txt").read_text() == "pass"

@@ -85,6 +85,10 @@ def run_check(contract_file: str, *, examples: int, seed: int | None, json_file:
         with _progress(interactive, "checking") as update:
             result = check_contract(contract_file, opts, on_progress=update)
     except MemcheckError as exc:
+        ctx = click.get_current_context(silent=True)
+        sim_tb = getattr(exc, "sim_traceback", "")
+        if sim_tb and ctx is not None and (ctx.find_root().obj or {}).get("debug"):
+            _echo(f"traceback in the simulation:\n{sim_tb}", err=True)
         if json_file or junit_file:
             rep = error_dict(contract_file, str(exc), seed)
             if json_file:

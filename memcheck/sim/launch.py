@@ -83,6 +83,10 @@ def run_job(build: Build, job: Mapping[str, Any], workdir: Path, *,
         "PYTEST_DISABLE_PLUGIN_AUTOLOAD": "1",
         "PYTHONHASHSEED": "0",
         "COCOTB_LOG_LEVEL": os.environ.get("MEMCHECK_COCOTB_LOG_LEVEL", "WARNING"),
+        # Called from inside a user's own cocotb run, the environment carries its test selection.
+        "COCOTB_TEST_FILTER": "memcheck_session$",
+        "COCOTB_TESTCASE": "",
+        "COCOTB_LIST_TESTS": "0",
     }
     log = workdir / "sim.log"
     try:
