@@ -49,6 +49,9 @@ class Watch:
     progress_file: Path
     stall_seconds: float
     on_progress: ProgressCallback | None = None
+    #: Allowance before the first progress record: starting Python inside the simulator can take
+    #: seconds on a loaded machine, which is not a stall.
+    startup_seconds: float = 60.0
     last: dict[str, Any] | None = None
     _offset: int = 0
     _partial: bytes = b""
@@ -96,9 +99,11 @@ class Watch:
                     if rc != 0:
                         raise CommandFailed(rc)
                     return
-                if time.monotonic() - last_change > self.stall_seconds:
+                limit = self.stall_seconds if self.last is not None else max(self.stall_seconds,
+                                                                             self.startup_seconds)
+                if time.monotonic() - last_change > limit:
                     _kill(proc)
-                    raise Stalled(self.stall_seconds, self.last)
+                    raise Stalled(limit, self.last)
         except BaseException:
             _kill(proc)
             raise
