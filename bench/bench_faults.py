@@ -24,8 +24,8 @@ from typing import TypeVar
 
 from memcheck.faults.coverage import CoverageReport, coverage
 from memcheck.faults.engine import simulate
-from memcheck.faults.naive import simulate_naive
 from memcheck.faults.geometry import SimSetup
+from memcheck.faults.naive import simulate_naive
 from memcheck.faults.universe import CLASSES, enumerate_class
 from memcheck.march.library import resolve_test
 

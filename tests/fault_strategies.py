@@ -6,6 +6,7 @@ from __future__ import annotations
 from hypothesis import strategies as st
 
 from memcheck.faults.engine import AF_VARIANTS
+from memcheck.faults.geometry import SimSetup
 from memcheck.faults.instances import (
     Cell,
     CellFault,
@@ -15,7 +16,6 @@ from memcheck.faults.instances import (
     StuckOpenFault,
 )
 from memcheck.faults.primitives import SINGLE_CELL_MODELS, TWO_CELL_MODELS
-from memcheck.faults.geometry import SimSetup
 from memcheck.march.notation import Delay, MarchElement, MarchOp, MarchTest
 
 

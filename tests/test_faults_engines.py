@@ -14,10 +14,10 @@ from hypothesis import strategies as st
 from memcheck.errors import FaultModelError
 from memcheck.faults.coverage import coverage
 from memcheck.faults.engine import simulate
+from memcheck.faults.geometry import SimSetup
 from memcheck.faults.instances import Cell, CellFault, CouplingFault, DecoderFault, StuckOpenFault
 from memcheck.faults.naive import simulate_naive
 from memcheck.faults.primitives import model_named
-from memcheck.faults.geometry import SimSetup
 from memcheck.faults.universe import CLASSES, enumerate_class, inversions_by_class
 from memcheck.march.library import resolve_test
 from memcheck.march.notation import parse_march

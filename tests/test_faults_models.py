@@ -11,6 +11,7 @@ from hypothesis import strategies as st
 
 from memcheck.errors import FaultModelError
 from memcheck.faults.coverage import coverage, wilson_interval
+from memcheck.faults.geometry import SimSetup
 from memcheck.faults.instances import Cell, CellFault, CouplingFault, DecoderFault, StuckOpenFault
 from memcheck.faults.primitives import (
     SINGLE_CELL_MODELS,
@@ -22,7 +23,6 @@ from memcheck.faults.primitives import (
     settle,
     victim_op,
 )
-from memcheck.faults.geometry import SimSetup
 from memcheck.faults.universe import (
     CLASSES,
     class_size,

@@ -14,8 +14,8 @@ from memcheck._atomic import write_text_atomic
 from memcheck.cli import cli
 from memcheck.errors import FaultModelError, MemcheckError
 from memcheck.faults.coverage import DISCLAIMER, CoverageReport, coverage
-from memcheck.faults.primitives import model_named
 from memcheck.faults.geometry import SimSetup
+from memcheck.faults.primitives import model_named
 from memcheck.faults.universe import CLASSES, DEFAULT_SEED, parse_classes, parse_universe
 from memcheck.march.orders import ORDER_KINDS, parse_layout
 

@@ -19,6 +19,7 @@ from memcheck.faults.coverage import (
     wilson_interval,
 )
 from memcheck.faults.engine import simulate
+from memcheck.faults.geometry import SimSetup
 from memcheck.faults.instances import (
     DECODER_KINDS,
     Cell,
@@ -44,7 +45,6 @@ from memcheck.faults.primitives import (
     model_named,
     models_of,
 )
-from memcheck.faults.geometry import SimSetup
 from memcheck.faults.universe import CLASSES, Universe, enumerate_class, parse_universe, sample_class
 
 __all__ = [

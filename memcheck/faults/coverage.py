@@ -31,6 +31,7 @@ from memcheck.faults.engine import (
     simulate,
     sof_detection,
 )
+from memcheck.faults.geometry import SimSetup
 from memcheck.faults.instances import (
     Cell,
     CellFault,
@@ -42,7 +43,6 @@ from memcheck.faults.instances import (
     Verdict,
 )
 from memcheck.faults.primitives import FaultModel, models_of
-from memcheck.faults.geometry import SimSetup
 from memcheck.faults.universe import (
     CLASSES,
     SCOPES,

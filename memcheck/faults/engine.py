@@ -24,6 +24,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import numpy.typing as npt
 
+from memcheck.faults.geometry import Resolved, SimSetup, Slot, check_consistent, schedule
 from memcheck.faults.instances import (
     Cell,
     CellFault,
@@ -39,7 +40,6 @@ from memcheck.faults.instances import (
     Witness,
 )
 from memcheck.faults.primitives import FaultModel, aggressor_op, pause, settle, victim_op
-from memcheck.faults.geometry import Resolved, SimSetup, Slot, check_consistent, schedule
 from memcheck.march.notation import MarchTest
 
 IntArray = npt.NDArray[np.int64]

@@ -15,6 +15,7 @@ from __future__ import annotations
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
 
+from memcheck.faults.geometry import SimSetup, check_consistent
 from memcheck.faults.instances import (
     Cell,
     CellFault,
@@ -28,7 +29,6 @@ from memcheck.faults.instances import (
     Witness,
 )
 from memcheck.faults.primitives import aggressor_op, pause, settle, victim_op
-from memcheck.faults.geometry import SimSetup, check_consistent
 from memcheck.march.expand import Pause, expand
 from memcheck.march.notation import MarchTest
 

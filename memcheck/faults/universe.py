@@ -29,6 +29,7 @@ import numpy.typing as npt
 
 from memcheck.errors import FaultModelError
 from memcheck.faults.engine import AF_VARIANTS, af_relation, cell_relation
+from memcheck.faults.geometry import Resolved, SimSetup
 from memcheck.faults.instances import (
     Cell,
     CellFault,
@@ -38,7 +39,6 @@ from memcheck.faults.instances import (
     StuckOpenFault,
 )
 from memcheck.faults.primitives import models_of
-from memcheck.faults.geometry import Resolved, SimSetup
 
 IntArray = npt.NDArray[np.int64]
 
