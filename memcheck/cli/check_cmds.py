@@ -68,7 +68,7 @@ def _parse_phases(text: str) -> tuple[str, ...]:
 def run_check(contract_file: str, *, examples: int, seed: int | None, json_file: str | None,
               junit_file: str | None, out_dir: str | None, phases: tuple[str, ...], march: str,
               backgrounds: str, stall_timeout: float, waveform: bool, quiet: bool,
-              show_report: bool = True) -> CheckResult:
+              sweep_ops: int = 2_000_000, show_report: bool = True) -> CheckResult:
     """The check command's work, shared with the demo; writes reports, errors included."""
     from memcheck.report import error_dict, render_report, write_json, write_junit, write_reports
     from memcheck.sim.api import CheckOptions, check_contract
@@ -80,7 +80,7 @@ def run_check(contract_file: str, *, examples: int, seed: int | None, json_file:
         _echo(f"memcheck check {contract_file}: seed {seed}, {examples} examples")
     opts = CheckOptions(examples=examples, seed=seed, phases=phases, march=march, backgrounds=backgrounds,
                         out_dir=Path(out_dir) if out_dir else None, stall_seconds=stall_timeout,
-                        waveform=waveform)
+                        waveform=waveform, sweep_max_ops=sweep_ops)
     try:
         with _progress(interactive, "checking") as update:
             result = check_contract(contract_file, opts, on_progress=update)
@@ -116,12 +116,14 @@ def run_check(contract_file: str, *, examples: int, seed: int | None, json_file:
 @click.option("--phases", default=",".join(_PHASES), show_default=True, help="Phases to run, comma separated.")
 @click.option("--march", default="March C-", show_default=True, help="March test of the sweep phase.")
 @click.option("--backgrounds", default="standard", show_default=True, help="Data backgrounds of the sweep.")
+@click.option("--sweep-ops", type=click.IntRange(min=0), default=2_000_000, show_default=True,
+              help="Skip the sweep when it would take more operations than this.")
 @click.option("--stall-timeout", type=click.FloatRange(min=0.5), default=30.0, show_default=True,
               help="Seconds without progress before the simulation is declared stalled.")
 @click.option("--no-waveform", is_flag=True, help="Do not write the waveform of a failing trace.")
 @click.option("--quiet", "-q", is_flag=True, help="Print only the summary.")
 def check(contract_file: str, examples: int, seed: int | None, json_file: str | None, junit_file: str | None,
-          out_dir: str | None, phases: str, march: str, backgrounds: str, stall_timeout: float,
+          out_dir: str | None, phases: str, march: str, backgrounds: str, sweep_ops: int, stall_timeout: float,
           no_waveform: bool, quiet: bool) -> int:
     """Prove the RTL named by CONTRACT_FILE against the contract under Icarus Verilog.
 
@@ -131,7 +133,7 @@ def check(contract_file: str, examples: int, seed: int | None, json_file: str | 
     """
     result = run_check(contract_file, examples=examples, seed=seed, json_file=json_file, junit_file=junit_file,
                        out_dir=out_dir, phases=_parse_phases(phases), march=march, backgrounds=backgrounds,
-                       stall_timeout=stall_timeout, waveform=not no_waveform, quiet=quiet)
+                       stall_timeout=stall_timeout, waveform=not no_waveform, quiet=quiet, sweep_ops=sweep_ops)
     return EXIT_OK if result.passed else EXIT_FAIL
 
 

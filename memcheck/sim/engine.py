@@ -307,6 +307,8 @@ class Engine:
         t0 = time.perf_counter()
         c = self.contract
         n = self.options.examples
+        if n < 1:
+            return PhaseResult("property", "skipped", detail="no examples asked for (--examples 0)"), None
         stats = {"examples": 0, "ops": 0, "cycles": 0}
         self.where = {"phase": "property", "what": "examples", "total": n, "done": 0}
 
