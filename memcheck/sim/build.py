@@ -29,7 +29,7 @@ from memcheck.sim.layout import Layout
 from memcheck.sim.pins import PinCheck, check_pins, read_ports
 
 #: Bump when the harness or build steps change, so old build folders are not reused.
-BUILD_FORMAT = 3
+BUILD_FORMAT = 4
 TIMESCALE = ("1ns", "1ps")
 _MAX_ERROR_LINES = 40
 

@@ -29,7 +29,8 @@ def _decl(kind: str, name: str, width: int) -> str:
 
 
 def _sig(pin: str) -> str:
-    return f"mc_{pin}"
+    # Pin signals get their own prefix so no pin name can clash with the harness's mc_* signals.
+    return f"pin_{pin}"
 
 
 def _param_value(value: int | str) -> str:
