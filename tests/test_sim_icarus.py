@@ -314,3 +314,13 @@ async def wrapper_conforms(dut):
                 results_xml=str(tmp_path / "results.xml"), log_file=tmp_path / "test.log",
                 extra_env={"PYTHONPATH": ":".join([str(tmp_path), *sys.path])})
     assert (tmp_path / "verdict.txt").read_text() == "pass"
+
+
+def test_replay_after_a_fix_says_the_trace_now_conforms(tmp_path: Path, capsys, build_cache: Path) -> None:  # type: ignore[no-untyped-def]
+    c = sp_contract(tmp_path, bug=1)
+    res = check_contract(c, examples=10, seed=3, out_dir=tmp_path / "o", build_dir=build_cache, waveform=False)
+    assert res.verdict == "fail" and res.replay_file is not None
+    c.write_text(c.read_text().replace("BUG = 1", "BUG = 0"))  # the "fix"
+    rc, out, _ = _cli(["replay", str(res.replay_file), "--no-waveform"], capsys)
+    assert rc == 0
+    assert "now conforms" in out and "contract file changed" in out
