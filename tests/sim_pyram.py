@@ -14,7 +14,7 @@ from memcheck.contract import Contract
 from memcheck.sim.layout import Observed
 from memcheck.sim.sequences import Segment
 
-BUGS = ("none", "swap_lanes", "stale_bypass", "late_data", "no_lane_mask")
+BUGS = ("none", "swap_lanes", "stale_bypass", "late_data", "no_lane_mask", "decay")
 
 
 def contract(words: int = 16, width: int = 8, lane_width: int = 4) -> Contract:
@@ -38,6 +38,8 @@ class PyRam:
         self.prev: tuple[int, int] = (0, 0)
         self.bypass: tuple[int, int] | None = None  # (address, data) of the last full write
         self.batches = 0
+        self.now = 0
+        self.written_at: dict[int, int] = {}  # "decay": a word not rewritten for 12 cycles loses bit 0
 
     def _bits(self, lanes: int | None) -> int:
         m = self.c.memory
@@ -57,6 +59,8 @@ class PyRam:
                 word = self.mem[address]
                 if self.bug == "stale_bypass" and self.bypass is not None and self.bypass[0] == address:
                     word = self.bypass[1]
+                if self.bug == "decay" and self.now - self.written_at.get(address, self.now) > 12:
+                    word ^= 1
                 new_rdata = (word, self.mask)
             else:
                 new_rdata = (0, 0)
@@ -64,6 +68,7 @@ class PyRam:
             bits = self._bits(lanes)
             old = self.mem.get(address, 0)
             self.mem[address] = (old & ~bits) | (data & bits)
+            self.written_at[address] = self.now
             if bits == self.mask:
                 self.bypass = (address, data)
         self.prev = self.rdata
@@ -79,6 +84,7 @@ class PyRam:
                 out.append((Observed(shown[0], shown[1]),))
                 op = cyc[0]
                 self._edge(op.kind, op.address, op.data, op.lanes)
+                self.now += 1
                 if s.reset:
                     self.rdata = (0, 0)
         return out

@@ -116,3 +116,20 @@ def test_ddmin_finds_a_one_minimal_failing_subset() -> None:
         return need <= {c[0].address for c in xs}
 
     assert [c[0].address for c in ddmin(items, fails)] == [1, 7, 8]
+
+
+def test_a_sweep_failure_that_needs_history_is_reported_from_the_start_and_replays(
+        monkeypatch: pytest.MonkeyPatch) -> None:
+    """A word that loses a bit when it is not rewritten for a while fails the March sweep, but no short
+    window fails on its own: the report keeps the sweep from its start, and a replay reruns it."""
+    import memcheck.sim.engine as engine_mod
+
+    monkeypatch.setattr(engine_mod, "_WINDOW_MAX", 4)
+    res = _engine("decay", RunOptions(examples=5, seed=1, phases=("smoke", "sweep"))).run()
+    f = res.failure
+    assert f is not None and f.phase == "sweep"
+    assert f.preamble[:1] == ("smoke",) and len(f.trace) > 16
+    assert "does not fail as a short independent example" in f.note
+    c = contract()
+    again = Engine(c, PyRam(c, "decay"), FAST).replay(Failure.from_json(json.loads(json.dumps(f.to_json()))))
+    assert again.signature() == f.checked.signature()
