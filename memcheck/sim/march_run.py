@@ -1,0 +1,732 @@
+"""Run one March test alone on wrapper RTL and report its first failing operation.
+
+``memcheck check`` runs a March test as one phase among others and shrinks what it finds; a DFT
+engineer choosing the algorithm a BIST controller will run wants the test itself, in the order,
+backgrounds and layout of their choice, and the first operation that fails, named the way March
+tests are written: element and its notation, operation within the element, address, background.
+
+How a run works:
+
+* :func:`plan_cycles` lays the expanded stream (:func:`memcheck.march.expand`) out as clock cycles:
+  one operation per cycle, back to back, through one writing and one reading port (the same
+  readwrite port by default); every other port is quiet. A delay element (``Del``) becomes
+  ``pause_cycles`` quiet cycles; ``read_latency`` quiet cycles at the end let the last read's data
+  come out.
+* The cycles run in one fresh simulator through the generated harness, batch by batch (no Python per
+  cycle), after the contract's reset sequence if it has one; the build folder is shared with
+  ``memcheck check``. The run goes through the replay job of :mod:`memcheck.sim.launch`, which also
+  compares every cycle with the reference model (:class:`memcheck.model.Model`) from power-up (or
+  right after reset), so contract semantics apply: latency, lanes, ``initial``, ``idle_read_data``.
+* :func:`first_failure` compares each read's data with the March expectation too (the background or
+  its complement), for addresses the run has already written; before that only the contract model
+  judges a read (it knows the initial contents only when the contract promises them). For a correct
+  memory the two agree; the report says which one failed.
+
+The replay file and waveform hold the run up to the first failing cycle; ``memcheck replay`` re-runs
+them and checks the contract model (not the March expectation). Verdicts cover the modelled
+behaviour on the operations driven, nothing more: not sign-off.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import random
+import shutil
+import time
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import TYPE_CHECKING, Any, Literal
+
+import numpy as np
+import numpy.typing as npt
+
+from memcheck.contract import Contract, load_contract
+from memcheck.errors import FaultModelError, InvalidOperation, MemcheckError, NotationError
+from memcheck.march.backgrounds import limbs_to_int
+from memcheck.march.expand import OP_WRITE, MarchStep, MarchStream, Pause, expand
+from memcheck.march.library import resolve_test
+from memcheck.march.notation import MarchTest
+from memcheck.ops import Cycle, Expected, PortOp, Trace
+from memcheck.sim.checker import CheckedTrace, ModelStart, compare, start_model
+from memcheck.sim.launch import DEFAULT_STALL_SECONDS
+from memcheck.sim.layout import Observed
+from memcheck.sim.result import Failure
+from memcheck.strategies import drain_cycle
+
+if TYPE_CHECKING:
+    from memcheck.sim.icarus import ProgressCallback
+
+#: Quiet cycles a delay element (``Del``) becomes on RTL unless told otherwise.
+DEFAULT_PAUSE_CYCLES = 100
+#: Largest stream a run accepts unless told otherwise: every cycle's comparison row comes back from
+#: the simulator as one record, so memory grows with the stream (about 3 KB per cycle).
+DEFAULT_MAX_OPS = 500_000
+#: Longest run up to the failure that also gets a waveform (VCD grows with every cycle dumped).
+WAVE_MAX_CYCLES = 200_000
+#: Cycles shown in the report's table, ending at the failing one.
+WINDOW = 12
+#: Extra stall allowance per cycle: the simulation side compares every cycle with the model after
+#: the last batch, without progress records, before it reports back.
+_STALL_PER_CYCLE = 50e-6
+_PHASE = "march"
+
+Activity = Literal["read", "write", "idle"]
+IntArray = npt.NDArray[np.int64]
+
+
+@dataclass(frozen=True)
+class MarchRunOptions:
+    """How to run a March test on RTL. ``seed`` only matters for ``order="lfsr"`` (None: a fresh
+    one, reported); ``port`` is ``"NAME"`` (a port that reads and writes) or ``"WRITER,READER"``."""
+
+    order: str = "linear"
+    backgrounds: str = "standard"
+    layout: tuple[int, int] | None = None
+    any_order: str = "up"
+    seed: int | None = None
+    port: str | None = None
+    pause_cycles: int = DEFAULT_PAUSE_CYCLES
+    max_ops: int = DEFAULT_MAX_OPS
+    out_dir: Path | None = None
+    build_dir: Path | None = None
+    stall_seconds: float = DEFAULT_STALL_SECONDS
+    waveform: bool = True
+
+
+# -- ports ---------------------------------------------------------------------------------
+
+
+def choose_ports(contract: Contract, spec: str | None = None) -> tuple[int, int]:
+    """(writer index, reader index) for ``spec``: ``None`` picks the first port that reads and
+    writes, else the first writing and the first reading port; ``"NAME"`` must read and write;
+    ``"W,R"`` writes through W and reads through R. Raises InvalidOperation naming the problem."""
+    ports = contract.ports
+    names = ", ".join(f"{p.name} ({p.role})" for p in ports)
+
+    def find(name: str) -> int:
+        for i, p in enumerate(ports):
+            if p.name == name:
+                return i
+        raise InvalidOperation(f"the contract has no port {name!r}; its ports are: {names}.")
+
+    if spec is None or not spec.strip():
+        both = [i for i, p in enumerate(ports) if p.can_read and p.can_write]
+        if both:
+            return both[0], both[0]
+        writers = [i for i, p in enumerate(ports) if p.can_write]
+        readers = [i for i, p in enumerate(ports) if p.can_read]
+        if not writers or not readers:
+            lack = "writes" if not writers else "reads"
+            raise InvalidOperation(f"a March test needs a port that writes and one that reads, but no port "
+                                   f"of this contract {lack}; its ports are: {names}.")
+        return writers[0], readers[0]
+    parts = [s.strip() for s in spec.split(",")]
+    if len(parts) == 1:
+        i = find(parts[0])
+        p = ports[i]
+        if not (p.can_read and p.can_write):
+            other = "write" if p.can_read else "read"
+            raise InvalidOperation(
+                f"port {p.name!r} is a {p.role} port and cannot {other}, but a March test both writes and "
+                f"reads; name a writing and a reading port as --port WRITER,READER (ports: {names}).")
+        return i, i
+    if len(parts) != 2 or not all(parts):
+        raise InvalidOperation(f"--port takes NAME or WRITER,READER, not {spec!r} (ports: {names}).")
+    w, r = find(parts[0]), find(parts[1])
+    if not ports[w].can_write:
+        raise InvalidOperation(f"port {ports[w].name!r} is a {ports[w].role} port and cannot write "
+                               f"(ports: {names}).")
+    if not ports[r].can_read:
+        raise InvalidOperation(f"port {ports[r].name!r} is a {ports[r].role} port and cannot read "
+                               f"(ports: {names}).")
+    return w, r
+
+
+# -- the stream as cycles ------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class PauseSpan:
+    """The quiet cycles ``start`` .. ``stop - 1`` that stand for one delay element."""
+
+    start: int
+    stop: int
+    pause: Pause
+
+
+@dataclass(frozen=True, eq=False)
+class MarchProgram:
+    """A March stream laid out as clock cycles for one contract.
+
+    ``op_cycle[i]`` is the cycle that issues stream operation ``i``; ``cycle_op[k]`` the operation
+    cycle ``k`` issues (-1: a quiet cycle). ``read_ops``, ``read_expected`` and ``read_checked`` list
+    every read in stream order: its operation index, the March expectation and whether the run had
+    written the address before (only then is the March expectation compared).
+    """
+
+    stream: MarchStream
+    cycles: tuple[Cycle, ...]
+    writer: int
+    reader: int
+    pause_cycles: int
+    op_cycle: IntArray
+    cycle_op: IntArray
+    read_ops: IntArray
+    read_expected: tuple[int, ...]
+    read_checked: npt.NDArray[np.bool_]
+    pauses: tuple[PauseSpan, ...]
+
+    @property
+    def operations(self) -> int:
+        return int(self.op_cycle.shape[0])
+
+    def step(self, index: int) -> MarchStep:
+        """Stream operation ``index`` as a MarchStep (for reports)."""
+        for ch in self.stream.chunks():
+            if ch.start <= index < ch.start + len(ch):
+                i = index - ch.start
+                addr = int(ch.address[i])
+                if ch.op[i] == OP_WRITE:
+                    return MarchStep(index, ch.element, int(ch.step[i]), ch.background,
+                                     PortOp("write", addr, limbs_to_int(ch.data[i])), None)
+                return MarchStep(index, ch.element, int(ch.step[i]), ch.background, PortOp("read", addr),
+                                 limbs_to_int(ch.expected[i]))
+        raise IndexError(index)
+
+    def pause_at(self, cycle: int) -> PauseSpan | None:
+        for p in self.pauses:
+            if p.start <= cycle < p.stop:
+                return p
+        return None
+
+    def last_op_before(self, cycle: int) -> int | None:
+        """The last operation issued at or before ``cycle`` (None before the first)."""
+        k = int(np.searchsorted(self.op_cycle, cycle, side="right")) - 1
+        return k if k >= 0 else None
+
+
+def plan_cycles(contract: Contract, stream: MarchStream, writer: int, reader: int,
+                pause_cycles: int = DEFAULT_PAUSE_CYCLES) -> MarchProgram:
+    """Lay ``stream`` out as cycles: one operation per cycle, back to back (see module doc)."""
+    m = contract.memory
+    if stream.words != m.words or stream.width != m.width:
+        raise NotationError(f"the stream is for {stream.words} x {stream.width} but the contract's memory is "
+                            f"{m.words} x {m.width}")
+    quiet = drain_cycle(contract)
+    cycles: list[Cycle] = []
+    n = stream.total_ops
+    op_cycle = np.empty(n, dtype=np.int64)
+    read_ops: list[int] = []
+    read_expected: list[int] = []
+    read_checked: list[bool] = []
+    pauses: list[PauseSpan] = []
+    written = np.zeros(m.words, dtype=bool)
+    for item in stream:
+        if isinstance(item, Pause):
+            start = len(cycles)
+            cycles.extend(quiet for _ in range(pause_cycles))
+            pauses.append(PauseSpan(start, len(cycles), item))
+            continue
+        base = len(cycles)
+        k = len(item)
+        op_cycle[item.start:item.start + k] = np.arange(base, base + k)
+        for i in range(k):
+            cyc = list(quiet)
+            addr = int(item.address[i])
+            if item.op[i] == OP_WRITE:
+                cyc[writer] = PortOp("write", addr, limbs_to_int(item.data[i]))
+                written[addr] = True
+            else:
+                cyc[reader] = PortOp("read", addr)
+                read_ops.append(item.start + i)
+                read_expected.append(limbs_to_int(item.expected[i]))
+                read_checked.append(bool(written[addr]))
+            cycles.append(tuple(cyc))
+    cycles.extend(quiet for _ in range(m.read_latency))
+    cycle_op = np.full(len(cycles), -1, dtype=np.int64)
+    cycle_op[op_cycle] = np.arange(n, dtype=np.int64)
+    return MarchProgram(stream, tuple(cycles), writer, reader, pause_cycles, op_cycle, cycle_op,
+                        np.array(read_ops, dtype=np.int64), tuple(read_expected),
+                        np.array(read_checked, dtype=bool), tuple(pauses))
+
+
+# -- the first failure -------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class MarchFailure:
+    """The first cycle whose read data failed, and the March operation it belongs to.
+
+    ``cycle`` is the cycle whose sampled read data failed on ``port``; ``issued_cycle`` = cycle -
+    read_latency is when the port issued what that data answers. ``activity`` says what the port
+    did then: a March ``read`` (``step`` is it), a March ``write`` (read data during a write,
+    ``read_during_write``) or ``idle`` (``step`` is the last operation issued before, if any).
+    ``model_diff`` and ``march_diff`` are the bits that differ from the contract model and from the
+    March expectation (``march_expected`` is None where the March expectation does not apply).
+    """
+
+    cycle: int
+    port: str
+    issued_cycle: int
+    activity: Activity
+    step: MarchStep | None
+    description: str
+    march_expected: int | None
+    model_expected: Expected
+    got: Observed
+    march_diff: int
+    model_diff: int
+    window: CheckedTrace
+
+    @property
+    def failed_checks(self) -> tuple[str, ...]:
+        """Which comparisons failed: "contract model", "March expectation", or both."""
+        out = []
+        if self.model_diff:
+            out.append("contract model")
+        if self.march_diff:
+            out.append("March expectation")
+        return tuple(out)
+
+    @property
+    def diff(self) -> int:
+        return self.model_diff | self.march_diff
+
+    def to_json(self, width: int) -> dict[str, Any]:
+        s = self.step
+        return {
+            "cycle": self.cycle,
+            "issued_cycle": self.issued_cycle,
+            "port": self.port,
+            "activity": self.activity,
+            "description": self.description,
+            "element": None if s is None else s.element,
+            "operation": None if s is None else s.step + 1,
+            "operation_index": None if s is None else s.index,
+            "address": None if s is None else s.op.address,
+            "background": None if s is None else s.background,
+            "failed": list(self.failed_checks),
+            "march_expected": None if self.march_expected is None else _hex(self.march_expected, width),
+            "model_expected": _hex_known(self.model_expected.value, self.model_expected.known, width),
+            "got": _hex_known(self.got.value, self.got.defined, width),
+            "differing_bits": [b for b in range(width) if self.diff >> b & 1],
+            "march_diff": hex(self.march_diff),
+            "model_diff": hex(self.model_diff),
+        }
+
+
+def _hex(value: int, width: int) -> str:
+    return f"{value:0{(width + 3) // 4}x}"
+
+
+def _hex_known(value: int, known: int, width: int) -> str:
+    from memcheck.report.text import hex_known
+
+    return hex_known(value, known, width)
+
+
+def _activity(program: MarchProgram, port: int, issued: int) -> tuple[Activity, int | None]:
+    """What port ``port`` did at cycle ``issued``, and the March operation for the report."""
+    if 0 <= issued < len(program.cycle_op):
+        op = int(program.cycle_op[issued])
+        if op >= 0:
+            kind = program.cycles[issued][port].kind
+            if kind in ("read", "write") and port in (program.writer, program.reader):
+                return ("read" if kind == "read" else "write"), op
+    return "idle", program.last_op_before(issued)
+
+
+def _describe(program: MarchProgram, contract: Contract, port: int, cycle: int, issued: int,
+              activity: Activity, op: int | None) -> tuple[MarchStep | None, str]:
+    stream = program.stream
+    lat = contract.memory.read_latency
+    pname = contract.ports[port].name
+    step = program.step(op) if op is not None else None
+    where = "" if step is None else stream.describe_step(dataclasses.replace(step, expected=None))
+    due = "" if lat == 0 else f", data due at cycle {cycle} (read_latency = {lat})"
+    if activity == "read":
+        return step, f"{where}; the read was issued at cycle {issued} on port {pname}{due}"
+    if activity == "write":
+        return step, (f"{where}; port {pname} wrote at cycle {issued}: its read data in a cycle that writes "
+                      f"(read_during_write){due}")
+    span = program.pause_at(issued)
+    if span is not None:
+        el = span.pause.element
+        text = (f"port {pname} idle during the pause of element {el} "
+                f"{stream.test.elements[el].to_unicode()} ({program.pause_cycles} quiet cycles, "
+                f"background {stream.backgrounds[span.pause.background].name}) at cycle {issued}{due}")
+    elif issued < 0:
+        text = f"port {pname} read data at cycle {cycle}, before the first operation"
+    else:
+        text = f"port {pname} issued no read at cycle {issued} (idle_read_data){due}"
+    if step is not None:
+        text += f"; the last operation before: {where}"
+    return step, text
+
+
+def first_failure(contract: Contract, program: MarchProgram, checked: CheckedTrace) -> MarchFailure | None:
+    """The first cycle where read data differs from the contract model or the March expectation.
+
+    ``checked`` holds the model comparison of every cycle of ``program`` (from the simulator, or from
+    a Python stand-in in tests)."""
+    rows = checked.rows
+    if len(rows) != len(program.cycles):
+        raise ValueError(f"{len(rows)} compared cycles for a program of {len(program.cycles)}")
+    m = contract.memory
+    mask = m.word_mask
+    lat = m.read_latency
+    r = program.reader
+    model_first = checked.first_mismatch
+    march_first: tuple[int, int, int] | None = None  # (due cycle, diff, read number)
+    read_cycles = program.op_cycle[program.read_ops] + lat if len(program.read_ops) else np.zeros(0, np.int64)
+    for j in np.flatnonzero(program.read_checked):
+        due = int(read_cycles[j])
+        if model_first is not None and due > model_first:
+            break
+        obs = rows[due].observed[r]
+        assert obs is not None
+        d = mask & ((obs.value ^ program.read_expected[j]) | ~obs.defined)
+        if d:
+            march_first = (due, d, int(j))
+            break
+    if model_first is None and march_first is None:
+        return None
+    cycle = min(x for x in (model_first, None if march_first is None else march_first[0]) if x is not None)
+    row = rows[cycle]
+    march_diff = 0
+    march_expected = None
+    if march_first is not None and march_first[0] == cycle:
+        port = r
+        march_diff = march_first[1]
+        march_expected = program.read_expected[march_first[2]]
+    else:
+        port = r if row.diff[r] else next(i for i, d in enumerate(row.diff) if d)
+    issued = cycle - lat
+    activity, op = _activity(program, port, issued)
+    if march_expected is None and activity == "read" and port == r and op is not None:
+        jr = int(np.searchsorted(program.read_ops, op))
+        if program.read_checked[jr]:
+            march_expected = program.read_expected[jr]
+    step, text = _describe(program, contract, port, cycle, issued, activity, op)
+    obs = row.observed[port]
+    assert obs is not None
+    window = CheckedTrace(checked.start if cycle < WINDOW else "unknown", rows[max(0, cycle - WINDOW + 1):cycle + 1])
+    return MarchFailure(cycle, contract.ports[port].name, issued, activity, step, text, march_expected,
+                        row.expected[port], obs, march_diff, row.diff[port], window)
+
+
+# -- the run -------------------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class MarchRunResult:
+    """The outcome of one March test on a contract's RTL."""
+
+    verdict: Literal["pass", "fail"]
+    contract: Contract
+    contract_path: Path | None
+    test: MarchTest
+    test_name: str
+    order: str
+    any_order: str
+    seed: int | None
+    layout: tuple[int, int] | None
+    backgrounds: tuple[str, ...]
+    writer: str
+    reader: str
+    pause_cycles: int
+    operations: int
+    cycles: int
+    failure: MarchFailure | None = None
+    seconds: float = 0.0
+    build_seconds: float = 0.0
+    out_dir: Path | None = None
+    replay_file: Path | None = None
+    waveform_file: Path | None = None
+    reproduced: bool | None = None
+    notes: tuple[str, ...] = ()
+    unconnected_inputs: tuple[str, ...] = ()
+    extra: dict[str, object] = field(default_factory=dict)
+
+    @property
+    def passed(self) -> bool:
+        return self.verdict == "pass"
+
+    @property
+    def unchecked(self) -> list[str]:
+        return self.contract.unchecked_behaviours()
+
+    @property
+    def ports_text(self) -> str:
+        return f"port {self.writer}" if self.writer == self.reader else \
+            f"write port {self.writer}, read port {self.reader}"
+
+    def headline(self) -> str:
+        m = self.contract.memory
+        name = str(self.contract_path) if self.contract_path else "contract"
+        order = self.order + (f" (seed {self.seed})" if self.seed is not None else "")
+        lay = f", layout {self.layout[0]}x{self.layout[1]}" if self.layout else ""
+        return (f"{name}: {self.test_name} {self.test.to_unicode()}\n"
+                f"{m.words} words x {m.width} bits{lay}, order {order}, backgrounds {', '.join(self.backgrounds)}, "
+                f"{self.ports_text}; {self.operations} operations in {self.cycles} cycles")
+
+    def summary(self) -> str:
+        """A few lines: what ran, the verdict and the first failing operation."""
+        lines = [self.headline()]
+        if self.failure is None:
+            lines.append("PASS: every read matched the contract model and the March expectation")
+        else:
+            f = self.failure
+            lines.append(f"FAIL at cycle {f.cycle}: {f.description}")
+            lines.append(f"failed: {' and '.join(f.failed_checks)}")
+        lines.append(f"{self.seconds:.1f} s (build {self.build_seconds:.1f} s)")
+        return "\n".join(lines)
+
+    def render(self) -> str:
+        """The whole text report."""
+        from memcheck.report.text import DISCLAIMER, render_failure
+
+        parts = [self.summary()]
+        f = self.failure
+        if f is not None:
+            parts.append(_value_lines(f, self.contract.memory.width))
+            parts.append(render_failure(self.contract, f.window))
+            files = []
+            if self.replay_file is not None:
+                files.append(f"replay file (the run up to cycle {f.cycle}): {self.replay_file}; "
+                             f"re-run with: memcheck replay {self.replay_file}")
+            if self.waveform_file is not None:
+                files.append(f"waveform: {self.waveform_file}")
+            if files:
+                parts.append("\n".join(files))
+        if self.notes:
+            parts.append("\n".join(f"note: {n}" for n in self.notes))
+        if self.unchecked:
+            parts.append("Not checked, because the contract leaves them unknown:\n"
+                         + "\n".join(f"  - {u}" for u in self.unchecked))
+        if self.unconnected_inputs:
+            parts.append("Inputs of the top module that the contract does not name were left unconnected: "
+                         + ", ".join(self.unconnected_inputs))
+        parts.append(DISCLAIMER)
+        return "\n\n".join(parts)
+
+    def to_json(self) -> dict[str, Any]:
+        from memcheck import __version__
+        from memcheck.report.text import DISCLAIMER
+
+        m = self.contract.memory
+        return {
+            "verdict": self.verdict,
+            "tool": "memcheck",
+            "version": __version__,
+            "contract": None if self.contract_path is None else str(self.contract_path),
+            "test": {"name": self.test_name, "notation": self.test.to_unicode(), "ascii": self.test.to_ascii(),
+                     "length": self.test.length},
+            "words": m.words,
+            "width": m.width,
+            "layout": None if self.layout is None else list(self.layout),
+            "order": self.order,
+            "any_order": self.any_order,
+            "seed": self.seed,
+            "backgrounds": list(self.backgrounds),
+            "write_port": self.writer,
+            "read_port": self.reader,
+            "pause_cycles": self.pause_cycles,
+            "operations": self.operations,
+            "cycles": self.cycles,
+            "seconds": round(self.seconds, 3),
+            "build_seconds": round(self.build_seconds, 3),
+            "first_failure": None if self.failure is None else self.failure.to_json(m.width),
+            "replay_file": None if self.replay_file is None else str(self.replay_file),
+            "waveform": None if self.waveform_file is None else str(self.waveform_file),
+            "reproduced_by_replay": self.reproduced,
+            "unchecked": self.unchecked,
+            "notes": list(self.notes),
+            "error": None,
+            "note": DISCLAIMER,
+        }
+
+
+def _marks(diff: int, width: int) -> str:
+    from memcheck.report.text import binary_known
+
+    # binary_known groups by 8 with spaces; a 'known' pattern of the diff renders 1s where bits differ.
+    return binary_known(diff, (1 << width) - 1, width).replace("0", " ").replace("1", "^").rstrip()
+
+
+def _value_lines(f: MarchFailure, width: int) -> str:
+    """Expected and got, in hex and (up to 64 bits) in binary with the differing bits marked."""
+    from memcheck.report.text import binary_known, hex_known
+
+    full = (1 << width) - 1
+    rows: list[tuple[str, int, int]] = []
+    if f.march_expected is not None:
+        rows.append(("March expects", f.march_expected, full))
+    rows.append(("model expects", f.model_expected.value, f.model_expected.known))
+    rows.append(("got", f.got.value, f.got.defined))
+    pad = max(len(label) for label, _, _ in rows)
+    out = [f"  {label:<{pad}}  {hex_known(v, k, width)}" for label, v, k in rows]
+    if width <= 64:
+        out.append("")
+        out += [f"  {label:<{pad}}  {binary_known(v, k, width)}" for label, v, k in rows]
+        out.append(f"  {'differs':<{pad}}  {_marks(f.diff, width)}")
+    else:
+        bits = [b for b in range(width - 1, -1, -1) if f.diff >> b & 1]
+        out.append(f"  differing bits: {', '.join(map(str, bits[:32]))}" + (" ..." if len(bits) > 32 else ""))
+    notes: dict[tuple[str, ...], str] = {
+        ("contract model",): "The March expectation holds here (or does not apply: the address was not "
+                             "written yet); the contract model does not.",
+        ("March expectation",): "The contract model accepts these bits (it does not promise them); the "
+                                "March expectation does not.",
+    }
+    note = notes.get(f.failed_checks)
+    return "\n".join(out + ([note] if note else []))
+
+
+def _resolve_contract(contract: Contract | str | Path) -> tuple[Contract, Path | None]:
+    if isinstance(contract, Contract):
+        return contract, contract.path
+    return load_contract(contract), Path(contract)
+
+
+def prepare(contract: Contract, test: MarchTest | str, opts: MarchRunOptions) -> tuple[MarchProgram, str, int | None]:
+    """Check the request and lay the test out as cycles: (program, test name, seed used).
+
+    Everything a user can get wrong (notation, order, backgrounds, layout, ports, budget) is caught
+    here, before anything is compiled."""
+    t = resolve_test(test) if isinstance(test, str) else test
+    m = contract.memory
+    writer, reader = choose_ports(contract, opts.port)
+    if isinstance(opts.pause_cycles, bool) or not isinstance(opts.pause_cycles, int) or opts.pause_cycles < 0:
+        raise MemcheckError(f"pause_cycles = {opts.pause_cycles!r}; allowed: 0 or more quiet cycles per delay.")
+    if isinstance(opts.max_ops, bool) or not isinstance(opts.max_ops, int) or opts.max_ops < 1:
+        raise MemcheckError(f"max_ops = {opts.max_ops!r}; allowed: 1 or more.")
+    seed = opts.seed
+    if opts.order == "lfsr" and seed is None:
+        seed = random.SystemRandom().randrange(1 << 32)
+    stream = expand(t, m.words, m.width, layout=opts.layout, order=opts.order, backgrounds=opts.backgrounds,
+                    any_order=opts.any_order, seed=seed if opts.order == "lfsr" else None)
+    try:
+        from memcheck.faults.geometry import check_consistent
+
+        check_consistent(t, len(stream.backgrounds))
+    except FaultModelError as exc:
+        raise NotationError(f"a correct memory fails this test, so it cannot judge RTL: {exc}.") from None
+    if stream.total_ops > opts.max_ops:
+        raise MemcheckError(
+            f"{t.name or 'the test'} is {stream.total_ops} operations here ({t.length} x {m.words} words x "
+            f"{len(stream.backgrounds)} backgrounds), more than the limit of {opts.max_ops}; raise it with "
+            "--max-ops (memory grows by about 3 KB per operation) or use fewer backgrounds.")
+    program = plan_cycles(contract, stream, writer, reader, opts.pause_cycles)
+    return program, t.name or "custom test", seed if opts.order == "lfsr" else None
+
+
+def run_march(contract: Contract | str | Path, test: MarchTest | str, options: MarchRunOptions | None = None,
+              *, on_progress: ProgressCallback | None = None, **overrides: Any) -> MarchRunResult:
+    """Run ``test`` (library name, notation or MarchTest) alone on the contract's RTL under Icarus.
+
+    Returns a :class:`MarchRunResult`: verdict "pass", or "fail" with ``failure`` naming the first
+    failing operation. Bad input (notation, algorithm, order, backgrounds, layout, ports, contract,
+    RTL that does not compile, a stalled simulation) raises a MemcheckError subclass. Keyword
+    ``overrides`` set :class:`MarchRunOptions` fields (``backgrounds="solid", port="a"``).
+    """
+    from memcheck.sim.api import default_out_dir
+    from memcheck.sim.build import build
+    from memcheck.sim.engine import RunOptions
+    from memcheck.sim.launch import run_job
+
+    try:
+        opts = dataclasses.replace(options or MarchRunOptions(), **overrides)
+    except TypeError as exc:
+        allowed = ", ".join(f.name for f in dataclasses.fields(MarchRunOptions))
+        raise MemcheckError(f"unknown option for run_march ({exc}); allowed: {allowed}.") from None
+    t0 = time.perf_counter()
+    c, path = _resolve_contract(contract)
+    program, name, seed = prepare(c, test, opts)
+    base = default_out_dir(c, path)
+    out = Path(opts.out_dir) if opts.out_dir is not None else base / "march"
+    cache = Path(opts.build_dir) if opts.build_dir is not None else (
+        out / "build" if opts.out_dir is not None else base / "build")
+
+    b = build(c, cache)
+    build_seconds = time.perf_counter() - t0
+    start: ModelStart = "reset" if c.reset is not None else "power-up"
+    preamble = ("reset",) if c.reset is not None else ()
+    cycles = program.cycles
+    stall = opts.stall_seconds + _STALL_PER_CYCLE * len(cycles)
+    run_opts = RunOptions(phases=(), examples=0, seed=seed or 0)
+    whole = Failure(_PHASE, preamble, CheckedTrace(start, ()), "March run", Trace(cycles))
+    res = run_job(b, {"mode": "replay", "options": run_opts.to_json(), "failure": whole.to_json(), "dump": False},
+                  out / "run", stall_seconds=stall, on_progress=on_progress)
+    assert res.replayed is not None
+    failure = first_failure(c, program, res.replayed)
+
+    replay_path = wave = None
+    reproduced = None
+    notes: list[str] = []
+    if program.pauses:
+        notes.append(f"each delay element ran as {program.pause_cycles} quiet cycles; RTL simulation has no "
+                     "charge leakage, so this checks that the contents survive idle cycles, not retention")
+    if failure is not None:
+        k = failure.cycle
+        prefix = CheckedTrace(start, res.replayed.rows[:k + 1])
+        recorded = Failure(_PHASE, preamble, prefix, f"{name} on RTL up to its first failing cycle ({k})")
+        if path is not None:
+            from memcheck.sim.replayfile import ReplayFile, file_digest
+
+            replay_path = ReplayFile(path, recorded, seed or 0, file_digest(path)).write(out / "replay.json")
+        if not failure.model_diff:
+            notes.append("the contract model accepts the failing read, so the replay file (which checks the "
+                         "contract model) shows no difference there")
+        if opts.waveform and k + 1 <= WAVE_MAX_CYCLES:
+            from memcheck.sim.harness import WAVE_FILE
+
+            work = out / "replay"
+            again = run_job(b, {"mode": "replay", "options": run_opts.to_json(), "failure": recorded.to_json(),
+                                "dump": True}, work, stall_seconds=opts.stall_seconds + _STALL_PER_CYCLE * (k + 1),
+                            on_progress=on_progress, vcd=True)
+            if again.replayed is not None and failure.model_diff:
+                reproduced = again.replayed.signature() == prefix.signature()
+            if (work / WAVE_FILE).is_file():
+                wave = out / WAVE_FILE
+                shutil.copyfile(work / WAVE_FILE, wave)
+        elif opts.waveform:
+            notes.append(f"no waveform: the run up to the failure is {k + 1} cycles (more than {WAVE_MAX_CYCLES}); "
+                         "memcheck replay on the replay file writes one")
+    return MarchRunResult(
+        verdict="fail" if failure is not None else "pass",
+        contract=c,
+        contract_path=path,
+        test=program.stream.test,
+        test_name=name,
+        order=opts.order,
+        any_order=opts.any_order,
+        seed=seed,
+        layout=program.stream.layout,
+        backgrounds=tuple(bg.name for bg in program.stream.backgrounds),
+        writer=c.ports[program.writer].name,
+        reader=c.ports[program.reader].name,
+        pause_cycles=program.pause_cycles,
+        operations=program.operations,
+        cycles=len(cycles),
+        failure=failure,
+        seconds=time.perf_counter() - t0,
+        build_seconds=build_seconds,
+        out_dir=out,
+        replay_file=replay_path,
+        waveform_file=wave,
+        reproduced=reproduced,
+        notes=tuple(notes),
+        unconnected_inputs=b.pins.unconnected_inputs,
+        extra=dict(res.extra),
+    )
+
+
+def check_program(contract: Contract, program: MarchProgram, observed: Sequence[tuple[Observed | None, ...]],
+                  ) -> MarchFailure | None:
+    """:func:`first_failure` for observations from anywhere (a Python stand-in of the RTL, a log):
+    runs the model over the program from power-up, or right after reset, and compares."""
+    start: ModelStart = "reset" if contract.reset is not None else "power-up"
+    expected = start_model(contract, start).run(program.cycles)
+    return first_failure(contract, program, compare(expected, observed, program.cycles, start))
