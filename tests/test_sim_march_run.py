@@ -207,9 +207,10 @@ def test_idle_read_data_failure_names_the_pause() -> None:
     p = program_for(c, "{any(w1); up(r1); del; any(r1)}", backgrounds="solid", pause_cycles=3)
     f = check_program(c, p, stand_in(p.cycles, clear_when_idle=True))
     # The first idle edge (cycle 32, first pause cycle) clears the held read data; it shows at cycle 33.
-    assert f is not None and f.activity == "idle"
+    assert f is not None and f.activity == "quiet"
     assert (f.issued_cycle, f.cycle) == (32, 33)
-    assert "pause of element 2 Del (3 quiet cycles" in f.description
+    assert "issued no read (idle_read_data) at cycle 32, during the pause of element 2 Del (3 quiet cycles" \
+        in f.description
     assert f.step is not None and f.step.index == 31  # the last operation before: r1 at address 15
     assert f.failed_checks == ("contract model",)
 
@@ -370,6 +371,26 @@ def test_bank_bug_fails_march_c_minus_at_its_final_read_element(tmp_path: Path, 
     # The replay file holds the run up to the failing cycle and shows the same mismatch again.
     assert main(["replay", str(out / "replay.json"), "--no-waveform", "--out", str(tmp_path / "re")]) == 1
     assert "Reproduced" in capsys.readouterr().out
+
+
+@pytest.mark.icarus
+def test_quiet_reads_of_a_port_without_enable_are_checked_too(tmp_path: Path, builds: Path) -> None:
+    # line_buffer: write port wr, read port rd without an enable (it reads address 0 whenever the test
+    # does not use it), read latency 2, collision = "old". The seeded bug forwards the word being
+    # written to a same-address read. Element 0 writes cycles 0..639; element 1 ⇑(r0,w1) reads 0 at
+    # cycle 640 and writes 1s to address 0 at cycle 641, while rd reads address 0: that read must
+    # return the old word (0), due two cycles later, at cycle 643. The March expectation does not
+    # apply to it; only the contract model judges it.
+    r = run_march(EXAMPLES / "line_buffer_bypass_bug" / "contract.toml", MARCH_C_MINUS, backgrounds="solid",
+                  out_dir=tmp_path / "out", build_dir=builds, waveform=False)
+    f = r.failure
+    assert f is not None and f.step is not None
+    assert (f.port, f.activity, f.issued_cycle, f.cycle) == ("rd", "quiet", 641, 643)
+    assert (f.step.element, f.step.step, f.step.op.kind, f.step.op.address) == (1, 1, "write", 0)
+    assert f.failed_checks == ("contract model",) and f.march_expected is None
+    assert f.got == Observed((1 << 30) - 1, (1 << 30) - 1) and f.model_expected.value == 0
+    assert "read address 0 (a port without an enable" in f.description
+    assert 'collision = "old"' in r.render()
 
 
 @pytest.mark.icarus

@@ -60,7 +60,7 @@ if TYPE_CHECKING:
 #: Quiet cycles a delay element (``Del``) becomes on RTL unless told otherwise.
 DEFAULT_PAUSE_CYCLES = 100
 #: Largest stream a run accepts unless told otherwise: every cycle's comparison row comes back from
-#: the simulator as one record, so memory grows with the stream (about 3 KB per cycle).
+#: the simulator as one record, so memory grows with the stream (about 3 KB per cycle in each process).
 DEFAULT_MAX_OPS = 500_000
 #: Longest run up to the failure that also gets a waveform (VCD grows with every cycle dumped).
 WAVE_MAX_CYCLES = 200_000
@@ -71,7 +71,7 @@ WINDOW = 12
 _STALL_PER_CYCLE = 50e-6
 _PHASE = "march"
 
-Activity = Literal["read", "write", "idle"]
+Activity = Literal["read", "write", "quiet"]
 IntArray = npt.NDArray[np.int64]
 
 
@@ -261,7 +261,9 @@ class MarchFailure:
     ``cycle`` is the cycle whose sampled read data failed on ``port``; ``issued_cycle`` = cycle -
     read_latency is when the port issued what that data answers. ``activity`` says what the port
     did then: a March ``read`` (``step`` is it), a March ``write`` (read data during a write,
-    ``read_during_write``) or ``idle`` (``step`` is the last operation issued before, if any).
+    ``read_during_write``) or ``quiet``: nothing of the test's (idle, or a read of address 0 by a
+    port without an enable); ``step`` is then the operation another port did in that cycle, else the
+    last one before (None before the first).
     ``model_diff`` and ``march_diff`` are the bits that differ from the contract model and from the
     March expectation (``march_expected`` is None where the March expectation does not apply).
     """
@@ -327,14 +329,18 @@ def _hex_known(value: int, known: int, width: int) -> str:
 
 
 def _activity(program: MarchProgram, port: int, issued: int) -> tuple[Activity, int | None]:
-    """What port ``port`` did at cycle ``issued``, and the March operation for the report."""
+    """What port ``port`` did at cycle ``issued``: the March read or write it carried, or nothing of
+    the test's (``quiet``); with the March operation of that cycle, else the last one before."""
     if 0 <= issued < len(program.cycle_op):
         op = int(program.cycle_op[issued])
         if op >= 0:
             kind = program.cycles[issued][port].kind
-            if kind in ("read", "write") and port in (program.writer, program.reader):
-                return ("read" if kind == "read" else "write"), op
-    return "idle", program.last_op_before(issued)
+            is_write = any(o.kind == "write" for o in program.cycles[issued])
+            carrier = program.writer if is_write else program.reader
+            if port == carrier and kind in ("read", "write"):
+                return ("write" if kind == "write" else "read"), op
+            return "quiet", op
+    return "quiet", program.last_op_before(issued)
 
 
 def _describe(program: MarchProgram, contract: Contract, port: int, cycle: int, issued: int,
@@ -350,18 +356,22 @@ def _describe(program: MarchProgram, contract: Contract, port: int, cycle: int, 
     if activity == "write":
         return step, (f"{where}; port {pname} wrote at cycle {issued}: its read data in a cycle that writes "
                       f"(read_during_write){due}")
+    quiet_op = program.cycles[issued][port] if 0 <= issued < len(program.cycles) else None
+    doing = ("read address 0 (a port without an enable reads when the test does not use it)"
+             if quiet_op is not None and quiet_op.kind == "read" else "issued no read (idle_read_data)")
     span = program.pause_at(issued)
     if span is not None:
         el = span.pause.element
-        text = (f"port {pname} idle during the pause of element {el} "
+        text = (f"port {pname} {doing} at cycle {issued}, during the pause of element {el} "
                 f"{stream.test.elements[el].to_unicode()} ({program.pause_cycles} quiet cycles, "
-                f"background {stream.backgrounds[span.pause.background].name}) at cycle {issued}{due}")
+                f"background {stream.backgrounds[span.pause.background].name}){due}")
     elif issued < 0:
         text = f"port {pname} read data at cycle {cycle}, before the first operation"
     else:
-        text = f"port {pname} issued no read at cycle {issued} (idle_read_data){due}"
+        text = f"port {pname} {doing} at cycle {issued}{due}"
     if step is not None:
-        text += f"; the last operation before: {where}"
+        during = 0 <= issued < len(program.cycle_op) and program.cycle_op[issued] == step.index
+        text += f"; {'meanwhile' if during else 'the last operation before'}: {where}"
     return step, text
 
 
@@ -574,13 +584,13 @@ def _value_lines(f: MarchFailure, width: int) -> str:
     else:
         bits = [b for b in range(width - 1, -1, -1) if f.diff >> b & 1]
         out.append(f"  differing bits: {', '.join(map(str, bits[:32]))}" + (" ..." if len(bits) > 32 else ""))
-    notes: dict[tuple[str, ...], str] = {
-        ("contract model",): "The March expectation holds here (or does not apply: the address was not "
-                             "written yet); the contract model does not.",
-        ("March expectation",): "The contract model accepts these bits (it does not promise them); the "
-                                "March expectation does not.",
-    }
-    note = notes.get(f.failed_checks)
+    note = None
+    if f.failed_checks == ("contract model",):
+        note = ("The March expectation holds here; the contract model does not." if f.march_expected is not None
+                else "Only the contract model judges this read data (it does not answer a March read of an "
+                     "address the test had already written).")
+    elif f.failed_checks == ("March expectation",):
+        note = "The contract model accepts these bits (it does not promise them); the March expectation does not."
     return "\n".join(out + ([note] if note else []))
 
 
@@ -617,7 +627,8 @@ def prepare(contract: Contract, test: MarchTest | str, opts: MarchRunOptions) ->
         raise MemcheckError(
             f"{t.name or 'the test'} is {stream.total_ops} operations here ({t.length} x {m.words} words x "
             f"{len(stream.backgrounds)} backgrounds), more than the limit of {opts.max_ops}; raise it with "
-            "--max-ops (memory grows by about 3 KB per operation) or use fewer backgrounds.")
+            "--max-ops (memory grows by about 3 KB per operation, in memcheck and in the simulator) or use "
+            "fewer backgrounds.")
     program = plan_cycles(contract, stream, writer, reader, opts.pause_cycles)
     return program, t.name or "custom test", seed if opts.order == "lfsr" else None
 
