@@ -41,6 +41,7 @@ from typing import TYPE_CHECKING, Any, Literal
 import numpy as np
 import numpy.typing as npt
 
+from memcheck._atomic import open_atomic
 from memcheck.contract import Contract, load_contract
 from memcheck.errors import FaultModelError, InvalidOperation, MemcheckError, NotationError
 from memcheck.march.backgrounds import limbs_to_int
@@ -666,7 +667,7 @@ def run_march(contract: Contract | str | Path, test: MarchTest | str, options: M
     preamble = ("reset",) if c.reset is not None else ()
     cycles = program.cycles
     stall = opts.stall_seconds + _STALL_PER_CYCLE * len(cycles)
-    run_opts = RunOptions(phases=(), examples=0, seed=seed or 0)
+    run_opts = RunOptions(seed=seed or 0)
     whole = Failure(_PHASE, preamble, CheckedTrace(start, ()), "March run", Trace(cycles))
     res = run_job(b, {"mode": "replay", "options": run_opts.to_json(), "failure": whole.to_json(), "dump": False},
                   out / "run", stall_seconds=stall, on_progress=on_progress)
@@ -701,7 +702,8 @@ def run_march(contract: Contract | str | Path, test: MarchTest | str, options: M
                 reproduced = again.replayed.signature() == prefix.signature()
             if (work / WAVE_FILE).is_file():
                 wave = out / WAVE_FILE
-                shutil.copyfile(work / WAVE_FILE, wave)
+                with (work / WAVE_FILE).open("rb") as src, open_atomic(wave) as dst:
+                    shutil.copyfileobj(src, dst)
         elif opts.waveform:
             notes.append(f"no waveform: the run up to the failure is {k + 1} cycles (more than {WAVE_MAX_CYCLES}); "
                          "memcheck replay on the replay file writes one")
