@@ -230,12 +230,12 @@ class OpRef:
             return "power-up"
         bg = f", background {self.background}"
         if self.op < 0:
-            return f"the pause (element {self.element + 1}{bg})"
+            return f"the pause (element {self.element}{bg})"
         el = test.elements[self.element] if test is not None and self.element < len(test.elements) else None
         if isinstance(el, MarchElement) and self.op < len(el.ops):
-            return (f"{el.ops[self.op]} at word {self.word} (element {self.element + 1} {el.to_unicode()}, "
+            return (f"{el.ops[self.op]} at word {self.word} (element {self.element} {el.to_unicode()}, "
                     f"operation {self.op + 1}{bg})")
-        return f"operation {self.op + 1} of element {self.element + 1} at word {self.word}{bg}"
+        return f"operation {self.op + 1} of element {self.element} at word {self.word}{bg}"
 
 
 @dataclass(frozen=True, slots=True)
