@@ -143,7 +143,7 @@ def test_random_valid_contracts_load(doc: dict[str, Any]) -> None:
 
 _VALUES = st.one_of(
     st.integers(-5, 2000), st.booleans(), st.text(string.ascii_letters + '"', max_size=6),
-    st.lists(st.integers(0, 3), max_size=2), st.just({}), st.floats(allow_nan=False, allow_infinity=False),
+    st.lists(st.integers(0, 3), max_size=2), st.builds(dict), st.floats(allow_nan=False, allow_infinity=False),
 )
 
 
