@@ -4,7 +4,8 @@ They are built to find wrapper bugs rather than to be uniformly random: a trace 
 of "hot" addresses (0, the last word, powers of two and their neighbours, bank-boundary-like
 addresses, pairs one bit apart, addresses beyond ``words``), then a list of *blocks*: a random
 cycle, a write followed at once by a read of the same address, a read followed by a write, a
-cross-port collision, or a stretch of idle cycles with garbage on the disabled ports' pins.
+cross-port collision, or a stretch of idle cycles with garbage on the disabled ports' pins (garbage
+addresses from the same pool, so a wrapper that writes while deselected is caught by a later read).
 
 Everything shrinks toward the readable: fewer blocks (so fewer cycles), a pool of one address
 (address 0), zero data, all lanes enabled, and clean pins on idle ports.
@@ -13,6 +14,7 @@ Everything shrinks toward the readable: fewer blocks (so fewer cycles), a pool o
 from __future__ import annotations
 
 from collections.abc import Sequence
+from typing import Any
 
 from hypothesis import strategies as st
 
@@ -80,92 +82,113 @@ def lane_values(contract: Contract) -> st.SearchStrategy[int | None]:
     )
 
 
-def _garbage(contract: Contract) -> st.SearchStrategy[tuple[int, int, int | None]]:
-    m = contract.memory
-    limit = 1 << m.address_bits
-    lanes: st.SearchStrategy[int | None] = st.just(None) if m.lanes == 0 else st.integers(0, m.all_lanes)
-    return st.one_of(
-        st.just((0, 0, None)),
-        st.tuples(st.integers(0, limit - 1), st.integers(0, m.word_mask), lanes),
-    )
+# Operations are drawn as *raw* tuples that name addresses by their index in the trace's pool, so
+# that every strategy object is built once per contract (building Hypothesis strategies per draw
+# costs far more than drawing from them); :func:`_resolve` turns a raw operation into a PortOp.
+#   ("idle", None) clean pins | ("idle", (i, data, lanes)) garbage on the pins | ("read", i)
+#   | ("write", i, data, lanes)
+_Raw = tuple[Any, ...]
 
 
-def _rest(contract: Contract, port: PortSpec, pool: Sequence[int]) -> st.SearchStrategy[PortOp]:
-    """What a port does when it has nothing to do: idle (with garbage pins) or, without an enable, read."""
-    if port.can_idle:
-        return _garbage(contract).map(lambda g: PortOp("idle", g[0], g[1], g[2]))
-    return st.sampled_from(list(pool)).map(lambda a: PortOp("read", a))
+def _resolve(raw: _Raw, pool: Sequence[int]) -> PortOp:
+    kind = raw[0]
+    if kind == "idle":
+        if raw[1] is None:
+            return PortOp("idle")
+        i, data, lanes = raw[1]
+        return PortOp("idle", pool[i % len(pool)], data, lanes)
+    if kind == "read":
+        return PortOp("read", pool[raw[1] % len(pool)])
+    return PortOp("write", pool[raw[1] % len(pool)], raw[2], raw[3])
 
 
-def _write(contract: Contract, pool: Sequence[int], address: int | None = None) -> st.SearchStrategy[PortOp]:
-    addr = st.just(address) if address is not None else st.sampled_from(list(pool))
-    return st.builds(
-        lambda a, d, lanes: PortOp("write", a, d, lanes),
-        addr,
-        data_words(contract.memory.width),
-        lane_values(contract),
-    )
+class _Plan:
+    """The strategies for one contract, built once: raw operations, cycles and blocks."""
+
+    def __init__(self, contract: Contract, max_pool: int) -> None:
+        m = contract.memory
+        self.contract = contract
+        ports = contract.ports
+        self.index = st.integers(0, max(max_pool, 1) - 1)
+        self.data = data_words(m.width)
+        self.lanes = lane_values(contract)
+        garbage_lanes: st.SearchStrategy[int | None] = (
+            st.just(None) if m.lanes == 0 else st.integers(0, m.all_lanes))
+        # Garbage addresses come from the pool, so a wrapper that writes while deselected is caught by
+        # a read of the same address soon after.
+        garbage = st.one_of(st.just(None), st.tuples(self.index, self.data, garbage_lanes))
+        reads = self.index.map(lambda i: ("read", i))
+        self.rest = [garbage.map(lambda g: ("idle", g)) if p.can_idle else reads for p in ports]
+        self.writes = st.tuples(st.just("write"), self.index, self.data, self.lanes)
+        self.payload = st.tuples(self.data, self.lanes)
+        self.any_op = [st.one_of(*([self.rest[i]] if p.can_idle else []) + ([reads] if p.can_read else [])
+                                 + ([self.writes] if p.can_write else []))
+                       for i, p in enumerate(ports)]
+        self.cycle = st.tuples(*self.any_op)
+        self.rest_cycle = st.tuples(*self.rest)
+        writers = [i for i, p in enumerate(ports) if p.can_write]
+        readers = [i for i, p in enumerate(ports) if p.can_read]
+        kinds = ["cycle", "idle"]
+        if writers and readers:
+            kinds += ["write_then_read", "read_then_write"]
+            if any(r != w for r in readers for w in writers):
+                kinds.append("collision")
+        if len(writers) > 1:
+            kinds.append("write_collision")
+        self.kinds = st.sampled_from(kinds)
+        self.idle_len = st.integers(1, 8)
+        self.writer = st.sampled_from(writers) if writers else st.nothing()
+        self.reader = st.sampled_from(readers) if readers else st.nothing()
+        pairs = [(w, r) for w in writers for r in readers if w != r]
+        self.pair = st.sampled_from(pairs) if pairs else st.nothing()
+        self.two_writers = st.permutations(writers) if len(writers) > 1 else st.nothing()
+        self.block = _raw_block(self)
+
+
+@st.composite
+def _raw_block(draw: st.DrawFn, plan: _Plan) -> list[tuple[_Raw, ...]]:
+    kind = draw(plan.kinds)
+    if kind == "cycle":
+        return [draw(plan.cycle)]
+    if kind == "idle":
+        return [draw(plan.rest_cycle) for _ in range(draw(plan.idle_len))]
+    ai = draw(plan.index)
+
+    def write() -> _Raw:
+        data, lanes = draw(plan.payload)
+        return ("write", ai, data, lanes)
+
+    if kind in ("write_then_read", "read_then_write"):
+        w = draw(plan.writer)
+        r = draw(plan.reader)
+        wc = list(draw(plan.rest_cycle))
+        wc[w] = write()
+        rc = list(draw(plan.rest_cycle))
+        rc[r] = ("read", ai)
+        return [tuple(wc), tuple(rc)] if kind == "write_then_read" else [tuple(rc), tuple(wc)]
+    c = list(draw(plan.rest_cycle))
+    if kind == "collision":
+        w, r = draw(plan.pair)
+        c[w] = write()
+        c[r] = ("read", ai)
+    else:  # write_collision
+        for w in draw(plan.two_writers)[:2]:
+            c[w] = write()
+    return [tuple(c)]
 
 
 def port_ops(contract: Contract, port: PortSpec, pool: Sequence[int]) -> st.SearchStrategy[PortOp]:
     """Any operation this port can perform, addresses drawn from ``pool``."""
-    choices: list[st.SearchStrategy[PortOp]] = []
-    if port.can_idle:
-        choices.append(_rest(contract, port, pool))
-    if port.can_read:
-        choices.append(st.sampled_from(list(pool)).map(lambda a: PortOp("read", a)))
-    if port.can_write:
-        choices.append(_write(contract, pool))
-    return st.one_of(*choices)
+    plan = _Plan(contract, len(pool))
+    at = list(pool)
+    return plan.any_op[contract.ports.index(port)].map(lambda raw: _resolve(raw, at))
 
 
 def cycles(contract: Contract, pool: Sequence[int]) -> st.SearchStrategy[Cycle]:
     """One cycle: an operation on every port."""
-    return st.tuples(*(port_ops(contract, p, pool) for p in contract.ports))
-
-
-@st.composite
-def _block(draw: st.DrawFn, contract: Contract, pool: Sequence[int]) -> list[Cycle]:
-    ports = contract.ports
-    writers = [i for i, p in enumerate(ports) if p.can_write]
-    readers = [i for i, p in enumerate(ports) if p.can_read]
-    kinds = ["cycle", "idle"]
-    if writers and readers:
-        kinds += ["write_then_read", "read_then_write"]
-        if any(r != w for r in readers for w in writers):
-            kinds.append("collision")
-    if len(writers) > 1:
-        kinds.append("write_collision")
-    kind = draw(st.sampled_from(kinds))
-
-    def rest_cycle() -> list[PortOp]:
-        return [draw(_rest(contract, p, pool)) for p in ports]
-
-    if kind == "cycle":
-        return [draw(cycles(contract, pool))]
-    if kind == "idle":
-        n = draw(st.integers(1, 8))
-        return [tuple(rest_cycle()) for _ in range(n)]
-    addr = draw(st.sampled_from(list(pool)))
-    if kind in ("write_then_read", "read_then_write"):
-        w = draw(st.sampled_from(writers))
-        r = draw(st.sampled_from(readers))
-        wc = rest_cycle()
-        wc[w] = draw(_write(contract, pool, addr))
-        rc = rest_cycle()
-        rc[r] = PortOp("read", addr)
-        pair = [tuple(wc), tuple(rc)] if kind == "write_then_read" else [tuple(rc), tuple(wc)]
-        return pair
-    c = rest_cycle()
-    if kind == "collision":
-        w, r = draw(st.sampled_from([(w, r) for w in writers for r in readers if w != r]))
-        c[w] = draw(_write(contract, pool, addr))
-        c[r] = PortOp("read", addr)
-    else:  # write_collision
-        both = draw(st.permutations(writers))[:2]
-        for w in both:
-            c[w] = draw(_write(contract, pool, addr))
-    return [tuple(c)]
+    plan = _Plan(contract, len(pool))
+    at = list(pool)
+    return plan.cycle.map(lambda raw: tuple(_resolve(r, at) for r in raw))
 
 
 def drain_cycle(contract: Contract) -> Cycle:
@@ -173,24 +196,28 @@ def drain_cycle(contract: Contract) -> Cycle:
     return tuple(PortOp("idle") if p.can_idle else PortOp("read", 0) for p in contract.ports)
 
 
-@st.composite
 def traces(
-    draw: st.DrawFn,
     contract: Contract,
     *,
     min_blocks: int = 1,
     max_blocks: int = 12,
     max_pool: int = 4,
     drain: bool = True,
-) -> Trace:
+) -> st.SearchStrategy[Trace]:
     """A trace of blocks over a small pool of hot addresses.
 
     With ``drain`` the trace ends with ``read_latency`` quiet cycles, so the result of every read in
     it is observed within the trace.
     """
-    pool = draw(st.lists(addresses(contract), min_size=1, max_size=max_pool, unique=True))
-    blocks = draw(st.lists(_block(contract, pool), min_size=min_blocks, max_size=max_blocks))
-    out: list[Cycle] = [c for b in blocks for c in b]
-    if drain:
-        out.extend(drain_cycle(contract) for _ in range(contract.memory.read_latency))
-    return Trace(tuple(out))
+    plan = _Plan(contract, max_pool)
+    pools = st.lists(addresses(contract), min_size=1, max_size=max_pool, unique=True)
+    blocks = st.lists(plan.block, min_size=min_blocks, max_size=max_blocks)
+    tail = tuple(drain_cycle(contract) for _ in range(contract.memory.read_latency)) if drain else ()
+
+    @st.composite
+    def draw_trace(draw: st.DrawFn) -> Trace:
+        pool = draw(pools)
+        raw = [c for b in draw(blocks) for c in b]
+        return Trace(tuple(tuple(_resolve(r, pool) for r in c) for c in raw) + tail)
+
+    return draw_trace()

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+from dataclasses import replace
 
 import pytest
 
@@ -13,7 +14,7 @@ from memcheck.sim.sequences import fill_word, smoke_cycles
 from memcheck.sim.shrink import ddmin
 from tests.sim_pyram import PyRam, contract
 
-FAST = RunOptions(examples=40, seed=7)
+FAST = RunOptions(examples=40, seed=7, bulk_examples=3)
 
 
 def _engine(bug: str, options: RunOptions = FAST) -> Engine:
@@ -133,3 +134,65 @@ def test_a_sweep_failure_that_needs_history_is_reported_from_the_start_and_repla
     c = contract()
     again = Engine(c, PyRam(c, "decay"), FAST).replay(Failure.from_json(json.loads(json.dumps(f.to_json()))))
     assert again.signature() == f.checked.signature()
+
+
+# -- bulk examples --------------------------------------------------------------------------------
+
+BULK = RunOptions(examples=0, bulk_examples=20, seed=5, phases=("property",))
+
+
+@pytest.mark.parametrize("bug", ["swap_lanes", "stale_bypass", "late_data", "no_lane_mask"])
+def test_bulk_examples_alone_find_each_bug_and_shrink_it(bug: str) -> None:
+    res = _engine(bug, BULK).run()
+    f = res.failure
+    assert f is not None and f.phase == "property", bug
+    assert "bulk examples" in res.phases[0].detail
+    assert len(f.trace) <= 6 and f.preamble == EXAMPLE_PREAMBLE
+    # Hypothesis shrank within its budget of simulator runs, then delta debugging finished.
+    assert 0 < res.extra["bulk_shrink_runs"] <= BULK.bulk_shrink_runs
+    c = contract()
+    again = Engine(c, PyRam(c, bug), FAST).replay(Failure.from_json(json.loads(json.dumps(f.to_json()))))
+    assert again.signature() == f.checked.signature()
+
+
+def test_bulk_examples_run_thousands_of_operations_each_and_pass_a_conforming_wrapper() -> None:
+    res = _engine("none", RunOptions(examples=0, bulk_examples=4, seed=2, phases=("property",))).run()
+    assert res.failure is None
+    ran = res.extra["bulk_examples"]
+    assert 1 <= ran <= 4 and res.phases[0].operations == res.extra["bulk_operations"] > 2000 * ran
+
+
+def test_bulk_results_repeat_with_the_seed() -> None:
+    opts = replace(BULK, bulk_shrink_runs=10)
+    a = _engine("late_data", opts).run()
+    b = _engine("late_data", opts).run()
+    assert a.failure is not None and b.failure is not None
+    assert a.failure.trace == b.failure.trace
+
+
+def test_columns_and_cycle_paths_agree_on_the_stand_in() -> None:
+    """run_example (cycles, per-cycle objects) and run_example_columns (arrays) give the same verdict."""
+    from memcheck.model_fast import Columns
+
+    c = contract()
+    cycles = [(write(3, 0xA5, 1),), (read(3),), (PortOp("idle"),), (write(3, 0x5A),), (read(3),), (PortOp("idle"),)]
+    for bug in ("none", "swap_lanes", "late_data"):
+        eng = Engine(c, PyRam(c, bug), FAST)
+        rows = eng.run_example(cycles)
+        arr = eng.run_example_columns(Columns.from_cycles(c, cycles))
+        assert arr.checked().to_json() == rows.to_json()
+        assert arr.ok == rows.ok and arr.first_mismatch == rows.first_mismatch
+
+
+def test_vectorised_fill_and_restore_match_the_cycle_versions() -> None:
+    import numpy as np
+
+    from memcheck.model_fast import limbs_to_ints
+    from memcheck.sim.sequences import fill_words, flush_columns, flush_cycles, restore_columns, restore_cycles
+
+    for width in (1, 2, 8, 63, 64, 65, 1024):
+        a = np.arange(300)
+        assert limbs_to_ints(fill_words(width, a)) == [fill_word(width, int(x)) for x in a]
+    c = contract()
+    assert restore_columns(c, np.array([1, 4, 9])).to_cycles() == restore_cycles(c, [9, 1, 4])
+    assert flush_columns(c).to_cycles() == flush_cycles(c)

@@ -28,7 +28,8 @@ def cache(tmp_path_factory: pytest.TempPathFactory) -> Path:
 @pytest.mark.parametrize("ex", GOOD, ids=[e["name"] for e in GOOD])
 def test_conforming_example_passes(ex: dict[str, Any], tmp_path: Path, cache: Path) -> None:
     # A reduced property budget keeps the suite fast; bench/bench_check.py runs the default budget.
-    res = check_contract(ROOT / ex["contract"], examples=60, seed=1, out_dir=tmp_path, build_dir=cache)
+    res = check_contract(ROOT / ex["contract"], examples=60, bulk_examples=5, seed=1, out_dir=tmp_path,
+                         build_dir=cache)
     assert res.verdict == "pass", res.summary()
 
 
@@ -52,7 +53,7 @@ def test_index_lists_enough_examples() -> None:
 def test_demo_checks_a_good_and_a_buggy_wrapper(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
     from memcheck.cli import main
 
-    rc = main(["demo", "--examples", "20", "--out", str(tmp_path)])
+    rc = main(["demo", "--examples", "20", "--bulk-examples", "3", "--out", str(tmp_path)])
     out = capsys.readouterr().out
     assert rc == 0
     assert "conforms" in out and "DIFFERENCE FOUND" in out and "<<" in out and "memcheck replay" in out

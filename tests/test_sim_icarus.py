@@ -58,7 +58,8 @@ def buggy_result(tmp_path_factory: pytest.TempPathFactory, build_cache: Path):  
 
 
 def test_conforming_fixture_passes_all_phases(tmp_path: Path, build_cache: Path) -> None:
-    res = check_contract(SP / "contract.toml", examples=30, seed=1, out_dir=tmp_path, build_dir=build_cache)
+    res = check_contract(SP / "contract.toml", examples=30, bulk_examples=5, seed=1, out_dir=tmp_path,
+                         build_dir=build_cache)
     assert res.verdict == "pass", res.summary()
     assert [p.verdict for p in res.phases] == ["pass", "pass", "pass"]
     assert res.failure is None and res.replay_file is None
@@ -265,7 +266,8 @@ def test_cli_failure_writes_json_junit_replay_and_prints_the_table(tmp_path: Pat
 
 
 def test_cli_pass_exit_zero_and_json(tmp_path: Path, capsys) -> None:  # type: ignore[no-untyped-def]
-    rc, stdout, _ = _cli(["check", str(SP / "contract.toml"), "--examples", "10", "--seed", "9", "--out",
+    rc, stdout, _ = _cli(["check", str(SP / "contract.toml"), "--examples", "10", "--bulk-examples", "3",
+                          "--seed", "9", "--out",
                           str(tmp_path / "o"), "--json", str(tmp_path / "r.json"), "--phases", "smoke,property"],
                          capsys)
     assert rc == 0 and "conforms" in stdout
@@ -299,7 +301,8 @@ from memcheck.sim import check_contract
 
 @cocotb.test()
 async def wrapper_conforms(dut):
-    res = await cocotb.task.bridge(check_contract)({str(SP / "contract.toml")!r}, examples=10, seed=1,
+    res = await cocotb.task.bridge(check_contract)({str(SP / "contract.toml")!r}, examples=10, bulk_examples=2,
+                                                   seed=1,
                                                    out_dir=Path({str(tmp_path / "mc")!r}),
                                                    build_dir=Path({str(build_cache)!r}))
     Path({str(tmp_path / "verdict.txt")!r}).write_text(res.verdict)

@@ -3,13 +3,18 @@
 from __future__ import annotations
 
 import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 
-from memcheck.contract import parse_contract
+from memcheck.contract import Contract, parse_contract
 from memcheck.errors import InvalidOperation, SimulationError
+from memcheck.model_fast import Columns
 from memcheck.ops import PortOp, idle, read, write
 from memcheck.sim.harness import harness_text
 from memcheck.sim.layout import Layout, Observed
 from memcheck.sim.pins import TopPort, check_pins, read_ports
+from memcheck.strategies import traces
+from tests.contract_strategies import contracts
 
 CONTRACT = """
 [memory]
@@ -162,3 +167,41 @@ def test_harness_instantiates_the_top_with_parameters_and_every_pin() -> None:
         assert f".{pin}(" in text
     assert ".test_mode(" not in text
     assert "$readmemh" in text and "$writememb" in text
+
+
+# -- the vectorised stimulus and capture paths --------------------------------------------------
+
+
+@settings(max_examples=60, deadline=None, suppress_health_check=list(HealthCheck))
+@given(st.data(), contracts(max_words=40, max_width=130, max_ports=3), st.booleans())
+def test_vectorised_stimulus_matches_the_word_by_word_encoder(data: st.DataObject, contract: Contract,
+                                                             reset: bool) -> None:
+    widths = {p.address: contract.memory.address_bits + data.draw(st.integers(0, 3)) for p in contract.ports}
+    lay = Layout.build(contract, widths)
+    trace = data.draw(traces(contract, max_blocks=6))
+    cycles = list(trace.cycles)
+    fast = lay.stim_bytes(Columns.from_cycles(contract, cycles), reset).decode()
+    assert [int(w, 16) for w in fast.split()] == [lay.encode(c, reset) for c in cycles]
+    # every word has the same number of hex digits, as $readmemh reads them
+    assert len({len(w) for w in fast.split()}) <= 1
+
+
+@settings(max_examples=40, deadline=None)
+@given(st.lists(st.text("01xz", min_size=32, max_size=32), min_size=1, max_size=40), st.booleans())
+def test_vectorised_capture_matches_the_line_by_line_decoder(lines: list[str], spaced: bool) -> None:
+    lay = _layout()
+    # $writememb as Icarus writes it: a "// 0x..." line before every 16 words (optionally with spaces).
+    text = "".join((f"// 0x{i:08x}\n" if i % 16 == 0 else "") + ln + (" \n" if spaced else "\n")
+                   for i, ln in enumerate(lines)).encode()
+    value, defined = lay.decode_arrays(text, len(lines))
+    from memcheck.sim.engine import observations_from_arrays
+
+    assert observations_from_arrays(lay.contract, value, defined) == lay.decode(text, len(lines))
+    with pytest.raises(ValueError):
+        lay.decode_arrays(text, len(lines) + 1)
+
+
+def test_vectorised_stimulus_rejects_addresses_wider_than_the_pin() -> None:
+    lay = _layout()
+    with pytest.raises(InvalidOperation, match="does not fit"):
+        lay.stim_bytes(Columns.from_cycles(lay.contract, [(read(0), read(64))]))

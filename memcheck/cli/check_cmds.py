@@ -24,6 +24,7 @@ if TYPE_CHECKING:
 
 _PHASES = ("smoke", "sweep", "property")
 _DEFAULT_EXAMPLES = 300
+_DEFAULT_BULK = 50
 
 
 def _echo(text: str = "", *, err: bool = False) -> None:
@@ -68,7 +69,8 @@ def _parse_phases(text: str) -> tuple[str, ...]:
 def run_check(contract_file: str, *, examples: int, seed: int | None, json_file: str | None,
               junit_file: str | None, out_dir: str | None, phases: tuple[str, ...], march: str,
               backgrounds: str, stall_timeout: float, waveform: bool, quiet: bool,
-              sweep_ops: int = 2_000_000, show_report: bool = True) -> CheckResult:
+              sweep_ops: int = 2_000_000, show_report: bool = True,
+              bulk_examples: int = _DEFAULT_BULK) -> CheckResult:
     """The check command's work, shared with the demo; writes reports, errors included."""
     from memcheck.report import error_dict, render_report, write_json, write_junit, write_reports
     from memcheck.sim.api import CheckOptions, check_contract
@@ -77,8 +79,9 @@ def run_check(contract_file: str, *, examples: int, seed: int | None, json_file:
         seed = random.SystemRandom().randrange(1 << 32)
     interactive = sys.stderr.isatty() and not quiet
     if not quiet:
-        _echo(f"memcheck check {contract_file}: seed {seed}, {examples} examples")
-    opts = CheckOptions(examples=examples, seed=seed, phases=phases, march=march, backgrounds=backgrounds,
+        _echo(f"memcheck check {contract_file}: seed {seed}, {examples} examples, {bulk_examples} bulk examples")
+    opts = CheckOptions(examples=examples, bulk_examples=bulk_examples, seed=seed, phases=phases, march=march,
+                        backgrounds=backgrounds,
                         out_dir=Path(out_dir) if out_dir else None, stall_seconds=stall_timeout,
                         waveform=waveform, sweep_max_ops=sweep_ops)
     try:
@@ -106,7 +109,10 @@ def run_check(contract_file: str, *, examples: int, seed: int | None, json_file:
 @cli.command("check")
 @click.argument("contract_file", type=click.Path(dir_okay=False))
 @click.option("--examples", type=click.IntRange(min=0), default=_DEFAULT_EXAMPLES, show_default=True,
-              help="Hypothesis examples in the property phase (more = deeper and slower).")
+              help="Short Hypothesis examples in the property phase (a handful of operations each).")
+@click.option("--bulk-examples", type=click.IntRange(min=0), default=_DEFAULT_BULK, show_default=True,
+              help="Bulk Hypothesis examples in the property phase (thousands of operations each; more = "
+                   "deeper and slower).")
 @click.option("--seed", type=click.IntRange(min=0, max=(1 << 64) - 1), default=None,
               help="Seed of the property phase; default: a fresh one, printed so the run can be repeated.")
 @click.option("--json", "json_file", type=click.Path(dir_okay=False), help="Write the JSON report here.")
@@ -122,18 +128,20 @@ def run_check(contract_file: str, *, examples: int, seed: int | None, json_file:
               help="Seconds without progress before the simulation is declared stalled.")
 @click.option("--no-waveform", is_flag=True, help="Do not write the waveform of a failing trace.")
 @click.option("--quiet", "-q", is_flag=True, help="Print only the summary.")
-def check(contract_file: str, examples: int, seed: int | None, json_file: str | None, junit_file: str | None,
-          out_dir: str | None, phases: str, march: str, backgrounds: str, sweep_ops: int, stall_timeout: float,
-          no_waveform: bool, quiet: bool) -> int:
+def check(contract_file: str, examples: int, bulk_examples: int, seed: int | None, json_file: str | None,
+          junit_file: str | None, out_dir: str | None, phases: str, march: str, backgrounds: str, sweep_ops: int,
+          stall_timeout: float, no_waveform: bool, quiet: bool) -> int:
     """Prove the RTL named by CONTRACT_FILE against the contract under Icarus Verilog.
 
-    Runs a smoke phase, a March sweep and Hypothesis property examples; on a difference prints the
+    Runs a smoke phase, a March sweep and Hypothesis property examples (short ones, then bulk ones of
+    thousands of operations); on a difference prints the
     shortest trace found with expected and actual data bit by bit, writes a replay file and a waveform,
     and exits 1. Exit 0: conforms (for the modelled behaviour only; not sign-off). Exit 2: bad input.
     """
     result = run_check(contract_file, examples=examples, seed=seed, json_file=json_file, junit_file=junit_file,
                        out_dir=out_dir, phases=_parse_phases(phases), march=march, backgrounds=backgrounds,
-                       stall_timeout=stall_timeout, waveform=not no_waveform, quiet=quiet, sweep_ops=sweep_ops)
+                       stall_timeout=stall_timeout, waveform=not no_waveform, quiet=quiet, sweep_ops=sweep_ops,
+                       bulk_examples=bulk_examples)
     return EXIT_OK if result.passed else EXIT_FAIL
 
 
@@ -183,9 +191,10 @@ DEMO_PAIR = ("packet_buffer", "packet_buffer_lane_bug")
 
 @cli.command("demo")
 @click.option("--examples", type=click.IntRange(min=0), default=_DEFAULT_EXAMPLES, show_default=True)
+@click.option("--bulk-examples", type=click.IntRange(min=0), default=_DEFAULT_BULK, show_default=True)
 @click.option("--seed", type=click.IntRange(min=0), default=1, show_default=True)
 @click.option("--out", "out_dir", type=click.Path(file_okay=False), default="memcheck-out/demo", show_default=True)
-def demo(examples: int, seed: int, out_dir: str) -> int:
+def demo(examples: int, bulk_examples: int, seed: int, out_dir: str) -> int:
     """Check one conforming and one buggy example wrapper, and show the minimal failing trace."""
     root = examples_dir()
     index = {e["name"]: e for e in tomllib.loads((root / "index.toml").read_text(encoding="utf-8"))["example"]}
@@ -196,7 +205,8 @@ def demo(examples: int, seed: int, out_dir: str) -> int:
         _echo(f"\n=== {ex['name']}: {ex['scenario']}" + (f" (seeded bug: {ex['bug']})" if ex["bug"] else ""))
         result = run_check(str(contract), examples=examples, seed=seed, json_file=None, junit_file=None,
                            out_dir=str(Path(out_dir) / ex["name"]), phases=_PHASES, march="March C-",
-                           backgrounds="standard", stall_timeout=30.0, waveform=True, quiet=False)
+                           backgrounds="standard", stall_timeout=30.0, waveform=True, quiet=False,
+                           bulk_examples=bulk_examples)
         ok = ok and result.verdict == ex["expect"]
     _echo("\nThe demo found what it should: the conforming wrapper passes and the buggy one fails."
           if ok else "\nUnexpected verdict: see above.")

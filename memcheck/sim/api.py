@@ -37,6 +37,7 @@ class CheckOptions:
     """Budget and outputs of a check. ``seed=None`` picks a fresh seed (reported in the result)."""
 
     examples: int = RunOptions.examples
+    bulk_examples: int = RunOptions.bulk_examples
     seed: int | None = None
     phases: tuple[str, ...] = PHASES
     march: str = RunOptions.march
@@ -166,13 +167,15 @@ def check_contract(
         raise MemcheckError(f"unknown phase(s) {', '.join(unknown) or '(none given)'}; allowed: {', '.join(PHASES)}.")
     if opts.examples < 0:
         raise MemcheckError(f"examples = {opts.examples}; allowed: 0 or more.")
+    if opts.bulk_examples < 0:
+        raise MemcheckError(f"bulk_examples = {opts.bulk_examples}; allowed: 0 or more.")
     _check_march(c, opts)
 
     b = build(c, cache)
     build_seconds = time.perf_counter() - t0
     run_opts = RunOptions(phases=tuple(opts.phases), examples=opts.examples, seed=seed, march=opts.march,
                           backgrounds=opts.backgrounds, sweep_max_ops=opts.sweep_max_ops,
-                          max_blocks=opts.max_blocks)
+                          max_blocks=opts.max_blocks, bulk_examples=opts.bulk_examples)
     res = run_job(b, {"mode": "check", "options": run_opts.to_json()}, out / "run",
                   stall_seconds=opts.stall_seconds, on_progress=on_progress)
     failure = res.failure

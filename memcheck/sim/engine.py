@@ -8,7 +8,10 @@ cocotb; in unit tests: a Python stand-in) and compares every cycle with the refe
   reads;
 * property: Hypothesis examples, each an independent trace checked from a model that knows nothing
   (so only what the example itself wrote is checked), with the RTL brought to its canonical state
-  before each one (see sequences.py) so that verdicts do not depend on example order.
+  before each one (see sequences.py) so that verdicts do not depend on example order. Short
+  examples (a handful of operations, small readable traces) come first, then *bulk* examples
+  (thousands of operations each, decoded from one Hypothesis byte string by numpy and checked by
+  the vectorised model, see bulk.py): they give the phase its throughput and depth.
 
 Any failure is shrunk (Hypothesis for the property phase, delta debugging for the others) to a
 short trace that fails on its own from the canonical state, which is what a replay runs.
@@ -18,13 +21,27 @@ from __future__ import annotations
 
 import time
 from collections.abc import Callable, Sequence
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, replace
 from typing import Any, Protocol
 
+import numpy as np
+
 from memcheck.contract import Contract
+from memcheck.model_fast import Columns, limbs_of, limbs_to_ints
 from memcheck.ops import Cycle, Trace
 from memcheck.sim import sequences as seq
-from memcheck.sim.checker import CheckedTrace, CycleRow, ModelStart, check, compare, start_model
+from memcheck.sim.checker import (
+    ArrayCheck,
+    CheckedTrace,
+    CycleRow,
+    ModelStart,
+    check,
+    check_arrays,
+    compare,
+    expected_arrays,
+    start_model,
+)
 from memcheck.sim.layout import Observed
 from memcheck.sim.result import Failure, PhaseResult, RunResult
 from memcheck.sim.sequences import Segment
@@ -34,8 +51,41 @@ PHASES: tuple[str, ...] = ("smoke", "sweep", "property")
 #: The preamble of every independent example: reset, canonical fill, flush.
 EXAMPLE_PREAMBLE: tuple[str, ...] = ("reset", "fill", "flush")
 _WINDOW_MAX = 4096
+#: Shrinking a failing bulk example: at most this many simulator runs and seconds of Hypothesis'
+#: own shrinking (later candidates count as passing), then delta debugging finishes the job.
+BULK_SHRINK_RUNS = 40
+BULK_SHRINK_SECONDS = 10.0
 
 Observations = list[tuple[Observed | None, ...]]
+
+
+def observations_from_arrays(contract: Contract, value: np.ndarray, defined: np.ndarray) -> Observations:
+    """Captured ``(value, defined)`` arrays as per-cycle tuples of :class:`Observed` (None: no read data)."""
+    n = value.shape[0]
+    cols: list[list[Observed] | None] = []
+    for i, port in enumerate(contract.ports):
+        if port.read_data is None:
+            cols.append(None)
+            continue
+        cols.append([Observed(v, d) for v, d in zip(limbs_to_ints(value[:, i]), limbs_to_ints(defined[:, i]),
+                                                    strict=True)])
+    return [tuple(None if col is None else col[k] for col in cols) for k in range(n)]
+
+
+def arrays_from_observations(contract: Contract, obs: Observations) -> tuple[np.ndarray, np.ndarray]:
+    """The inverse of :func:`observations_from_arrays` (unread ports give zeros)."""
+    from memcheck.model_fast import ints_to_limbs
+
+    limbs = limbs_of(contract.memory.width)
+    n, p = len(obs), len(contract.ports)
+    value = np.zeros((n, p, limbs), dtype=np.uint64)
+    defined = np.zeros_like(value)
+    for i in range(p):
+        col = [o[i] for o in obs]
+        if n and all(o is not None for o in col):
+            value[:, i] = ints_to_limbs([o.value for o in col if o is not None], limbs)
+            defined[:, i] = ints_to_limbs([o.defined for o in col if o is not None], limbs)
+    return value, defined
 
 
 class Backend(Protocol):
@@ -57,16 +107,20 @@ class RunOptions:
     backgrounds: str = "standard"
     sweep_max_ops: int = 2_000_000
     max_blocks: int = 12
+    bulk_examples: int = 50
+    bulk_shrink_runs: int = BULK_SHRINK_RUNS
 
     def to_json(self) -> dict[str, Any]:
         return {"phases": list(self.phases), "examples": self.examples, "seed": self.seed, "march": self.march,
                 "backgrounds": self.backgrounds, "sweep_max_ops": self.sweep_max_ops,
-                "max_blocks": self.max_blocks}
+                "max_blocks": self.max_blocks, "bulk_examples": self.bulk_examples,
+                "bulk_shrink_runs": self.bulk_shrink_runs}
 
     @classmethod
     def from_json(cls, obj: dict[str, Any]) -> RunOptions:
         return cls(tuple(obj["phases"]), int(obj["examples"]), int(obj["seed"]), str(obj["march"]),
-                   str(obj["backgrounds"]), int(obj["sweep_max_ops"]), int(obj["max_blocks"]))
+                   str(obj["backgrounds"]), int(obj["sweep_max_ops"]), int(obj["max_blocks"]),
+                   int(obj.get("bulk_examples", 0)), int(obj.get("bulk_shrink_runs", BULK_SHRINK_RUNS)))
 
 
 class _Mismatch(Exception):
@@ -75,6 +129,29 @@ class _Mismatch(Exception):
     def __init__(self, checked: CheckedTrace) -> None:
         super().__init__(f"read data differs from the contract at cycle {checked.first_mismatch}")
         self.checked = checked
+
+
+class _BulkMismatch(Exception):
+    """Raised inside a bulk example that differs from the model."""
+
+    def __init__(self, cols: Columns, first: int) -> None:
+        super().__init__(f"read data differs from the contract at cycle {first}")
+        self.cols = cols
+        self.first = first
+
+
+class _ShrinkBudgetSpent(BaseException):
+    """Ends Hypothesis' shrinking of a bulk example once its budget is spent. Not an ``Exception``, so
+    Hypothesis lets it through (as it does KeyboardInterrupt) instead of taking it for a failure."""
+
+
+def _digest(cols: Columns) -> bytes:
+    import hashlib
+
+    h = hashlib.blake2b(digest_size=16)
+    for a in (cols.kind, cols.address, cols.data, cols.lanes, cols.lanes_given):
+        h.update(np.ascontiguousarray(a).tobytes())
+    return h.digest()
 
 
 def _ops(cycles: Sequence[Cycle]) -> int:
@@ -98,7 +175,11 @@ class Engine:
         self.where: dict[str, Any] = {"phase": "start"}
         self.examples_run = 0
         # Where example time goes (for bench/): running cycles on the RTL, and the model + comparison.
-        self.timing: dict[str, float] = {"example_rtl": 0.0, "example_model": 0.0}
+        self.timing: dict[str, float] = {"example_rtl": 0.0, "example_model": 0.0, "bulk_phase": 0.0,
+                                         "bulk_shrink": 0.0, "bulk_generate": 0.0, "bulk_decode": 0.0}
+        self._pool: ThreadPoolExecutor | None = None  # set while bulk examples run
+        self.counts: dict[str, int] = {"bulk_examples": 0, "bulk_operations": 0, "bulk_cycles": 0,
+                                       "bulk_shrink_runs": 0}
 
     # -- running cycles --------------------------------------------------------------------
 
@@ -159,6 +240,43 @@ class Engine:
         self._dirty = seq.written_addresses(cycles)
         self.examples_run += 1
         checked = check(c, "unknown", list(cycles), obs[len(pre):])
+        self.timing["example_rtl"] += t1 - t0
+        self.timing["example_model"] += time.perf_counter() - t1
+        return checked
+
+    def _run_columns(self, cols: Columns) -> tuple[np.ndarray, np.ndarray]:
+        """Run a trace given as columns; the backend's own columns path when it has one."""
+        run = getattr(self.backend, "run_columns", None)
+        if run is not None:
+            value, defined = run(cols)
+        else:
+            obs = self._run([Segment(tuple(cols.to_cycles()))])
+            return arrays_from_observations(self.contract, obs)
+        if self._canonical:
+            self._dirty |= set(cols.written_addresses().tolist())
+        return value, defined
+
+    def run_example_columns(self, cols: Columns) -> ArrayCheck:
+        """:meth:`run_example` for a trace given as columns, checked by the vectorised model."""
+        c = self.contract
+        if not self._canonical:
+            self.run_steps(EXAMPLE_PREAMBLE)
+            pre = Columns.quiet(c, 0)
+        else:
+            parts = []
+            if seq.fill_limit(c) and self._dirty:
+                parts.append(seq.restore_columns(c, np.array(sorted(self._dirty), dtype=np.int64)))
+            parts.append(seq.flush_columns(c))
+            pre = Columns.concat(parts)
+        # The model works in a second thread while the simulator runs (the machine has two cores).
+        model = self._pool.submit(expected_arrays, c, cols) if self._pool is not None else None
+        t0 = time.perf_counter()
+        value, defined = self._run_columns(Columns.concat([pre, cols]))
+        t1 = time.perf_counter()
+        self._dirty = set(cols.written_addresses().tolist())
+        self.examples_run += 1
+        checked = check_arrays(c, cols, value[len(pre):], defined[len(pre):], "unknown",
+                               model.result() if model is not None else None)
         self.timing["example_rtl"] += t1 - t0
         self.timing["example_model"] += time.perf_counter() - t1
         return checked
@@ -297,19 +415,65 @@ class Engine:
                        f"the sweep ({plan.describe(self.contract)}) up to its first difference, at cycle {at}; "
                        "it does not fail as a short independent example", Trace(tuple(prefix[:at + 1])))
 
-    def property(self) -> tuple[PhaseResult, Failure | None]:
-        from hypothesis import HealthCheck, Phase, Verbosity, given, settings
+    def _hypothesis_settings(self, n: int, seed: int) -> Callable[[Callable[..., None]], Callable[[], None]]:
+        from hypothesis import HealthCheck, Phase, Verbosity, settings
         from hypothesis import seed as hyp_seed
+
+        def wrap(test: Callable[..., None]) -> Callable[[], None]:
+            test = settings(
+                max_examples=n, deadline=None, database=None, derandomize=False, print_blob=False,
+                suppress_health_check=list(HealthCheck), report_multiple_bugs=False,
+                phases=[Phase.explicit, Phase.generate, Phase.shrink], verbosity=Verbosity.quiet,
+            )(test)
+            return hyp_seed(seed)(test)  # type: ignore[no-any-return]
+
+        return wrap
+
+    def property(self) -> tuple[PhaseResult, Failure | None]:
+        t0 = time.perf_counter()
+        n, nb = self.options.examples, self.options.bulk_examples
+        if n < 1 and nb < 1:
+            return PhaseResult("property", "skipped",
+                               detail="no examples asked for (--examples 0 --bulk-examples 0)"), None
+        stats = {"examples": 0, "ops": 0, "cycles": 0}
+        found, note = (self._short_examples(stats) if n > 0 else (None, ""))
+        if found is None and nb > 0:
+            found, note = self._bulk_examples(stats)
+        seconds = time.perf_counter() - t0
+        ops, cycles = stats["ops"], stats["cycles"]
+        parts = []
+        if n > 0:
+            parts.append(f"{min(stats['examples'], n)} examples")
+        if nb > 0:
+            parts.append(f"{self.counts['bulk_examples']} bulk examples "
+                         f"({self.counts['bulk_operations']} operations)")
+        detail = " + ".join(parts)
+        if found is None:
+            return PhaseResult("property", "pass", cycles, ops, seconds, detail), None
+        self.where = {"phase": "property", "what": "shrinking the failure"}
+        k = found.first_mismatch
+        assert k is not None
+        if len(found.rows) > 64:
+            # A long (bulk) trace: the shortest window ending at the difference that fails on its own.
+            small = self.shrink_window(found.trace.cycles[:k + 1], k)
+            final = small if small is not None else self.minimise(found.trace.cycles[:k + 1])
+        else:
+            final = self.minimise(found.trace.cycles)
+        if final.ok:  # pragma: no cover - the canonical state did not reproduce it
+            final = found
+            note = note or "the failure did not reproduce from the canonical state"
+        return (PhaseResult("property", "fail", cycles, ops, time.perf_counter() - t0,
+                            f"{detail} (including shrinking)"),
+                Failure("property", EXAMPLE_PREAMBLE, final, note))
+
+    def _short_examples(self, stats: dict[str, int]) -> tuple[CheckedTrace | None, str]:
+        """Hypothesis examples of a handful of operations: readable minimal traces for most bugs."""
+        from hypothesis import given
         from hypothesis.errors import Flaky
 
         from memcheck.strategies import traces
 
-        t0 = time.perf_counter()
-        c = self.contract
         n = self.options.examples
-        if n < 1:
-            return PhaseResult("property", "skipped", detail="no examples asked for (--examples 0)"), None
-        stats = {"examples": 0, "ops": 0, "cycles": 0}
         self.where = {"phase": "property", "what": "examples", "total": n, "done": 0}
 
         def prop(trace: Trace) -> None:
@@ -321,38 +485,119 @@ class Engine:
             if not checked.ok:
                 raise _Mismatch(checked)
 
-        test = given(traces(c, max_blocks=self.options.max_blocks))(prop)
-        test = settings(
-            max_examples=n, deadline=None, database=None, derandomize=False, print_blob=False,
-            suppress_health_check=list(HealthCheck), report_multiple_bugs=False,
-            phases=[Phase.explicit, Phase.generate, Phase.shrink], verbosity=Verbosity.quiet,
-        )(test)
-        test = hyp_seed(self.options.seed)(test)
-        found: CheckedTrace | None = None
-        note = ""
+        test = self._hypothesis_settings(n, self.options.seed)(
+            given(traces(self.contract, max_blocks=self.options.max_blocks))(prop))
         try:
             test()
         except _Mismatch as exc:
-            found = exc.checked
+            return exc.checked, ""
         except Flaky as exc:
             inner = [e for e in getattr(exc, "exceptions", ()) if isinstance(e, _Mismatch)]
             if not inner:
                 raise
-            found = inner[0].checked
+            return inner[0].checked, ("Hypothesis saw this example pass once and fail once (state left by "
+                                      "earlier examples)")
+        return None, ""
+
+    def _bulk_examples(self, stats: dict[str, int]) -> tuple[CheckedTrace | None, str]:
+        """Bulk examples (bulk.py): thousands of operations per Hypothesis example, checked column-wise.
+
+        A failing one is shrunk by Hypothesis within a budget of simulator runs and seconds (after it,
+        candidates never run count as passing, so Hypothesis settles on the smallest failure seen);
+        the caller then cuts it to the shortest failing window and delta-debugs it.
+        """
+        from hypothesis import given
+        from hypothesis.errors import Flaky
+
+        from memcheck.sim.bulk import bulk_specs, decode
+
+        c = self.contract
+        nb = self.options.bulk_examples
+        t0 = time.perf_counter()
+        self.where = {"phase": "property", "what": "bulk examples", "total": nb, "done": 0}
+        seen: dict[bytes, int | None] = {}  # trace digest -> first differing cycle (None: conforms)
+        shrink: dict[str, float] = {}
+
+        mark = [time.perf_counter()]
+
+        def prop(spec: Any) -> None:
+            t_in = time.perf_counter()
+            self.timing["bulk_generate"] += t_in - mark[0]
+            try:
+                _check(spec)
+            finally:
+                mark[0] = time.perf_counter()
+
+        failing: dict[Any, _BulkMismatch] = {}  # specs seen to fail (a handful)
+        best: list[_BulkMismatch] = []  # the smallest of them
+
+        def _check(spec: Any) -> None:
+            known = failing.get(spec)
+            if known is None:
+                known = _run(spec)
+            if known is not None:
+                # One raise statement: Hypothesis tells failures apart by where they were raised.
+                raise _BulkMismatch(known.cols, known.first)
+
+        def _run(spec: Any) -> _BulkMismatch | None:
+            if shrink and (self.counts["bulk_shrink_runs"] >= self.options.bulk_shrink_runs
+                           or time.perf_counter() - shrink["t0"] > BULK_SHRINK_SECONDS):
+                raise _ShrinkBudgetSpent
+            t_in = time.perf_counter()
+            cols = decode(c, spec)
+            key = _digest(cols)
+            self.timing["bulk_decode"] += time.perf_counter() - t_in
+            if key not in seen:
+                if shrink:
+                    self.counts["bulk_shrink_runs"] += 1
+                else:
+                    ops = cols.operation_count()
+                    self.counts["bulk_examples"] += 1
+                    self.counts["bulk_operations"] += ops
+                    self.counts["bulk_cycles"] += len(cols)
+                    stats["ops"] += ops
+                    stats["cycles"] += len(cols)
+                    self.where["done"] = self.counts["bulk_examples"]
+                seen[key] = self.run_example_columns(cols).first_mismatch
+            first = seen[key]
+            if first is None:
+                return None
+            shrink.setdefault("t0", time.perf_counter())
+            failing[spec] = _BulkMismatch(cols, first)
+            if not best or len(cols) <= len(best[0].cols):
+                best[:] = [failing[spec]]
+            return failing[spec]
+
+        test = self._hypothesis_settings(nb, (self.options.seed + 1) & ((1 << 64) - 1))(
+            given(bulk_specs(c))(prop))
+        found: _BulkMismatch | None = None
+        note = ""
+        try:
+            with ThreadPoolExecutor(max_workers=1, thread_name_prefix="memcheck-model") as pool:
+                self._pool = pool
+                test()
+        except _BulkMismatch as exc:
+            found = exc
+        except _ShrinkBudgetSpent:
+            found = best[0]
+        except Flaky as exc:  # pragma: no cover - results are cached per trace, so replays agree
+            inner = [e for e in getattr(exc, "exceptions", ()) if isinstance(e, _BulkMismatch)]
+            if not inner:
+                raise
+            found = inner[0]
             note = "Hypothesis saw this example pass once and fail once (state left by earlier examples)"
-        seconds = time.perf_counter() - t0
-        ops, cycles = stats["ops"], stats["cycles"]
+        finally:
+            self._pool = None
+        now = time.perf_counter()
+        self.timing["bulk_phase"] += now - t0
         if found is None:
-            return PhaseResult("property", "pass", cycles, ops, seconds,
-                               f"{stats['examples']} examples"), None
-        self.where = {"phase": "property", "what": "shrinking the failure"}
-        final = self.minimise(found.trace.cycles)
-        if final.ok:  # pragma: no cover - the canonical state did not reproduce it
-            final = found
-            note = note or "the failure did not reproduce from the canonical state"
-        return (PhaseResult("property", "fail", cycles, ops, time.perf_counter() - t0,
-                            f"{stats['examples']} examples (including shrinking)"),
-                Failure("property", EXAMPLE_PREAMBLE, final, note))
+            return None, ""
+        self.timing["bulk_shrink"] += now - shrink.get("t0", now)
+        # Re-run the smallest failing bulk example for its rows (the RTL is in its canonical state).
+        checked = self.run_example_columns(found.cols)
+        if checked.ok:  # pragma: no cover - see the note in property()
+            return None, ""
+        return checked.checked(), note
 
     def run(self) -> RunResult:
         """All requested phases, stopping at the first that fails."""
@@ -368,6 +613,7 @@ class Engine:
             results.append(phase_result)
         return RunResult(phases=tuple(results), failure=failure, seed=self.options.seed,
                          extra={"cycles_simulated": self.cycles, "examples_run": self.examples_run,
+                                **self.counts,
                                 **{f"seconds_{k}": round(v, 4) for k, v in self.timing.items()}})
 
     # -- replay --------------------------------------------------------------------------------

@@ -18,6 +18,7 @@ import numpy as np
 
 from memcheck.contract import Contract, PortSpec
 from memcheck.errors import InvalidOperation
+from memcheck.model_fast import IDLE, WRITE, Columns, limbs_of
 from memcheck.ops import Cycle, PortOp
 
 #: Cycles the harness holds per batch; longer runs are split into several batches.
@@ -165,7 +166,115 @@ class Layout:
             return "".join(f"{self.encode(c):x}\n" for c in cycles)
         return "".join(f"{self.encode(c, r):x}\n" for c, r in zip(cycles, resets, strict=True))
 
+    def stim_bytes(self, cols: Columns, reset: bool | np.ndarray = False) -> bytes:
+        """``$readmemh`` text for a whole trace at once (numpy): the same words as :meth:`encode`,
+        written with leading zeros."""
+        n = len(cols)
+        nib = (self.stim_width + 3) // 4
+        narrow = self.stim_width <= 64
+        word = np.zeros(n, dtype=np.uint64)
+        bits = np.zeros((0 if narrow else n, nib * 4), dtype=np.uint8)
+
+        def put(f: Field | None, value: np.ndarray) -> None:
+            # value: (n,) bool/int or (n, limbs) uint64, least significant limb first
+            nonlocal word
+            if f is None:
+                return
+            if value.ndim == 1:
+                value = value.astype(np.uint64)[:, None]
+            if narrow:  # the whole stimulus word fits 64 bits: shift and or
+                v = value[:, 0] & np.uint64(f.mask)
+                if f.active_low:
+                    v = v ^ np.uint64(f.mask)
+                word |= v << np.uint64(f.offset)
+                return
+            b = _limb_bits(value, f.width)
+            if f.active_low:
+                b ^= 1
+            bits[:, f.offset:f.offset + f.width] = b
+
+        if self.reset is not None:
+            put(self.reset, np.broadcast_to(np.asarray(reset, dtype=bool), (n,)))
+        for i, pf in enumerate(self.ports):
+            kind = cols.kind[:, i]
+            addr = cols.address[:, i]
+            if n and (int(addr.min()) < 0 or (pf.address.width < 63 and int(addr.max()) >> pf.address.width)):
+                k = int(np.argmax((addr < 0) | (addr >> min(pf.address.width, 62) > 0)))
+                raise InvalidOperation(
+                    f"port {pf.spec.name!r}: address {int(addr[k]):#x} does not fit the {pf.address.width}-bit "
+                    f"pin {pf.address.pin!r}"
+                )
+            idle = kind == IDLE
+            garbage = idle & ((addr != 0) | cols.data[:, i].any(axis=1) | cols.lanes_given[:, i])
+            put(pf.enable, ~idle)
+            put(pf.write_enable, (kind == WRITE) | garbage)
+            put(pf.address, addr)
+            put(pf.write_data, cols.data[:, i])
+            if pf.lane_enable is not None:
+                lanes = np.where((idle & ~garbage)[:, None], np.uint64(0), cols.lanes[:, i])
+                put(pf.lane_enable, lanes)
+        if narrow:
+            shifts = np.arange(4 * (nib - 1), -1, -4, dtype=np.uint64)
+            nibbles = (word[:, None] >> shifts) & np.uint64(15)
+        else:
+            nibbles = (bits.reshape(n, nib, 4) @ np.array([1, 2, 4, 8], dtype=np.uint8))[:, ::-1]
+        chars = np.empty((n, nib + 1), dtype=np.uint8)
+        chars[:, :nib] = _HEX[nibbles]
+        chars[:, nib] = ord("\n")
+        return chars.tobytes()
+
     # -- capture -------------------------------------------------------------------------
+
+    def decode_arrays(self, data: bytes, count: int) -> tuple[np.ndarray, np.ndarray]:
+        """Parse ``$writememb`` output into ``(value, defined)`` arrays of (count, ports, limbs) uint64;
+        ``defined`` has a 1 for every bit that was 0 or 1. Ports without read data get zeros."""
+        arr = self._capture_chars(data, count)
+        limbs = limbs_of(self.contract.memory.width)
+        value = np.zeros((count, len(self.ports), limbs), dtype=np.uint64)
+        defined = np.zeros_like(value)
+        for i, pf in enumerate(self.ports):
+            f = pf.read_data
+            if f is None or count == 0:
+                continue
+            hi = self.cap_width - f.offset
+            cols = arr[:, hi - f.width:hi][:, ::-1]  # least significant bit first
+            ones = cols == ord("1")
+            value[:, i] = _pack_limbs(ones, limbs)
+            defined[:, i] = _pack_limbs(ones | (cols == ord("0")), limbs)
+        return value, defined
+
+    def _capture_chars(self, data: bytes, count: int) -> np.ndarray:
+        """(count, cap_width) characters of the data lines (comment lines dropped), MSB first."""
+        arr = np.frombuffer(data, dtype=np.uint8)
+        width = self.cap_width + 1
+        # Icarus writes a "// 0x%08x" line before every 16 words: cut those out by reshaping.
+        blocks, rest = divmod(count, 16)
+        block = _ICARUS_COMMENT + 16 * width
+        if count and blocks < 1 << 28 and arr.size == blocks * block + (rest and _ICARUS_COMMENT + rest * width):
+            full = arr[:blocks * block].reshape(blocks, block)
+            tail = arr[blocks * block:]
+            rows = np.concatenate([full[:, _ICARUS_COMMENT:].reshape(-1, width),
+                                   tail[_ICARUS_COMMENT:].reshape(-1, width)]) if rest else \
+                full[:, _ICARUS_COMMENT:].reshape(-1, width)
+            heads = np.concatenate([full[:, 0], tail[:1]]) if rest else full[:, 0]
+            if np.all(rows[:, -1] == ord("\n")) and np.all(heads == ord("/")):
+                return rows[:, :-1]
+        newline = arr == ord("\n")
+        # the line of each byte (a newline ends its own line); int32: far quicker than int64 here
+        line = np.cumsum(newline, dtype=np.int32) - newline
+        starts = np.r_[0, np.flatnonzero(newline) + 1]
+        starts = starts[starts < len(arr)]
+        body = arr[~(arr[starts] == ord("/"))[line]] if len(arr) else arr
+        if body.size == count * width:
+            rows = body.reshape(count, width)
+            if np.all(rows[:, -1] == ord("\n")):
+                return rows[:, :-1]
+        # Anything unusual (spaces, carriage returns): the slow, forgiving way.
+        lines = _COMMENT.sub(b"", data).split()
+        if len(lines) != count or any(len(x) != self.cap_width for x in lines):
+            raise ValueError(f"capture file has {len(lines)} lines of the wrong shape; expected {count}")
+        return np.frombuffer(b"".join(lines), dtype=np.uint8).reshape(count, self.cap_width)
+
 
     def decode(self, data: bytes, count: int) -> list[tuple[Observed | None, ...]]:
         """Parse ``$writememb`` output: per cycle, per port, the observed read data (None: no read data)."""
@@ -191,6 +300,29 @@ class Layout:
 
 
 _COMMENT = re.compile(rb"//[^\n]*")
+_HEX = np.frombuffer(b"0123456789abcdef", dtype=np.uint8)
+_ICARUS_COMMENT = len(b"// 0x00000000\n")
+
+
+def _limb_bits(value: np.ndarray, width: int) -> np.ndarray:
+    """(n, limbs) uint64 to (n, width) uint8 bits, least significant first (missing limbs are zero)."""
+    n = value.shape[0]
+    out = np.zeros((n, width), dtype=np.uint8)
+    for limb in range(min(value.shape[1], (width + 63) // 64)):
+        lo = 64 * limb
+        hi = min(width, lo + 64)
+        shifts = np.arange(hi - lo, dtype=np.uint64)
+        out[:, lo:hi] = (value[:, limb, None] >> shifts) & np.uint64(1)
+    return out
+
+
+def _pack_limbs(bits: np.ndarray, limbs: int) -> np.ndarray:
+    """(n, w) bool, least significant first, to (n, limbs) uint64."""
+    n, w = bits.shape
+    padded = np.zeros((n, limbs * 64), dtype=bool)
+    padded[:, :w] = bits
+    packed = np.packbits(padded.reshape(n, limbs, 64), axis=-1, bitorder="little")
+    return np.ascontiguousarray(packed).view("<u8").reshape(n, limbs).astype(np.uint64)
 
 
 def _to_ints(bits: np.ndarray) -> list[int]:

@@ -15,7 +15,10 @@ from __future__ import annotations
 from collections.abc import Iterable, Iterator, Sequence
 from dataclasses import dataclass
 
+import numpy as np
+
 from memcheck.contract import Contract
+from memcheck.model_fast import READ, WRITE, Columns, limbs_of
 from memcheck.ops import Cycle, PortOp
 from memcheck.strategies import drain_cycle
 
@@ -78,6 +81,61 @@ def fill_word(width: int, address: int) -> int:
     if v in (0, mask):
         v ^= 1
     return v
+
+
+def mix64(x: np.ndarray) -> np.ndarray:
+    """:func:`_splitmix` element-wise on a uint64 array (numpy arithmetic wraps like the masks there)."""
+    x = x + np.uint64(0x9E3779B97F4A7C15)
+    z = (x ^ (x >> np.uint64(30))) * np.uint64(0xBF58476D1CE4E5B9)
+    z = (z ^ (z >> np.uint64(27))) * np.uint64(0x94D049BB133111EB)
+    out: np.ndarray = z ^ (z >> np.uint64(31))
+    return out
+
+
+def fill_words(width: int, addresses: np.ndarray) -> np.ndarray:
+    """:func:`fill_word` of many addresses at once: (n, limbs) uint64, least significant limb first."""
+    limbs = limbs_of(width)
+    n = len(addresses)
+    x = addresses.astype(np.uint64) * np.uint64(0x2545F4914F6CDD1D)
+    out = np.zeros((n, limbs), dtype=np.uint64)
+    for limb in range(limbs):
+        x = mix64(x)
+        out[:, limb] = x
+    top = width - 64 * (limbs - 1)
+    if top < 64:
+        out[:, -1] &= np.uint64((1 << top) - 1)
+    full = np.uint64((1 << 64) - 1)
+    ones = np.all(out[:, :-1] == full, axis=1) & (out[:, -1] == np.uint64((1 << top) - 1))
+    zeros = ~out.any(axis=1)
+    out[ones | zeros, 0] ^= np.uint64(1)
+    return out
+
+
+def restore_columns(contract: Contract, addresses: np.ndarray) -> Columns:
+    """:func:`restore_cycles` as columns (``addresses`` sorted and distinct)."""
+    w = writer_index(contract)
+    if w is None:
+        return Columns.quiet(contract, 0)
+    cols = Columns.quiet(contract, len(addresses))
+    cols.kind[:, w] = WRITE
+    cols.address[:, w] = addresses
+    cols.data[:, w] = fill_words(contract.memory.width, addresses)
+    return cols
+
+
+def flush_columns(contract: Contract) -> Columns:
+    """:func:`flush_cycles` as columns."""
+    w = writer_index(contract)
+    readers = reader_indices(contract)
+    parts = []
+    if w is not None and fill_limit(contract):
+        parts.append(restore_columns(contract, np.zeros(1, dtype=np.int64)))
+    if readers:
+        r = Columns.quiet(contract, 1)
+        r.kind[0, readers] = READ
+        parts.append(r)
+    parts.append(Columns.quiet(contract, contract.memory.read_latency + 1))
+    return Columns.concat(parts)
 
 
 def fill_limit(contract: Contract) -> int:
