@@ -10,7 +10,7 @@ import pytest
 
 from memcheck.cli import main
 from memcheck.contract import load_contract
-from memcheck.errors import SimulationError
+from memcheck.errors import MemcheckError, SimulationError
 from memcheck.ops import IDLE, Trace, read, write
 from memcheck.sim import check_contract, replay_file
 from memcheck.sim.build import build
@@ -327,3 +327,43 @@ def test_replay_after_a_fix_says_the_trace_now_conforms(tmp_path: Path, capsys, 
     rc, out, _ = _cli(["replay", str(res.replay_file), "--no-waveform"], capsys)
     assert rc == 0
     assert "now conforms" in out and "contract file changed" in out
+
+
+# -- bulk examples ------------------------------------------------------------------------------
+
+
+def test_bulk_examples_alone_catch_a_write_while_deselected(tmp_path: Path, build_cache: Path) -> None:
+    """BUG 2 writes whenever write enable is high, selected or not: bulk examples rest ports with their
+    pins (write enable included) left on, and the later read of that word shows it."""
+    res = check_contract(sp_contract(tmp_path, bug=2), phases=("property",), examples=0, bulk_examples=20, seed=6,
+                         out_dir=tmp_path / "o", build_dir=build_cache, waveform=False)
+    assert res.verdict == "fail" and res.failure is not None
+    assert "bulk examples" in res.phases[0].detail
+    trace = res.failure.trace
+    assert len(trace) <= 6 and res.reproduced is True
+    assert any(op.kind == "idle" and (op.address or op.data) for cyc in trace.cycles for op in cyc)
+
+
+def test_bulk_examples_pass_the_conforming_fixture_with_many_operations(tmp_path: Path, build_cache: Path) -> None:
+    res = check_contract(SP / "contract.toml", phases=("property",), examples=0, bulk_examples=3, seed=2,
+                         out_dir=tmp_path, build_dir=build_cache)
+    assert res.verdict == "pass", res.summary()
+    assert res.operations > 3000 and res.extra["bulk_examples"] >= 1
+
+
+def test_cli_bulk_examples_option_and_its_bounds(tmp_path: Path, capsys) -> None:  # type: ignore[no-untyped-def]
+    rc, stdout, _ = _cli(["check", str(SP / "contract.toml"), "--examples", "0", "--bulk-examples", "2",
+                          "--phases", "property", "--seed", "3", "--out", str(tmp_path / "o"),
+                          "--json", str(tmp_path / "r.json")], capsys)
+    assert rc == 0 and "2 bulk examples" in stdout
+    rep = json.loads((tmp_path / "r.json").read_text())
+    assert "bulk examples" in rep["phases"][0]["detail"]
+    rc, _, err = _cli(["check", str(SP / "contract.toml"), "--bulk-examples", "-1"], capsys)
+    assert rc == 2 and "bulk-examples" in err
+    with pytest.raises(MemcheckError, match="bulk_examples"):
+        check_contract(SP / "contract.toml", bulk_examples=-1)
+    rc, _, _ = _cli(["check", str(SP / "contract.toml"), "--examples", "0", "--bulk-examples", "0",
+                     "--phases", "property", "--out", str(tmp_path / "o2"), "--json", str(tmp_path / "r2.json")],
+                    capsys)
+    assert rc == 0
+    assert json.loads((tmp_path / "r2.json").read_text())["phases"][0]["verdict"] == "skipped"

@@ -24,7 +24,7 @@ if TYPE_CHECKING:
 
 _PHASES = ("smoke", "sweep", "property")
 _DEFAULT_EXAMPLES = 300
-_DEFAULT_BULK = 50
+_DEFAULT_BULK = 100
 
 
 def _echo(text: str = "", *, err: bool = False) -> None:
