@@ -196,3 +196,25 @@ def test_vectorised_fill_and_restore_match_the_cycle_versions() -> None:
     c = contract()
     assert restore_columns(c, np.array([1, 4, 9])).to_cycles() == restore_cycles(c, [9, 1, 4])
     assert flush_columns(c).to_cycles() == flush_cycles(c)
+
+
+def test_short_examples_put_garbage_addresses_from_the_pool() -> None:
+    """Disabled ports' garbage addresses come from the trace's pool of hot addresses, so a wrapper that
+    writes while deselected is caught by a later read of the same word."""
+    from hypothesis import HealthCheck, given, settings
+
+    from memcheck.strategies import traces
+
+    c = contract(words=1024)
+    seen_garbage = []
+
+    @settings(max_examples=150, deadline=None, database=None, suppress_health_check=list(HealthCheck))
+    @given(traces(c, max_pool=3))
+    def prop(trace) -> None:  # type: ignore[no-untyped-def]
+        ops = [op for cyc in trace.cycles for op in cyc]
+        garbage = [op for op in ops if op.kind == "idle" and (op.address or op.data or op.lanes is not None)]
+        seen_garbage.extend(garbage)
+        assert len({op.address for op in ops if op.kind != "idle" or op in garbage}) <= 3
+
+    prop()
+    assert seen_garbage

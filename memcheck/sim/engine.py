@@ -54,7 +54,7 @@ _WINDOW_MAX = 4096
 #: Shrinking a failing bulk example: at most this many simulator runs and seconds of Hypothesis'
 #: own shrinking (later candidates count as passing), then delta debugging finishes the job.
 BULK_SHRINK_RUNS = 40
-BULK_SHRINK_SECONDS = 10.0
+BULK_SHRINK_SECONDS = 30.0
 
 Observations = list[tuple[Observed | None, ...]]
 
