@@ -23,6 +23,7 @@ import numpy as np
 
 from memcheck.contract import Contract
 from memcheck.errors import InvalidOperation
+from memcheck.model import Model
 from memcheck.ops import Cycle, Expected, PortOp
 
 __all__ = ["IDLE", "READ", "WRITE", "Columns", "Contents", "expected", "expected_rows", "mismatch", "validate"]
@@ -113,22 +114,21 @@ class Columns:
 
     @classmethod
     def from_cycles(cls, contract: Contract, cycles: Sequence[Cycle]) -> Columns:
+        """Column form of ``cycles``; values that cannot be held (negative, too wide) raise the
+        :class:`InvalidOperation` that ``Model.validate`` gives for them."""
         m = contract.memory
         t = len(cycles)
         p = len(contract.ports)
-        ops = [op for c in cycles for op in c]
-        if len(ops) != t * p:
+        if any(len(c) != p for c in cycles):
             raise InvalidOperation(f"a cycle needs one operation per port ({p})")
-        kind = np.fromiter((_KINDS[op.kind] for op in ops), dtype=np.int8, count=t * p).reshape(t, p)
-        address = np.fromiter((op.address for op in ops), dtype=np.int64, count=t * p).reshape(t, p)
-        if any(op.data < 0 or op.data >> m.width for op in ops) or any(
-                op.lanes is not None and (op.lanes < 0 or op.lanes > m.all_lanes) for op in ops):
-            # Out-of-range values cannot be held in limbs; let the validation of Model say why.
-            from memcheck.model import Model
-
+        ops = [op for c in cycles for op in c]
+        if any(op.address < 0 or op.address >> 62 or op.data < 0 or op.data >> m.width
+               or (op.lanes is not None and not 0 <= op.lanes <= m.all_lanes) for op in ops):
             model = Model(contract)
             for c in cycles:
                 model.validate(c)
+        kind = np.fromiter((_KINDS[op.kind] for op in ops), dtype=np.int8, count=t * p).reshape(t, p)
+        address = np.fromiter((op.address for op in ops), dtype=np.int64, count=t * p).reshape(t, p)
         data = ints_to_limbs([op.data for op in ops], limbs_of(m.width)).reshape(t, p, -1)
         lanes = ints_to_limbs([m.all_lanes if op.lanes is None else op.lanes for op in ops],
                               limbs_of(max(m.lanes, 1))).reshape(t, p, -1)
@@ -191,8 +191,6 @@ def validate(contract: Contract, cols: Columns) -> None:
     if ltop < 64:
         bad |= (cols.lanes[:, :, -1] >> _U64(ltop)).any(axis=1)
     if bad.any():
-        from memcheck.model import Model
-
         at = int(np.argmax(bad))
         try:
             Model(contract).validate(cols[at:at + 1].to_cycles()[0])

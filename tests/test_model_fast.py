@@ -112,8 +112,12 @@ def test_invalid_operations_are_rejected_like_the_model() -> None:
     c = Contract.simple(8, 8, enable=False)
     with pytest.raises(InvalidOperation, match="cannot be idle"):
         expected(c, Columns.from_cycles(c, [(read(0),), (IDLE,)]))
-    with pytest.raises(InvalidOperation):
+    with pytest.raises(InvalidOperation, match="does not fit 8 bits"):
         Columns.from_cycles(c, [(write(0, 0x1FF),)])
+    with pytest.raises(InvalidOperation, match="one operation per port"):
+        Columns.from_cycles(c, [(read(0), read(1)), ()])
+    with pytest.raises(InvalidOperation, match="address"):
+        Columns.from_cycles(c, [(read(-1),)])
 
 
 @settings(max_examples=60, deadline=None)
