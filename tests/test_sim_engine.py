@@ -218,3 +218,20 @@ def test_short_examples_put_garbage_addresses_from_the_pool() -> None:
 
     prop()
     assert seen_garbage
+
+
+def test_a_bulk_failure_that_needs_long_history_is_reported_up_to_its_difference_and_replays(
+        monkeypatch: pytest.MonkeyPatch) -> None:
+    """A word that loses a bit when not rewritten for a while: with windows capped at 4 cycles no short
+    window fails on its own, so the bulk example up to its first difference is the trace."""
+    import memcheck.sim.engine as engine_mod
+
+    monkeypatch.setattr(engine_mod, "_WINDOW_MAX", 4)
+    res = _engine("decay", replace(BULK, bulk_shrink_runs=0)).run()
+    f = res.failure
+    assert f is not None and f.phase == "property" and f.full_trace is not None
+    assert "does not fail as a window" in f.note and len(f.trace) > 12
+    assert f.checked.rows[-1].cycle == len(f.trace) - 1 and not f.checked.rows[-1].ok
+    c = contract()
+    again = Engine(c, PyRam(c, "decay"), FAST).replay(Failure.from_json(json.loads(json.dumps(f.to_json()))))
+    assert again.signature() == f.checked.signature()

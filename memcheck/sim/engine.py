@@ -439,7 +439,7 @@ class Engine:
         if found is None and nb > 0:
             found, note = self._bulk_examples(stats)
         seconds = time.perf_counter() - t0
-        ops, cycles = stats["ops"], stats["cycles"]
+        ops, cycles_run = stats["ops"], stats["cycles"]
         parts = []
         if n > 0:
             parts.append(f"{min(stats['examples'], n)} examples")
@@ -448,20 +448,30 @@ class Engine:
                          f"({self.counts['bulk_operations']} operations)")
         detail = " + ".join(parts)
         if found is None:
-            return PhaseResult("property", "pass", cycles, ops, seconds, detail), None
+            return PhaseResult("property", "pass", cycles_run, ops, seconds, detail), None
         self.where = {"phase": "property", "what": "shrinking the failure"}
         k = found.first_mismatch
         assert k is not None
         if len(found.rows) > 64:
             # A long (bulk) trace: the shortest window ending at the difference that fails on its own.
-            small = self.shrink_window(found.trace.cycles[:k + 1], k)
-            final = small if small is not None else self.minimise(found.trace.cycles[:k + 1])
+            cycles = found.trace.cycles[:k + 1]
+            small = self.shrink_window(cycles, k)
+            if small is None or small.ok:
+                # Only the example's long history shows it: report the example up to the difference
+                # (a replay reruns it from the canonical state), as a sweep failure is reported.
+                note = note or (f"the bulk example up to its first difference, at cycle {k}; it does not fail "
+                                f"as a window of up to {_WINDOW_MAX} cycles on its own")
+                return (PhaseResult("property", "fail", cycles_run, ops, time.perf_counter() - t0,
+                                    f"{detail} (including shrinking)"),
+                        Failure("property", EXAMPLE_PREAMBLE, CheckedTrace("unknown", found.rows[max(0, k - 63):k + 1]),
+                                note, Trace(tuple(cycles))))
+            final = small
         else:
             final = self.minimise(found.trace.cycles)
         if final.ok:  # pragma: no cover - the canonical state did not reproduce it
             final = found
             note = note or "the failure did not reproduce from the canonical state"
-        return (PhaseResult("property", "fail", cycles, ops, time.perf_counter() - t0,
+        return (PhaseResult("property", "fail", cycles_run, ops, time.perf_counter() - t0,
                             f"{detail} (including shrinking)"),
                 Failure("property", EXAMPLE_PREAMBLE, final, note))
 
