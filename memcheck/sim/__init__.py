@@ -2,9 +2,10 @@
 
 The only package of memcheck that uses cocotb. Public API::
 
-    from memcheck.sim import check_contract, replay_file, CheckOptions
+    from memcheck.sim import check_contract, replay_file, run_march, CheckOptions
     result = check_contract("contract.toml", examples=200, seed=1)
     assert result.passed, result.summary()
+    march = run_march("contract.toml", "March C-")   # one March test alone on the RTL
 
 Attributes are loaded on first use, so importing this package stays cheap and does not start
 cocotb's machinery until a check runs.
@@ -19,6 +20,7 @@ if TYPE_CHECKING:
     from memcheck.sim.checker import CheckedTrace, CycleRow
     from memcheck.sim.engine import Engine, RunOptions
     from memcheck.sim.layout import Observed
+    from memcheck.sim.march_run import MarchFailure, MarchRunOptions, MarchRunResult, run_march
     from memcheck.sim.result import Failure, PhaseResult
 
 _EXPORTS = {
@@ -32,6 +34,10 @@ _EXPORTS = {
     "Engine": "memcheck.sim.engine",
     "RunOptions": "memcheck.sim.engine",
     "Observed": "memcheck.sim.layout",
+    "MarchFailure": "memcheck.sim.march_run",
+    "MarchRunOptions": "memcheck.sim.march_run",
+    "MarchRunResult": "memcheck.sim.march_run",
+    "run_march": "memcheck.sim.march_run",
     "Failure": "memcheck.sim.result",
     "PhaseResult": "memcheck.sim.result",
 }
@@ -43,12 +49,16 @@ __all__ = [
     "CycleRow",
     "Engine",
     "Failure",
+    "MarchFailure",
+    "MarchRunOptions",
+    "MarchRunResult",
     "Observed",
     "PhaseResult",
     "ReplayResult",
     "RunOptions",
     "check_contract",
     "replay_file",
+    "run_march",
 ]
 
 
