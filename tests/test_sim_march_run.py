@@ -12,6 +12,7 @@ import json
 from collections.abc import Sequence
 from pathlib import Path
 
+import numpy as np
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
@@ -19,15 +20,20 @@ from hypothesis import strategies as st
 from memcheck.cli import main
 from memcheck.contract import Contract, load_contract
 from memcheck.errors import InvalidOperation, MemcheckError, NotationError, UnknownAlgorithm
+from memcheck.model_fast import Columns
 from memcheck.ops import Cycle
+from memcheck.sim.engine import Engine, MarchJob, march_pieces, run_march_job
 from memcheck.sim.layout import Observed
 from memcheck.sim.march_run import (
     MarchRunOptions,
     check_program,
     choose_ports,
+    failure_from_job,
+    prefix_cycles,
     prepare,
     run_march,
 )
+from memcheck.sim.sequences import Segment
 
 ROOT = Path(__file__).resolve().parents[1]
 EXAMPLES = ROOT / "rtl_examples"
@@ -430,3 +436,94 @@ def test_rtl_that_does_not_compile_exits_2(tmp_path: Path, capsys: pytest.Captur
     (tmp_path / "tiny_ram.v").write_text("module tiny_ram(input wire clk;\nendmodule\n")
     assert main(["march", "run", str(c), MATS_PLUS, "--out", str(tmp_path / "out")]) == 2
     assert "does not compile" in capsys.readouterr().err
+
+
+# -- the simulator's March job, on the Python memory ------------------------------------------------
+
+
+class StandInBackend:
+    """The Python memory above as an engine backend: it keeps every cycle run so far and answers
+    each batch from the whole history, so state carries across batches as on RTL."""
+
+    batch_limit = 5
+
+    def __init__(self, **faults: object) -> None:
+        self.history: list[Cycle] = []
+        self.faults = faults
+
+    def run(self, segments: Sequence[Segment], *, dump: bool = False) -> list[tuple[Observed | None, ...]]:
+        cycles = [c for s in segments for c in s.cycles]
+        self.history.extend(cycles)
+        return stand_in(self.history, **self.faults)[-len(cycles):] if cycles else []  # type: ignore[arg-type]
+
+
+def job_failure(contract: Contract, test: str, batch: int, faults: dict[str, object], **options: object):  # type: ignore[no-untyped-def]
+    """Run ``test`` through the March job on the stand-in (batches of ``batch`` cycles) and name its
+    failure against a light program; also the failure check_program finds on the whole program."""
+    opts = MarchRunOptions(**options)  # type: ignore[arg-type]
+    full, _, _ = prepare(contract, test, opts)
+    light, _, _ = prepare(contract, test, opts, light=True)
+    engine = Engine(contract, StandInBackend(**faults))
+    info = run_march_job(engine, light.stream, MarchJob(light.writer, light.reader, light.pause_cycles,
+                                                        "power-up", batch=batch))
+    whole = check_program(contract, full, stand_in(full.cycles, **faults))  # type: ignore[arg-type]
+    return failure_from_job(contract, light, info), whole, info, full
+
+
+def test_light_program_names_cycles_as_the_full_one() -> None:
+    for c, test, kw in [
+        (tiny_contract(read_latency=2), "{any(w1); del; up(r1,w0); del; down(r0)}", {"pause_cycles": 7}),
+        (load_contract(REGFILE), MATS_PLUS, {"backgrounds": "solid"}),
+        (tiny_contract(), MARCH_C_MINUS, {"backgrounds": "standard"}),
+    ]:
+        opts = MarchRunOptions(**kw)  # type: ignore[arg-type]
+        full, _, _ = prepare(c, test, opts)
+        light, _, _ = prepare(c, test, opts, light=True)
+        assert (light.total_cycles, light.operations) == (len(full.cycles), full.operations)
+        assert light.pauses == full.pauses
+        for k in range(-2, len(full.cycles) + 2):
+            assert light.op_at(k) == full.op_at(k)
+            assert light.last_op_before(k) == full.last_op_before(k)
+            if 0 <= k < len(full.cycles):
+                assert light.cycle_at(k) == full.cycles[k]
+        assert prefix_cycles(c, light, 40) == list(full.cycles[:40])
+        # The March job's columns are the full program's cycles, and it March-checks the same reads.
+        written = np.zeros(c.memory.words, dtype=bool)
+        pieces = list(march_pieces(c, light.stream, MarchJob(light.writer, light.reader, light.pause_cycles,
+                                                              "power-up"), written))
+        cols = Columns.concat([p[0] for p in pieces])
+        assert cols.to_cycles() == list(full.cycles)
+        ops = np.concatenate([p[3] for p in pieces])
+        assert list(ops) == list(full.read_ops[full.read_checked])
+
+
+@pytest.mark.parametrize("batch", [3, 16, 1000])
+def test_march_job_finds_the_failure_first_failure_finds(batch: int) -> None:
+    c = tiny_contract()
+    # A correct memory passes in any batch size; every read after a write is March-checked.
+    f, whole, info, full = job_failure(c, MARCH_C_MINUS, batch, {})
+    assert f is None and whole is None and info["failure"] is None
+    assert info["cycles_run"] == len(full.cycles)
+    assert info["march_reads_checked"] == int(full.read_checked.sum())
+    # Stuck-at faults (MATS+ and March C- detect all of them: van de Goor, "Testing Semiconductor
+    # Memories", 1991), idle_read_data and a sleeping memory: the same failure, named the same way.
+    cases: list[tuple[str, dict[str, object], dict[str, object]]] = [
+        (MATS_PLUS, {"stuck": (5, 2, 1)}, {"backgrounds": "solid"}),
+        (MARCH_C_MINUS, {"stuck": (12, 7, 0)}, {}),
+        ("{any(w1); up(r1); del; any(r1)}", {"clear_when_idle": True}, {"backgrounds": "solid", "pause_cycles": 3}),
+        ("{any(w1); del; any(r1)}", {"sleep_after": 8}, {"backgrounds": "solid", "pause_cycles": 20}),
+    ]
+    for test, faults, kw in cases:
+        f, whole, info, _ = job_failure(c, test, batch, faults, **kw)
+        assert f is not None and whole is not None
+        assert f.to_json(8) == whole.to_json(8)
+        assert f.description == whole.description and f.window == whole.window
+        assert info["cycles_run"] == f.cycle + 1  # the run stops at the first failure
+
+
+def test_march_job_model_alone_before_the_first_write() -> None:
+    c = tiny_contract(initial="zero")
+    for batch in (1, 2, 50):
+        f, whole, _, _ = job_failure(c, "{up(r0); any(w1); up(r1)}", batch, {}, backgrounds="solid")
+        assert f is not None and whole is not None and f.to_json(8) == whole.to_json(8)
+        assert f.failed_checks == ("contract model",) and f.march_expected is None

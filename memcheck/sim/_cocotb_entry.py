@@ -27,7 +27,14 @@ from memcheck._atomic import write_text_atomic
 from memcheck.contract import Contract
 from memcheck.errors import MemcheckError, SimulationError
 from memcheck.model_fast import Columns
-from memcheck.sim.engine import Engine, Observations, RunOptions, observations_from_arrays
+from memcheck.sim.engine import (
+    Engine,
+    MarchJob,
+    Observations,
+    RunOptions,
+    observations_from_arrays,
+    run_march_job,
+)
 from memcheck.sim.harness import CAP_FILE, PERIOD_NS, STIM_FILE
 from memcheck.sim.layout import BATCH_CYCLES, Layout
 from memcheck.sim.result import Failure, RunResult
@@ -138,6 +145,13 @@ def _session(dut: Any, job: dict[str, Any]) -> dict[str, Any]:
         failure = Failure.from_json(job["failure"])
         replayed = engine.replay(failure, dump=bool(job.get("dump")))
         result = RunResult(seed=options.seed, replayed=replayed)
+    elif job["mode"] == "march":
+        spec = job["march"]
+        with open(spec["stream_pickle"], "rb") as fh:
+            stream = pickle.load(fh)
+        march = MarchJob(int(spec["writer"]), int(spec["reader"]), int(spec["pause_cycles"]), spec["start"],
+                         int(spec["window"]))
+        result = RunResult(seed=options.seed, extra={"march": run_march_job(engine, stream, march)})
     else:
         result = engine.run()
     out = result.to_json()

@@ -638,3 +638,201 @@ class Engine:
         cycles = list(failure.trace.cycles)
         obs = self._run([Segment(tuple(cycles))], dump=dump)
         return check(self.contract, failure.checked.start, cycles, obs)
+
+
+# -- a March test run alone, checked batch by batch -----------------------------------------------
+
+#: Cycles the March job checks at a time (the harness still runs them BATCH_CYCLES at a time); its
+#: memory is bounded by this many cycles, whatever the stream length.
+MARCH_BATCH_CYCLES = 1 << 16
+
+
+def march_columns(contract: Contract, chunk: Any, writer: int, reader: int) -> Columns:
+    """One March chunk (:class:`memcheck.march.expand.OpsChunk`) as cycles, one operation each: the
+    write on ``writer``, the read on ``reader``, every other port quiet (as :func:`memcheck.strategies.
+    drain_cycle`); numpy only."""
+    from memcheck.march.expand import OP_WRITE
+    from memcheck.model_fast import READ, WRITE
+
+    cols = Columns.quiet(contract, len(chunk))
+    w = np.asarray(chunk.op) == OP_WRITE
+    r = ~w
+    cols.kind[w, writer] = WRITE
+    cols.address[w, writer] = chunk.address[w]
+    cols.data[w, writer] = chunk.data[w]
+    cols.kind[r, reader] = READ
+    cols.address[r, reader] = chunk.address[r]
+    return cols
+
+
+@dataclass(frozen=True)
+class MarchJob:
+    """What the simulation side needs to run a March stream: the stream (pickled by the caller),
+    the writing and reading port, quiet cycles per delay element and how the model starts."""
+
+    writer: int
+    reader: int
+    pause_cycles: int
+    start: ModelStart
+    window: int = 12
+    batch: int = MARCH_BATCH_CYCLES
+
+
+def march_pieces(contract: Contract, stream: Any, job: MarchJob,
+                  written: np.ndarray) -> Any:
+    """Yield (columns, read due cycles, expected limbs, read op index) per stream item; ``written``
+    (per word) is updated as writes go by, so a read is March-checked only after its word was written."""
+    from memcheck.march.expand import OP_WRITE, Pause
+
+    lat = contract.memory.read_latency
+    limbs = limbs_of(contract.memory.width)
+    cycle = 0
+    none_i = np.zeros(0, dtype=np.int64)
+    none_v = np.zeros((0, limbs), dtype=np.uint64)
+    for item in stream:
+        if isinstance(item, Pause):
+            if job.pause_cycles:
+                yield Columns.quiet(contract, job.pause_cycles), none_i, none_v, none_i
+                cycle += job.pause_cycles
+            continue
+        n = len(item)
+        cols = march_columns(contract, item, job.writer, job.reader)
+        op = np.asarray(item.op)
+        addr = np.asarray(item.address)
+        pos = np.arange(n, dtype=np.int64)
+        w = op == OP_WRITE
+        first = np.full(contract.memory.words, n, dtype=np.int64)
+        np.minimum.at(first, addr[w], pos[w])
+        r = np.flatnonzero(~w)
+        checked = written[addr[r]] | (first[addr[r]] < r)
+        rr = r[checked]
+        written[addr[w]] = True
+        yield cols, cycle + rr + lat, np.asarray(item.expected)[rr], item.start + rr
+        cycle += n
+    if lat:
+        yield Columns.quiet(contract, lat), none_i, none_v, none_i
+
+
+def run_march_job(engine: Engine, stream: Any, job: MarchJob) -> dict[str, Any]:
+    """Run a March stream on the backend in batches, checking each batch against the contract model
+    (carried across batches) and the March expectations; returns counts and the first failure only.
+
+    Memory is bounded by one batch: nothing is kept per cycle beyond the last ``window`` cycles."""
+    from memcheck.model_fast import ints_to_limbs, mismatch
+
+    c = engine.contract
+    m = c.memory
+    limbs = limbs_of(m.width)
+    word = np.array([(m.word_mask >> (64 * i)) & ((1 << 64) - 1) for i in range(limbs)], dtype=np.uint64)
+    engine.where = {"phase": "march", "what": "preamble"}
+    if job.start == "reset":
+        engine.run_steps(["reset"])
+    model = start_model(c, job.start)
+    readable = [i for i, p in enumerate(c.ports) if p.read_data is not None]
+    written = np.zeros(m.words, dtype=bool)
+    batch = job.batch
+    t_model = 0.0
+    done = 0  # cycles run
+    march_reads = 0
+    # The last `window` cycles already run: (cycles, expected rows, value, defined).
+    tail: tuple[list[Cycle], list[Any], np.ndarray, np.ndarray] | None = None
+    pend_due: list[np.ndarray] = []
+    pend_exp: list[np.ndarray] = []
+    pend_op: list[np.ndarray] = []
+    pieces: list[Columns] = []
+    queued = 0
+    total = stream.total_ops
+    result: dict[str, Any] = {"failure": None}
+
+    def run_batch(cols: Columns) -> dict[str, Any] | None:
+        nonlocal done, tail, t_model, march_reads
+        n = len(cols)
+        engine.where = {"phase": "march", "what": "March test", "total": total, "done": done}
+        value, defined = engine._run_columns(cols)
+        t0 = time.perf_counter()
+        cycles = cols.to_cycles()
+        exp = model.run(cycles)
+        diff_any = np.zeros(n, dtype=bool)
+        for i in readable:
+            ev = ints_to_limbs([e[i].value for e in exp], limbs)
+            ek = ints_to_limbs([e[i].known for e in exp], limbs)
+            diff_any |= mismatch(ev, ek, value[:, i], defined[:, i]).any(axis=1)
+        model_first = int(np.argmax(diff_any)) if diff_any.any() else None
+        # March expectations due in this batch.
+        due = np.concatenate(pend_due) if pend_due else np.zeros(0, dtype=np.int64)
+        pexp = np.concatenate(pend_exp) if pend_exp else np.zeros((0, limbs), dtype=np.uint64)
+        pop = np.concatenate(pend_op) if pend_op else np.zeros(0, dtype=np.int64)
+        now = due < done + n
+        d_due, d_exp, d_op = due[now] - done, pexp[now], pop[now]
+        pend_due[:] = [due[~now]]
+        pend_exp[:] = [pexp[~now]]
+        pend_op[:] = [pop[~now]]
+        obs_v = value[d_due, job.reader]
+        obs_d = defined[d_due, job.reader]
+        mdiff = word & ((obs_v ^ d_exp) | ~obs_d)
+        bad = mdiff.any(axis=1)
+        march_first = int(d_due[np.argmax(bad)]) if bad.any() else None
+        t_model += time.perf_counter() - t0
+        if model_first is None and march_first is None:
+            march_reads += len(d_due)
+            keep = min(job.window, n)
+            prev = tail
+            if prev is not None and keep < job.window:
+                more = job.window - keep
+                tail = (prev[0][-more:] + cycles[n - keep:], prev[1][-more:] + exp[n - keep:],
+                        np.concatenate([prev[2][-more:], value[n - keep:]]),
+                        np.concatenate([prev[3][-more:], defined[n - keep:]]))
+            else:
+                tail = (cycles[n - keep:], exp[n - keep:], value[n - keep:], defined[n - keep:])
+            done += n
+            return None
+        k = min(x for x in (model_first, march_first) if x is not None)
+        # The window: the last `window` cycles up to k, from the previous batches' tail and this one.
+        lo = max(0, k - job.window + 1)
+        w_cycles = cycles[lo:k + 1]
+        w_exp = exp[lo:k + 1]
+        w_val, w_def = value[lo:k + 1], defined[lo:k + 1]
+        if tail is not None and len(w_cycles) < job.window:
+            more = min(job.window - len(w_cycles), len(tail[0]))
+            if more:
+                w_cycles = tail[0][-more:] + w_cycles
+                w_exp = tail[1][-more:] + w_exp
+                w_val = np.concatenate([tail[2][-more:], w_val])
+                w_def = np.concatenate([tail[3][-more:], w_def])
+        first = done + k - len(w_cycles) + 1
+        checked = compare(w_exp, observations_from_arrays(c, w_val, w_def), w_cycles, job.start)
+        rows = tuple(replace(r, cycle=first + r.cycle) for r in checked.rows)
+        at = np.flatnonzero(d_due == k)
+        march = None
+        if len(at):
+            j = int(at[0])
+            march = {"expected": hex(limbs_to_ints(d_exp[j:j + 1])[0]),
+                     "diff": hex(limbs_to_ints(mdiff[j:j + 1])[0]), "operation": int(d_op[j])}
+        march_reads += int(np.count_nonzero(d_due <= k))
+        done += k + 1
+        return {"cycle": done - 1, "window": CheckedTrace(job.start, rows).to_json(), "march": march}
+
+    failure = None
+    for cols, due, exp_v, op_i in march_pieces(c, stream, job, written):
+        if len(due):
+            pend_due.append(due)
+            pend_exp.append(exp_v)
+            pend_op.append(op_i)
+        pieces.append(cols)
+        queued += len(cols)
+        while queued >= batch:
+            allc = Columns.concat(pieces)
+            failure = run_batch(allc[:batch])
+            rest = allc[batch:]
+            pieces, queued = ([rest] if len(rest) else []), len(rest)
+            if failure is not None:
+                break
+        if failure is not None:
+            break
+    if failure is None and pieces:
+        failure = run_batch(Columns.concat(pieces))
+    result["failure"] = failure
+    result["cycles_run"] = done
+    result["march_reads_checked"] = march_reads
+    result["seconds_model"] = round(t_model, 4)
+    return result

@@ -47,7 +47,7 @@ from memcheck.errors import FaultModelError, InvalidOperation, MemcheckError, No
 from memcheck.march.backgrounds import limbs_to_int
 from memcheck.march.expand import OP_WRITE, MarchStep, MarchStream, Pause, expand
 from memcheck.march.library import resolve_test
-from memcheck.march.notation import MarchTest
+from memcheck.march.notation import MarchElement, MarchTest
 from memcheck.ops import Cycle, Expected, PortOp, Trace
 from memcheck.sim.checker import CheckedTrace, ModelStart, compare, start_model
 from memcheck.sim.launch import DEFAULT_STALL_SECONDS
@@ -56,20 +56,27 @@ from memcheck.sim.result import Failure
 from memcheck.strategies import drain_cycle
 
 if TYPE_CHECKING:
+    from memcheck.sim.build import Build
     from memcheck.sim.icarus import ProgressCallback
 
 #: Quiet cycles a delay element (``Del``) becomes on RTL unless told otherwise.
 DEFAULT_PAUSE_CYCLES = 100
-#: Largest stream a run accepts unless told otherwise: every cycle's comparison row comes back from
-#: the simulator as one record, so memory grows with the stream (about 3 KB per cycle in each process).
-DEFAULT_MAX_OPS = 500_000
-#: Longest run up to the failure that also gets a waveform (VCD grows with every cycle dumped).
-WAVE_MAX_CYCLES = 200_000
+#: Largest stream a run accepts unless told otherwise: a safety limit on run time (memory no longer
+#: grows with the stream; the simulator checks it batch by batch), some minutes of simulation.
+DEFAULT_MAX_OPS = 50_000_000
+#: Longest run up to the failure that gets a replay file and waveform: they are made by running the
+#: stream up to the failure again through the replay job, whose memory grows by about 3 KB a cycle.
+REPLAY_MAX_CYCLES = 50_000
+#: Ways the simulator side runs the stream: "march" (batch by batch, first failure only) or
+#: "replay" (the earlier way: every cycle's comparison comes back; for comparison and bench/).
+SIM_JOBS: tuple[str, ...] = ("march", "replay")
 #: Cycles shown in the report's table, ending at the failing one.
 WINDOW = 12
-#: Extra stall allowance per cycle: the simulation side compares every cycle with the model after
+#: Extra stall allowance per cycle for the replay job: it compares every cycle with the model after
 #: the last batch, without progress records, before it reports back.
 _STALL_PER_CYCLE = 50e-6
+#: Extra stall allowance for the March job: the model checks one batch between progress records.
+_STALL_PER_BATCH = 30.0
 _PHASE = "march"
 
 Activity = Literal["read", "write", "quiet"]
@@ -93,6 +100,7 @@ class MarchRunOptions:
     build_dir: Path | None = None
     stall_seconds: float = DEFAULT_STALL_SECONDS
     waveform: bool = True
+    sim_job: str = "march"
 
 
 # -- ports ---------------------------------------------------------------------------------
@@ -177,14 +185,51 @@ class MarchProgram:
     read_expected: tuple[int, ...]
     read_checked: npt.NDArray[np.bool_]
     pauses: tuple[PauseSpan, ...]
+    #: A *light* program (``cycles`` empty, arrays empty) knows only its pauses and sizes: what
+    #: naming one cycle of a run needs, in memory that does not grow with the stream.
+    light: bool = False
+    light_cycles: int = 0
+    quiet: Cycle = ()
 
     @property
     def operations(self) -> int:
-        return int(self.op_cycle.shape[0])
+        return self.stream.total_ops if self.light else int(self.op_cycle.shape[0])
+
+    @property
+    def total_cycles(self) -> int:
+        return self.light_cycles if self.light else len(self.cycles)
+
+    def op_at(self, cycle: int) -> int:
+        """The operation cycle ``cycle`` issues (-1: a quiet cycle or out of range)."""
+        if not self.light:
+            return int(self.cycle_op[cycle]) if 0 <= cycle < len(self.cycle_op) else -1
+        if not 0 <= cycle < self.light_cycles or self.pause_at(cycle) is not None:
+            return -1
+        op = cycle - self.pause_cycles * sum(1 for p in self.pauses if p.stop <= cycle)
+        return op if op < self.operations else -1
+
+    def cycle_at(self, cycle: int) -> Cycle:
+        """What every port does in cycle ``cycle`` (built on demand in a light program)."""
+        if not self.light:
+            return self.cycles[cycle]
+        quiet = list(self.quiet)
+        op = self.op_at(cycle)
+        if op >= 0:
+            s = self.step(op)
+            quiet[self.writer if s.op.kind == "write" else self.reader] = s.op
+        return tuple(quiet)
 
     def step(self, index: int) -> MarchStep:
         """Stream operation ``index`` as a MarchStep (for reports)."""
-        for ch in self.stream.chunks():
+        if not 0 <= index < self.stream.total_ops:
+            raise IndexError(index)
+        st = self.stream
+        b = index // st.ops_per_background
+        els = st.test.elements
+        e = max(i for i, el in enumerate(els) if isinstance(el, MarchElement) and st.element_start(b, i) <= index)
+        el = els[e]
+        assert isinstance(el, MarchElement)
+        for ch in st._element_chunks(b, e, el):
             if ch.start <= index < ch.start + len(ch):
                 i = index - ch.start
                 addr = int(ch.address[i])
@@ -203,6 +248,10 @@ class MarchProgram:
 
     def last_op_before(self, cycle: int) -> int | None:
         """The last operation issued at or before ``cycle`` (None before the first)."""
+        if self.light:
+            quiet = sum(min(max(0, cycle + 1 - p.start), p.stop - p.start) for p in self.pauses)
+            k = min(cycle + 1 - quiet, self.operations) - 1
+            return k if k >= 0 else None
         k = int(np.searchsorted(self.op_cycle, cycle, side="right")) - 1
         return k if k >= 0 else None
 
@@ -250,6 +299,28 @@ def plan_cycles(contract: Contract, stream: MarchStream, writer: int, reader: in
     return MarchProgram(stream, tuple(cycles), writer, reader, pause_cycles, op_cycle, cycle_op,
                         np.array(read_ops, dtype=np.int64), tuple(read_expected),
                         np.array(read_checked, dtype=bool), tuple(pauses))
+
+
+def plan_light(contract: Contract, stream: MarchStream, writer: int, reader: int,
+               pause_cycles: int = DEFAULT_PAUSE_CYCLES) -> MarchProgram:
+    """The layout of :func:`plan_cycles` without building it: pauses and sizes only (what a run and
+    its report need), in memory that grows with the number of delay elements, not operations."""
+    m = contract.memory
+    if stream.words != m.words or stream.width != m.width:
+        raise NotationError(f"the stream is for {stream.words} x {stream.width} but the contract's memory is "
+                            f"{m.words} x {m.width}")
+    pauses = []
+    quiet = 0
+    for b in range(len(stream.backgrounds)):
+        for e, el in enumerate(stream.test.elements):
+            if not isinstance(el, MarchElement):
+                at = stream.element_start(b, e) + quiet
+                pauses.append(PauseSpan(at, at + pause_cycles, Pause(e, b, el, stream.element_start(b, e))))
+                quiet += pause_cycles
+    none = np.zeros(0, dtype=np.int64)
+    return MarchProgram(stream, (), writer, reader, pause_cycles, none, none, none, (), np.zeros(0, dtype=bool),
+                        tuple(pauses), light=True, light_cycles=stream.total_ops + quiet + m.read_latency,
+                        quiet=drain_cycle(contract))
 
 
 # -- the first failure -------------------------------------------------------------------------
@@ -332,11 +403,12 @@ def _hex_known(value: int, known: int, width: int) -> str:
 def _activity(program: MarchProgram, port: int, issued: int) -> tuple[Activity, int | None]:
     """What port ``port`` did at cycle ``issued``: the March read or write it carried, or nothing of
     the test's (``quiet``); with the March operation of that cycle, else the last one before."""
-    if 0 <= issued < len(program.cycle_op):
-        op = int(program.cycle_op[issued])
+    if 0 <= issued < program.total_cycles:
+        op = program.op_at(issued)
         if op >= 0:
-            kind = program.cycles[issued][port].kind
-            is_write = any(o.kind == "write" for o in program.cycles[issued])
+            cyc = program.cycle_at(issued)
+            kind = cyc[port].kind
+            is_write = any(o.kind == "write" for o in cyc)
             carrier = program.writer if is_write else program.reader
             if port == carrier and kind in ("read", "write"):
                 return ("write" if kind == "write" else "read"), op
@@ -357,7 +429,7 @@ def _describe(program: MarchProgram, contract: Contract, port: int, cycle: int, 
     if activity == "write":
         return step, (f"{where}; port {pname} wrote at cycle {issued}: its read data in a cycle that writes "
                       f"(read_during_write){due}")
-    quiet_op = program.cycles[issued][port] if 0 <= issued < len(program.cycles) else None
+    quiet_op = program.cycle_at(issued)[port] if 0 <= issued < program.total_cycles else None
     doing = ("read address 0 (a port without an enable reads when the test does not use it)"
              if quiet_op is not None and quiet_op.kind == "read" else "issued no read (idle_read_data)")
     span = program.pause_at(issued)
@@ -371,7 +443,7 @@ def _describe(program: MarchProgram, contract: Contract, port: int, cycle: int, 
     else:
         text = f"port {pname} {doing} at cycle {issued}{due}"
     if step is not None:
-        during = 0 <= issued < len(program.cycle_op) and program.cycle_op[issued] == step.index
+        during = program.op_at(issued) == step.index
         text += f"; {'meanwhile' if during else 'the last operation before'}: {where}"
     return step, text
 
@@ -404,27 +476,52 @@ def first_failure(contract: Contract, program: MarchProgram, checked: CheckedTra
     if model_first is None and march_first is None:
         return None
     cycle = min(x for x in (model_first, None if march_first is None else march_first[0]) if x is not None)
-    row = rows[cycle]
     march_diff = 0
     march_expected = None
     if march_first is not None and march_first[0] == cycle:
-        port = r
         march_diff = march_first[1]
         march_expected = program.read_expected[march_first[2]]
     else:
-        port = r if row.diff[r] else next(i for i, d in enumerate(row.diff) if d)
-    issued = cycle - lat
+        issued = cycle - lat
+        op = program.op_at(issued)
+        if op >= 0 and program.cycle_at(issued)[r].kind == "read":
+            jr = int(np.searchsorted(program.read_ops, op))
+            if jr < len(program.read_ops) and program.read_ops[jr] == op and program.read_checked[jr]:
+                march_expected = program.read_expected[jr]
+    window = CheckedTrace(checked.start, rows[max(0, cycle - WINDOW + 1):cycle + 1])
+    return _make_failure(contract, program, window, march_expected, march_diff)
+
+
+def _make_failure(contract: Contract, program: MarchProgram, window: CheckedTrace, march_expected: int | None,
+                  march_diff: int) -> MarchFailure:
+    """Name the failure at the last row of ``window`` (the first failing cycle). ``march_expected`` is
+    the March expectation of the read the reader's data answers there (None: none applies)."""
+    row = window.rows[-1]
+    cycle = row.cycle
+    r = program.reader
+    port = r if march_diff or row.diff[r] else next(i for i, d in enumerate(row.diff) if d)
+    issued = cycle - contract.memory.read_latency
     activity, op = _activity(program, port, issued)
-    if march_expected is None and activity == "read" and port == r and op is not None:
-        jr = int(np.searchsorted(program.read_ops, op))
-        if program.read_checked[jr]:
-            march_expected = program.read_expected[jr]
+    if port != r or activity != "read":
+        march_expected = None
     step, text = _describe(program, contract, port, cycle, issued, activity, op)
     obs = row.observed[port]
     assert obs is not None
-    window = CheckedTrace(checked.start if cycle < WINDOW else "unknown", rows[max(0, cycle - WINDOW + 1):cycle + 1])
+    shown = CheckedTrace(window.start if cycle < WINDOW else "unknown", window.rows[-WINDOW:])
     return MarchFailure(cycle, contract.ports[port].name, issued, activity, step, text, march_expected,
-                        row.expected[port], obs, march_diff, row.diff[port], window)
+                        row.expected[port], obs, march_diff, row.diff[port], shown)
+
+
+def failure_from_job(contract: Contract, program: MarchProgram, info: dict[str, Any]) -> MarchFailure | None:
+    """The first failure as the simulation's March job reported it (see
+    :func:`memcheck.sim.engine.run_march_job`), named against ``program`` (light or full)."""
+    f = info.get("failure")
+    if f is None:
+        return None
+    window = CheckedTrace.from_json(f["window"])
+    march = f.get("march")
+    return _make_failure(contract, program, window, None if march is None else int(march["expected"], 16),
+                         0 if march is None else int(march["diff"], 16))
 
 
 # -- the run -------------------------------------------------------------------------------------
@@ -601,8 +698,10 @@ def _resolve_contract(contract: Contract | str | Path) -> tuple[Contract, Path |
     return load_contract(contract), Path(contract)
 
 
-def prepare(contract: Contract, test: MarchTest | str, opts: MarchRunOptions) -> tuple[MarchProgram, str, int | None]:
-    """Check the request and lay the test out as cycles: (program, test name, seed used).
+def prepare(contract: Contract, test: MarchTest | str, opts: MarchRunOptions, *,
+            light: bool = False) -> tuple[MarchProgram, str, int | None]:
+    """Check the request and lay the test out as cycles: (program, test name, seed used); ``light``:
+    a :func:`plan_light` program (what a run in the simulator's March job needs).
 
     Everything a user can get wrong (notation, order, backgrounds, layout, ports, budget) is caught
     here, before anything is compiled."""
@@ -628,9 +727,10 @@ def prepare(contract: Contract, test: MarchTest | str, opts: MarchRunOptions) ->
         raise MemcheckError(
             f"{t.name or 'the test'} is {stream.total_ops} operations here ({t.length} x {m.words} words x "
             f"{len(stream.backgrounds)} backgrounds), more than the limit of {opts.max_ops}; raise it with "
-            "--max-ops (memory grows by about 3 KB per operation, in memcheck and in the simulator) or use "
-            "fewer backgrounds.")
-    program = plan_cycles(contract, stream, writer, reader, opts.pause_cycles)
+            "--max-ops (a safety limit on run time: RTL simulation runs some 10 to 100 thousand operations a "
+            "second) or use fewer backgrounds.")
+    plan = plan_light if light else plan_cycles
+    program = plan(contract, stream, writer, reader, opts.pause_cycles)
     return program, t.name or "custom test", seed if opts.order == "lfsr" else None
 
 
@@ -645,17 +745,17 @@ def run_march(contract: Contract | str | Path, test: MarchTest | str, options: M
     """
     from memcheck.sim.api import default_out_dir
     from memcheck.sim.build import build
-    from memcheck.sim.engine import RunOptions
-    from memcheck.sim.launch import run_job
 
     try:
         opts = dataclasses.replace(options or MarchRunOptions(), **overrides)
     except TypeError as exc:
         allowed = ", ".join(f.name for f in dataclasses.fields(MarchRunOptions))
         raise MemcheckError(f"unknown option for run_march ({exc}); allowed: {allowed}.") from None
+    if opts.sim_job not in SIM_JOBS:
+        raise MemcheckError(f"sim_job = {opts.sim_job!r}; allowed: {', '.join(SIM_JOBS)}.")
     t0 = time.perf_counter()
     c, path = _resolve_contract(contract)
-    program, name, seed = prepare(c, test, opts)
+    program, name, seed = prepare(c, test, opts, light=opts.sim_job == "march")
     base = default_out_dir(c, path)
     out = Path(opts.out_dir) if opts.out_dir is not None else base / "march"
     cache = Path(opts.build_dir) if opts.build_dir is not None else (
@@ -665,14 +765,10 @@ def run_march(contract: Contract | str | Path, test: MarchTest | str, options: M
     build_seconds = time.perf_counter() - t0
     start: ModelStart = "reset" if c.reset is not None else "power-up"
     preamble = ("reset",) if c.reset is not None else ()
-    cycles = program.cycles
-    stall = opts.stall_seconds + _STALL_PER_CYCLE * len(cycles)
-    run_opts = RunOptions(seed=seed or 0)
-    whole = Failure(_PHASE, preamble, CheckedTrace(start, ()), "March run", Trace(cycles))
-    res = run_job(b, {"mode": "replay", "options": run_opts.to_json(), "failure": whole.to_json(), "dump": False},
-                  out / "run", stall_seconds=stall, on_progress=on_progress)
-    assert res.replayed is not None
-    failure = first_failure(c, program, res.replayed)
+    if opts.sim_job == "march":
+        failure, extra = _run_march_job(b, c, program, start, seed, out / "run", opts, on_progress)
+    else:
+        failure, extra = _run_replay_job(b, c, program, start, preamble, seed, out / "run", opts, on_progress)
 
     replay_path = wave = None
     reproduced = None
@@ -681,32 +777,42 @@ def run_march(contract: Contract | str | Path, test: MarchTest | str, options: M
         notes.append(f"each delay element ran as {program.pause_cycles} quiet cycles; RTL simulation has no "
                      "charge leakage, so this checks that the contents survive idle cycles, not retention")
     if failure is not None:
-        k = failure.cycle
-        prefix = CheckedTrace(start, res.replayed.rows[:k + 1])
-        recorded = Failure(_PHASE, preamble, prefix, f"{name} on RTL up to its first failing cycle ({k})")
-        if path is not None:
-            from memcheck.sim.replayfile import ReplayFile, file_digest
+        from memcheck.sim.engine import RunOptions
+        from memcheck.sim.launch import run_job
 
-            replay_path = ReplayFile(path, recorded, seed or 0, file_digest(path)).write(out / "replay.json")
-        if not failure.model_diff:
-            notes.append("the contract model accepts the failing read, so the replay file (which checks the "
-                         "contract model) shows no difference there")
-        if opts.waveform and k + 1 <= WAVE_MAX_CYCLES:
+        k = failure.cycle
+        run_opts = RunOptions(seed=seed or 0)
+        if k + 1 <= REPLAY_MAX_CYCLES:
             from memcheck.sim.harness import WAVE_FILE
 
+            # Run the stream up to the failing cycle again (with the waveform when asked): its compared
+            # rows are the replay file, and it shows whether the failure reproduces.
+            prefix = Trace(tuple(prefix_cycles(c, program, k + 1)))
+            desc = f"{name} on RTL up to its first failing cycle ({k})"
+            whole = Failure(_PHASE, preamble, CheckedTrace(start, ()), desc, prefix)
             work = out / "replay"
-            again = run_job(b, {"mode": "replay", "options": run_opts.to_json(), "failure": recorded.to_json(),
-                                "dump": True}, work, stall_seconds=opts.stall_seconds + _STALL_PER_CYCLE * (k + 1),
-                            on_progress=on_progress, vcd=True)
-            if again.replayed is not None and failure.model_diff:
-                reproduced = again.replayed.signature() == prefix.signature()
-            if (work / WAVE_FILE).is_file():
+            again = run_job(b, {"mode": "replay", "options": run_opts.to_json(), "failure": whole.to_json(),
+                                "dump": opts.waveform}, work,
+                            stall_seconds=opts.stall_seconds + _STALL_PER_CYCLE * (k + 1),
+                            on_progress=on_progress, vcd=opts.waveform)
+            assert again.replayed is not None
+            if failure.model_diff:
+                reproduced = again.replayed.signature() == failure.window.signature()
+            recorded = Failure(_PHASE, preamble, again.replayed, desc)
+            if path is not None:
+                from memcheck.sim.replayfile import ReplayFile, file_digest
+
+                replay_path = ReplayFile(path, recorded, seed or 0, file_digest(path)).write(out / "replay.json")
+            if not failure.model_diff:
+                notes.append("the contract model accepts the failing read, so the replay file (which checks the "
+                             "contract model) shows no difference there")
+            if opts.waveform and (work / WAVE_FILE).is_file():
                 wave = out / WAVE_FILE
                 with (work / WAVE_FILE).open("rb") as src, open_atomic(wave) as dst:
                     shutil.copyfileobj(src, dst)
-        elif opts.waveform:
-            notes.append(f"no waveform: the run up to the failure is {k + 1} cycles (more than {WAVE_MAX_CYCLES}); "
-                         "memcheck replay on the replay file writes one")
+        else:
+            notes.append(f"no replay file{' or waveform' if opts.waveform else ''}: the run up to the failure is "
+                         f"{k + 1} cycles (more than {REPLAY_MAX_CYCLES}); the report names the failing operation")
     return MarchRunResult(
         verdict="fail" if failure is not None else "pass",
         contract=c,
@@ -722,7 +828,7 @@ def run_march(contract: Contract | str | Path, test: MarchTest | str, options: M
         reader=c.ports[program.reader].name,
         pause_cycles=program.pause_cycles,
         operations=program.operations,
-        cycles=len(cycles),
+        cycles=program.total_cycles,
         failure=failure,
         seconds=time.perf_counter() - t0,
         build_seconds=build_seconds,
@@ -732,8 +838,66 @@ def run_march(contract: Contract | str | Path, test: MarchTest | str, options: M
         reproduced=reproduced,
         notes=tuple(notes),
         unconnected_inputs=b.pins.unconnected_inputs,
-        extra=dict(res.extra),
+        extra=extra,
     )
+
+
+def _run_march_job(b: Build, c: Contract, program: MarchProgram, start: ModelStart, seed: int | None,
+                   work: Path, opts: MarchRunOptions, on_progress: ProgressCallback | None,
+                   ) -> tuple[MarchFailure | None, dict[str, object]]:
+    """The stream runs and is checked inside the simulator, batch by batch; only counts and the first
+    failure come back."""
+    import pickle
+
+    from memcheck.sim.engine import RunOptions
+    from memcheck.sim.launch import run_job
+
+    work.mkdir(parents=True, exist_ok=True)
+    stream_file = work / "stream.pickle"
+    with open_atomic(stream_file) as fh:
+        pickle.dump(program.stream, fh)
+    spec = {"stream_pickle": str(stream_file.resolve()), "writer": program.writer, "reader": program.reader,
+            "pause_cycles": program.pause_cycles, "start": start, "window": WINDOW}
+    stall = opts.stall_seconds + _STALL_PER_BATCH
+    res = run_job(b, {"mode": "march", "options": RunOptions(seed=seed or 0).to_json(), "march": spec}, work,
+                  stall_seconds=stall, on_progress=on_progress)
+    info = dict(res.extra.get("march", {}))
+    extra = {k: v for k, v in res.extra.items() if k != "march"}
+    extra.update({k: v for k, v in info.items() if k != "failure"})
+    return failure_from_job(c, program, info), extra
+
+
+def _run_replay_job(b: Build, c: Contract, program: MarchProgram, start: ModelStart, preamble: tuple[str, ...],
+                    seed: int | None, work: Path, opts: MarchRunOptions, on_progress: ProgressCallback | None,
+                    ) -> tuple[MarchFailure | None, dict[str, object]]:
+    """The earlier way (``sim_job="replay"``): the replay job runs the whole program and sends every
+    cycle's comparison back (about 3 KB per operation in each process); kept for comparison."""
+    from memcheck.sim.engine import RunOptions
+    from memcheck.sim.launch import run_job
+
+    stall = opts.stall_seconds + _STALL_PER_CYCLE * len(program.cycles)
+    whole = Failure(_PHASE, preamble, CheckedTrace(start, ()), "March run", Trace(program.cycles))
+    res = run_job(b, {"mode": "replay", "options": RunOptions(seed=seed or 0).to_json(),
+                      "failure": whole.to_json(), "dump": False},
+                  work, stall_seconds=stall, on_progress=on_progress)
+    assert res.replayed is not None
+    return first_failure(c, program, res.replayed), dict(res.extra)
+
+
+def prefix_cycles(contract: Contract, program: MarchProgram, count: int) -> list[Cycle]:
+    """The first ``count`` cycles of ``program``'s run (built chunk by chunk, for a light program too)."""
+    if not program.light:
+        return list(program.cycles[:count])
+    from memcheck.sim.engine import MarchJob, march_pieces
+
+    job = MarchJob(program.writer, program.reader, program.pause_cycles, "power-up")
+    parts: list[Cycle] = []
+    written = np.zeros(contract.memory.words, dtype=bool)
+    for cols, _, _, _ in march_pieces(contract, program.stream, job, written):
+        parts.extend(cols[:count - len(parts)].to_cycles())
+        if len(parts) >= count:
+            break
+    return parts
 
 
 def check_program(contract: Contract, program: MarchProgram, observed: Sequence[tuple[Observed | None, ...]],
