@@ -527,3 +527,32 @@ def test_march_job_model_alone_before_the_first_write() -> None:
         f, whole, _, _ = job_failure(c, "{up(r0); any(w1); up(r1)}", batch, {}, backgrounds="solid")
         assert f is not None and whole is not None and f.to_json(8) == whole.to_json(8)
         assert f.failed_checks == ("contract model",) and f.march_expected is None
+
+
+@pytest.mark.icarus
+def test_failure_past_the_replay_limit_is_named_without_a_replay_file(tmp_path: Path, builds: Path,
+                                                                    monkeypatch: pytest.MonkeyPatch) -> None:
+    import memcheck.sim.march_run as mr
+
+    monkeypatch.setattr(mr, "REPLAY_MAX_CYCLES", 10)
+    c = tiny_rtl(tmp_path, "sa", SA_ADDR=6, SA_BIT=3, SA_VAL=1)
+    r = run_march(c, MATS_PLUS, backgrounds="solid", out_dir=tmp_path / "out", build_dir=builds)
+    f = r.failure
+    assert f is not None and f.step is not None and (f.step.element, f.step.op.address) == (1, 6)
+    assert r.replay_file is None and r.waveform_file is None and r.reproduced is None
+    assert any("no replay file or waveform" in n for n in r.notes)
+    assert r.extra["cycles_run"] == f.cycle + 1 and r.cycles == 16 * 5 + 1
+
+
+@pytest.mark.icarus
+def test_both_simulator_jobs_report_the_same_failure(tmp_path: Path, builds: Path) -> None:
+    c = tiny_rtl(tmp_path, "sa", SA_ADDR=9, SA_BIT=0, SA_VAL=0)
+    runs = [run_march(c, MARCH_C_MINUS, backgrounds="standard", out_dir=tmp_path / job, build_dir=builds,
+                      waveform=False, sim_job=job) for job in ("march", "replay")]
+    a, b = (r.failure for r in runs)
+    assert a is not None and b is not None
+    assert a.to_json(8) == b.to_json(8) and a.description == b.description and a.window == b.window
+    assert runs[0].render().replace(f"{runs[0].seconds:.1f} s (build {runs[0].build_seconds:.1f} s)", "") \
+        .replace(str(tmp_path / "march"), "") == \
+        runs[1].render().replace(f"{runs[1].seconds:.1f} s (build {runs[1].build_seconds:.1f} s)", "") \
+        .replace(str(tmp_path / "replay"), "")
