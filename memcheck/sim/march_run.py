@@ -12,19 +12,26 @@ How a run works:
   readwrite port by default); every other port is quiet. A delay element (``Del``) becomes
   ``pause_cycles`` quiet cycles; ``read_latency`` quiet cycles at the end let the last read's data
   come out.
-* The cycles run in one fresh simulator through the generated harness, batch by batch (no Python per
-  cycle), after the contract's reset sequence if it has one; the build folder is shared with
-  ``memcheck check``. The run goes through the replay job of :mod:`memcheck.sim.launch`, which also
-  compares every cycle with the reference model (:class:`memcheck.model.Model`) from power-up (or
-  right after reset), so contract semantics apply: latency, lanes, ``initial``, ``idle_read_data``.
-* :func:`first_failure` compares each read's data with the March expectation too (the background or
+* The stream runs in one fresh simulator, after the contract's reset sequence if it has one; the
+  build folder is shared with ``memcheck check``. The simulator side's March job
+  (:func:`memcheck.sim.engine.run_march_job`) expands the stream chunk by chunk, runs it through the
+  generated harness in batches (no Python per cycle in the harness) and compares every cycle with the
+  reference model (:class:`memcheck.model.Model`, its state carried across batches) from power-up
+  (or right after reset), so contract semantics apply: latency, lanes, ``initial``,
+  ``idle_read_data``. It compares each read's data with the March expectation too (the background or
   its complement), for addresses the run has already written; before that only the contract model
   judges a read (it knows the initial contents only when the contract promises them). For a correct
-  memory the two agree; the report says which one failed.
+  memory the two agree; the report says which one failed. Only counts and the first failure (its
+  cycle and the last :data:`WINDOW` cycles) come back, so memory is bounded by a batch, not by the
+  stream; memcheck's process keeps a *light* program (:func:`plan_light`: pauses and sizes).
+* :func:`plan_cycles` and :func:`first_failure` do the same on a whole program in Python, for
+  observations from anywhere (:func:`check_program`) and for the earlier replay-job way
+  (``sim_job="replay"``: every cycle's comparison comes back).
 
-The replay file and waveform hold the run up to the first failing cycle; ``memcheck replay`` re-runs
-them and checks the contract model (not the March expectation). Verdicts cover the modelled
-behaviour on the operations driven, nothing more: not sign-off.
+The replay file and waveform hold the run up to the first failing cycle (a second, short run, when
+it is at most :data:`REPLAY_MAX_CYCLES` cycles); ``memcheck replay`` re-runs them and checks the
+contract model (not the March expectation). Verdicts cover the modelled behaviour on the operations
+driven, nothing more: not sign-off.
 """
 
 from __future__ import annotations
