@@ -475,6 +475,8 @@ def test_light_program_names_cycles_as_the_full_one() -> None:
         (tiny_contract(read_latency=2), "{any(w1); del; up(r1,w0); del; down(r0)}", {"pause_cycles": 7}),
         (load_contract(REGFILE), MATS_PLUS, {"backgrounds": "solid"}),
         (tiny_contract(), MARCH_C_MINUS, {"backgrounds": "standard"}),
+        # Reads of words written earlier in the same element (same chunk) are March-checked too.
+        (tiny_contract(), "{up(r0,w1,r1); down(r1,w0,r0)}", {"backgrounds": "solid"}),
     ]:
         opts = MarchRunOptions(**kw)  # type: ignore[arg-type]
         full, _, _ = prepare(c, test, opts)

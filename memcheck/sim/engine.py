@@ -701,10 +701,14 @@ def march_pieces(contract: Contract, stream: Any, job: MarchJob,
         addr = np.asarray(item.address)
         pos = np.arange(n, dtype=np.int64)
         w = op == OP_WRITE
-        first = np.full(contract.memory.words, n, dtype=np.int64)
-        np.minimum.at(first, addr[w], pos[w])
+        # Each read's word was written before it: in an earlier chunk, or earlier in this one (the
+        # first write of each address in the chunk, by sorting: no per-word array per chunk).
+        wa, wi = np.unique(addr[w], return_index=True)
+        first_w = pos[w][wi]
         r = np.flatnonzero(~w)
-        checked = written[addr[r]] | (first[addr[r]] < r)
+        at = np.minimum(np.searchsorted(wa, addr[r]), max(len(wa) - 1, 0))
+        earlier = (wa[at] == addr[r]) & (first_w[at] < r) if len(wa) else np.zeros(len(r), dtype=bool)
+        checked = written[addr[r]] | earlier
         rr = r[checked]
         written[addr[w]] = True
         yield cols, cycle + rr + lat, np.asarray(item.expected)[rr], item.start + rr
