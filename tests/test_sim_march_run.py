@@ -457,7 +457,8 @@ class StandInBackend:
         return stand_in(self.history, **self.faults)[-len(cycles):] if cycles else []  # type: ignore[arg-type]
 
 
-def job_failure(contract: Contract, test: str, batch: int, faults: dict[str, object], **options: object):  # type: ignore[no-untyped-def]
+def job_failure(contract: Contract, test: str, batch: int, faults: dict[str, object], vectorised: bool = True,  # type: ignore[no-untyped-def]
+                **options: object):
     """Run ``test`` through the March job on the stand-in (batches of ``batch`` cycles) and name its
     failure against a light program; also the failure check_program finds on the whole program."""
     opts = MarchRunOptions(**options)  # type: ignore[arg-type]
@@ -465,7 +466,7 @@ def job_failure(contract: Contract, test: str, batch: int, faults: dict[str, obj
     light, _, _ = prepare(contract, test, opts, light=True)
     engine = Engine(contract, StandInBackend(**faults))
     info = run_march_job(engine, light.stream, MarchJob(light.writer, light.reader, light.pause_cycles,
-                                                        "power-up", batch=batch))
+                                                        "power-up", batch=batch, vectorised=vectorised))
     whole = check_program(contract, full, stand_in(full.cycles, **faults))  # type: ignore[arg-type]
     return failure_from_job(contract, light, info), whole, info, full
 
@@ -499,11 +500,11 @@ def test_light_program_names_cycles_as_the_full_one() -> None:
         assert list(ops) == list(full.read_ops[full.read_checked])
 
 
-@pytest.mark.parametrize("batch", [3, 16, 1000])
-def test_march_job_finds_the_failure_first_failure_finds(batch: int) -> None:
+@pytest.mark.parametrize(("batch", "vectorised"), [(3, True), (16, True), (1000, True), (3, False), (16, False)])
+def test_march_job_finds_the_failure_first_failure_finds(batch: int, vectorised: bool) -> None:
     c = tiny_contract()
     # A correct memory passes in any batch size; every read after a write is March-checked.
-    f, whole, info, full = job_failure(c, MARCH_C_MINUS, batch, {})
+    f, whole, info, full = job_failure(c, MARCH_C_MINUS, batch, {}, vectorised)
     assert f is None and whole is None and info["failure"] is None
     assert info["cycles_run"] == len(full.cycles)
     assert info["march_reads_checked"] == int(full.read_checked.sum())
@@ -516,7 +517,7 @@ def test_march_job_finds_the_failure_first_failure_finds(batch: int) -> None:
         ("{any(w1); del; any(r1)}", {"sleep_after": 8}, {"backgrounds": "solid", "pause_cycles": 20}),
     ]
     for test, faults, kw in cases:
-        f, whole, info, _ = job_failure(c, test, batch, faults, **kw)
+        f, whole, info, _ = job_failure(c, test, batch, faults, vectorised, **kw)
         assert f is not None and whole is not None
         assert f.to_json(8) == whole.to_json(8)
         assert f.description == whole.description and f.window == whole.window
@@ -558,3 +559,31 @@ def test_both_simulator_jobs_report_the_same_failure(tmp_path: Path, builds: Pat
         .replace(str(tmp_path / "march"), "") == \
         runs[1].render().replace(f"{runs[1].seconds:.1f} s (build {runs[1].build_seconds:.1f} s)", "") \
         .replace(str(tmp_path / "replay"), "")
+
+
+def test_carried_vectorised_model_agrees_with_the_model_batch_by_batch() -> None:
+    from memcheck.model_fast import expected_rows
+    from memcheck.sim.checker import start_model
+    from memcheck.sim.engine import CarriedModel
+
+    contracts = [
+        tiny_contract(),
+        tiny_contract(read_latency=0, read_during_write="new", idle_read_data="unknown"),
+        tiny_contract(read_latency=2, read_during_write="old", initial="zero"),
+        tiny_contract(read_latency=3, read_during_write="unknown", idle_read_data="keep"),
+        load_contract(REGFILE),
+        load_contract(EXAMPLES / "line_buffer" / "contract.toml"),
+        load_contract(EXAMPLES / "mailbox" / "contract.toml"),
+    ]
+    for c in contracts:
+        for test in (MARCH_C_MINUS, "{any(w1); del; up(r1,w0); down(r0,w1,r1)}"):
+            p = program_for(c, test, backgrounds="solid", pause_cycles=9)
+            start = "reset" if c.reset is not None else "power-up"
+            want = start_model(c, start).run(p.cycles)  # type: ignore[arg-type]
+            cols = Columns.from_cycles(c, p.cycles)
+            for batch in (1, 4, 13, 200):
+                fast = CarriedModel(c, start, p.writer)  # type: ignore[arg-type]
+                got = []
+                for lo in range(0, len(cols), batch):
+                    got += expected_rows(*fast.run(cols[lo:lo + batch]))
+                assert got == want, (c.memory, test, batch)

@@ -676,6 +676,7 @@ class MarchJob:
     start: ModelStart
     window: int = 12
     batch: int = MARCH_BATCH_CYCLES
+    vectorised: bool = True  # False: memcheck.model.Model steps through every cycle (slower; same answers)
 
 
 def march_pieces(contract: Contract, stream: Any, job: MarchJob,
@@ -717,12 +718,82 @@ def march_pieces(contract: Contract, stream: Any, job: MarchJob,
         yield Columns.quiet(contract, lat), none_i, none_v, none_i
 
 
+class CarriedModel:
+    """The vectorised model (:func:`memcheck.model_fast.expected`) over consecutive batches of a March
+    run, its state carried from one batch to the next; agrees with :class:`memcheck.model.Model`.
+
+    A March run writes whole words through one port, so the stored state is, per word, the last data
+    written (else the start contents). Each batch is modelled as: one restoring write per word the
+    batch and the kept tail touch, the kept *tail* of earlier cycles, then the batch. The tail holds at
+    least ``read_latency`` cycles and reaches back to every port's last read result, so what each port
+    shows (pipeline, ``idle_read_data``) comes from real cycles, not from the restoring writes. The
+    tail is usually a few cycles; it grows while a port shows a held result (a long write-only
+    element on a port that keeps its read data, a pause), up to that stretch."""
+
+    def __init__(self, contract: Contract, start: ModelStart, writer: int) -> None:
+        from memcheck.sim.checker import start_contents
+
+        m = contract.memory
+        self.contract = contract
+        self.writer = writer
+        self.contents = start_contents(contract, start)
+        self.data = np.zeros((m.words, limbs_of(m.width)), dtype=np.uint64)
+        self.written = np.zeros(m.words, dtype=bool)
+        self.tail = Columns.quiet(contract, 0)
+        self._results = [i for i, p in enumerate(contract.ports) if p.can_read]
+
+    def run(self, cols: Columns) -> tuple[np.ndarray, np.ndarray]:
+        """Expected ``(value, known)`` of the batch ``cols`` (the cycles right after the last batch)."""
+        from memcheck.model_fast import IDLE, READ, WRITE, expected
+
+        c = self.contract
+        m = c.memory
+        w = self.writer
+        work = Columns.concat([self.tail, cols])
+        used = np.unique(work.address[work.kind != IDLE])
+        used = used[(used >= 0) & (used < m.words)]
+        back = used[self.written[used]]
+        restore = Columns.quiet(c, len(back))
+        restore.kind[:, w] = WRITE
+        restore.address[:, w] = back
+        restore.data[:, w] = self.data[back]
+        value, known = expected(c, Columns.concat([restore, work]), self.contents, check=False)
+        n = len(cols)
+        # The next tail: from every port's last result the next batch may still show.
+        length = len(work)
+        lat = m.read_latency
+        upto = min(length, length - lat + 1)
+        cut = max(0, length - lat)
+        for i in self._results:
+            k = work.kind[:upto, i]
+            res = k == READ
+            if m.read_during_write != "keep":
+                res |= k == WRITE
+            if m.idle_read_data == "unknown":
+                res |= k == IDLE
+            hits = np.flatnonzero(res)
+            if len(hits):
+                cut = min(cut, int(hits[-1]))
+        gone = work[:cut]
+        wt = np.flatnonzero(gone.kind[:, w] == WRITE)
+        if len(wt):
+            addr = gone.address[wt, w]
+            # The last write of each word wins.
+            rev = wt[::-1]
+            a_last, first_rev = np.unique(addr[::-1], return_index=True)
+            keep = (a_last >= 0) & (a_last < m.words)
+            self.data[a_last[keep]] = gone.data[rev[first_rev[keep]], w]
+            self.written[a_last[keep]] = True
+        self.tail = work[cut:]
+        return value[-n:], known[-n:]
+
+
 def run_march_job(engine: Engine, stream: Any, job: MarchJob) -> dict[str, Any]:
     """Run a March stream on the backend in batches, checking each batch against the contract model
     (carried across batches) and the March expectations; returns counts and the first failure only.
 
     Memory is bounded by one batch: nothing is kept per cycle beyond the last ``window`` cycles."""
-    from memcheck.model_fast import ints_to_limbs, mismatch
+    from memcheck.model_fast import expected_rows, ints_to_limbs, mismatch
 
     c = engine.contract
     m = c.memory
@@ -732,6 +803,7 @@ def run_march_job(engine: Engine, stream: Any, job: MarchJob) -> dict[str, Any]:
     if job.start == "reset":
         engine.run_steps(["reset"])
     model = start_model(c, job.start)
+    fast = CarriedModel(c, job.start, job.writer) if job.vectorised else None
     readable = [i for i, p in enumerate(c.ports) if p.read_data is not None]
     written = np.zeros(m.words, dtype=bool)
     batch = job.batch
@@ -754,13 +826,16 @@ def run_march_job(engine: Engine, stream: Any, job: MarchJob) -> dict[str, Any]:
         engine.where = {"phase": "march", "what": "March test", "total": total, "done": done}
         value, defined = engine._run_columns(cols)
         t0 = time.perf_counter()
-        cycles = cols.to_cycles()
-        exp = model.run(cycles)
+        if fast is not None:
+            ev_all, ek_all = fast.run(cols)
+        else:
+            exp = model.run(cols.to_cycles())
+            shape = (n, len(c.ports), limbs)
+            ev_all = ints_to_limbs([e.value for row in exp for e in row], limbs).reshape(shape)
+            ek_all = ints_to_limbs([e.known for row in exp for e in row], limbs).reshape(shape)
         diff_any = np.zeros(n, dtype=bool)
         for i in readable:
-            ev = ints_to_limbs([e[i].value for e in exp], limbs)
-            ek = ints_to_limbs([e[i].known for e in exp], limbs)
-            diff_any |= mismatch(ev, ek, value[:, i], defined[:, i]).any(axis=1)
+            diff_any |= mismatch(ev_all[:, i], ek_all[:, i], value[:, i], defined[:, i]).any(axis=1)
         model_first = int(np.argmax(diff_any)) if diff_any.any() else None
         # March expectations due in this batch.
         due = np.concatenate(pend_due) if pend_due else np.zeros(0, dtype=np.int64)
@@ -781,20 +856,22 @@ def run_march_job(engine: Engine, stream: Any, job: MarchJob) -> dict[str, Any]:
             march_reads += len(d_due)
             keep = min(job.window, n)
             prev = tail
+            cycles = cols[n - keep:].to_cycles()
+            exp = expected_rows(ev_all[n - keep:], ek_all[n - keep:])
             if prev is not None and keep < job.window:
                 more = job.window - keep
-                tail = (prev[0][-more:] + cycles[n - keep:], prev[1][-more:] + exp[n - keep:],
+                tail = (prev[0][-more:] + cycles, prev[1][-more:] + exp,
                         np.concatenate([prev[2][-more:], value[n - keep:]]),
                         np.concatenate([prev[3][-more:], defined[n - keep:]]))
             else:
-                tail = (cycles[n - keep:], exp[n - keep:], value[n - keep:], defined[n - keep:])
+                tail = (cycles, exp, value[n - keep:], defined[n - keep:])
             done += n
             return None
         k = min(x for x in (model_first, march_first) if x is not None)
         # The window: the last `window` cycles up to k, from the previous batches' tail and this one.
         lo = max(0, k - job.window + 1)
-        w_cycles = cycles[lo:k + 1]
-        w_exp = exp[lo:k + 1]
+        w_cycles = cols[lo:k + 1].to_cycles()
+        w_exp = expected_rows(ev_all[lo:k + 1], ek_all[lo:k + 1])
         w_val, w_def = value[lo:k + 1], defined[lo:k + 1]
         if tail is not None and len(w_cycles) < job.window:
             more = min(job.window - len(w_cycles), len(tail[0]))
