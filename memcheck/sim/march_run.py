@@ -16,7 +16,8 @@ How a run works:
   build folder is shared with ``memcheck check``. The simulator side's March job
   (:func:`memcheck.sim.engine.run_march_job`) expands the stream chunk by chunk, runs it through the
   generated harness in batches (no Python per cycle in the harness) and compares every cycle with the
-  reference model (:class:`memcheck.model.Model`, its state carried across batches) from power-up
+  reference model (the vectorised :mod:`memcheck.model_fast`, its state carried across batches by
+  :class:`memcheck.sim.engine.CarriedModel`; it agrees with :class:`memcheck.model.Model`) from power-up
   (or right after reset), so contract semantics apply: latency, lanes, ``initial``,
   ``idle_read_data``. It compares each read's data with the March expectation too (the background or
   its complement), for addresses the run has already written; before that only the contract model
