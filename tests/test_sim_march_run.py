@@ -34,6 +34,7 @@ from memcheck.sim.march_run import (
     run_march,
 )
 from memcheck.sim.sequences import Segment
+from tests.contract_strategies import contracts
 
 ROOT = Path(__file__).resolve().parents[1]
 EXAMPLES = ROOT / "rtl_examples"
@@ -587,3 +588,32 @@ def test_carried_vectorised_model_agrees_with_the_model_batch_by_batch() -> None
                 for lo in range(0, len(cols), batch):
                     got += expected_rows(*fast.run(cols[lo:lo + batch]))
                 assert got == want, (c.memory, test, batch)
+
+
+@settings(max_examples=30, deadline=None)
+@given(data=st.data(), contract=contracts(max_words=12, max_width=70, max_ports=3),
+       test=st.sampled_from([MATS_PLUS, MARCH_C_MINUS, "{any(w1); del; up(r1,w0,r0); down(r0,r0,w1)}"]),
+       batch=st.integers(1, 40))
+def test_carried_model_agrees_on_random_contracts(data: st.DataObject, contract: Contract, test: str,
+                                                  batch: int) -> None:
+    # Random contracts (latency, lanes, read_during_write, collision, idle_read_data, initial, ports
+    # without enables): the carried vectorised model gives Model's answers in batches of any size.
+    from hypothesis import assume
+
+    from memcheck.model_fast import expected_rows
+    from memcheck.sim.checker import start_model
+    from memcheck.sim.engine import CarriedModel
+
+    try:
+        p = program_for(contract, test, backgrounds="solid", pause_cycles=data.draw(st.integers(0, 5)))
+    except (InvalidOperation, NotationError):
+        assume(False)
+        return
+    start = "reset" if contract.reset is not None else "power-up"
+    want = start_model(contract, start).run(p.cycles)  # type: ignore[arg-type]
+    cols = Columns.from_cycles(contract, p.cycles)
+    fast = CarriedModel(contract, start, p.writer)  # type: ignore[arg-type]
+    got = []
+    for lo in range(0, len(cols), batch):
+        got += expected_rows(*fast.run(cols[lo:lo + batch]))
+    assert got == want
