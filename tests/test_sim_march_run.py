@@ -22,8 +22,9 @@ from memcheck.contract import Contract, load_contract
 from memcheck.errors import InvalidOperation, MemcheckError, NotationError, UnknownAlgorithm
 from memcheck.model_fast import Columns
 from memcheck.ops import Cycle
-from memcheck.sim.engine import Engine, MarchJob, march_pieces, run_march_job
+from memcheck.sim.engine import Engine
 from memcheck.sim.layout import Observed
+from memcheck.sim.march_job import MarchJob, march_pieces, run_march_job
 from memcheck.sim.march_run import (
     MarchRunOptions,
     check_program,
@@ -565,7 +566,7 @@ def test_both_simulator_jobs_report_the_same_failure(tmp_path: Path, builds: Pat
 def test_carried_vectorised_model_agrees_with_the_model_batch_by_batch() -> None:
     from memcheck.model_fast import expected_rows
     from memcheck.sim.checker import start_model
-    from memcheck.sim.engine import CarriedModel
+    from memcheck.sim.march_job import CarriedModel
 
     contracts = [
         tiny_contract(),
@@ -602,7 +603,7 @@ def test_carried_model_agrees_on_random_contracts(data: st.DataObject, contract:
 
     from memcheck.model_fast import expected_rows
     from memcheck.sim.checker import start_model
-    from memcheck.sim.engine import CarriedModel
+    from memcheck.sim.march_job import CarriedModel
 
     try:
         p = program_for(contract, test, backgrounds="solid", pause_cycles=data.draw(st.integers(0, 5)))

@@ -27,16 +27,10 @@ from memcheck._atomic import write_text_atomic
 from memcheck.contract import Contract
 from memcheck.errors import MemcheckError, SimulationError
 from memcheck.model_fast import Columns
-from memcheck.sim.engine import (
-    Engine,
-    MarchJob,
-    Observations,
-    RunOptions,
-    observations_from_arrays,
-    run_march_job,
-)
+from memcheck.sim.engine import Engine, Observations, RunOptions, observations_from_arrays
 from memcheck.sim.harness import CAP_FILE, PERIOD_NS, STIM_FILE
 from memcheck.sim.layout import BATCH_CYCLES, Layout
+from memcheck.sim.march_job import MarchJob, run_march_job
 from memcheck.sim.result import Failure, RunResult
 from memcheck.sim.sequences import Segment
 

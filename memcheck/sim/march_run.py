@@ -14,10 +14,10 @@ How a run works:
   come out.
 * The stream runs in one fresh simulator, after the contract's reset sequence if it has one; the
   build folder is shared with ``memcheck check``. The simulator side's March job
-  (:func:`memcheck.sim.engine.run_march_job`) expands the stream chunk by chunk, runs it through the
+  (:func:`memcheck.sim.march_job.run_march_job`) expands the stream chunk by chunk, runs it through the
   generated harness in batches (no Python per cycle in the harness) and compares every cycle with the
   reference model (the vectorised :mod:`memcheck.model_fast`, its state carried across batches by
-  :class:`memcheck.sim.engine.CarriedModel`; it agrees with :class:`memcheck.model.Model`) from power-up
+  :class:`memcheck.sim.march_job.CarriedModel`; it agrees with :class:`memcheck.model.Model`) from power-up
   (or right after reset), so contract semantics apply: latency, lanes, ``initial``,
   ``idle_read_data``. It compares each read's data with the March expectation too (the background or
   its complement), for addresses the run has already written; before that only the contract model
@@ -522,7 +522,7 @@ def _make_failure(contract: Contract, program: MarchProgram, window: CheckedTrac
 
 def failure_from_job(contract: Contract, program: MarchProgram, info: dict[str, Any]) -> MarchFailure | None:
     """The first failure as the simulation's March job reported it (see
-    :func:`memcheck.sim.engine.run_march_job`), named against ``program`` (light or full)."""
+    :func:`memcheck.sim.march_job.run_march_job`), named against ``program`` (light or full)."""
     f = info.get("failure")
     if f is None:
         return None
@@ -896,7 +896,7 @@ def prefix_cycles(contract: Contract, program: MarchProgram, count: int) -> list
     """The first ``count`` cycles of ``program``'s run (built chunk by chunk, for a light program too)."""
     if not program.light:
         return list(program.cycles[:count])
-    from memcheck.sim.engine import MarchJob, march_pieces
+    from memcheck.sim.march_job import MarchJob, march_pieces
 
     job = MarchJob(program.writer, program.reader, program.pause_cycles, "power-up")
     parts: list[Cycle] = []
