@@ -270,18 +270,26 @@ def pair_table_all(rs: Resolved) -> PairTable:
     return _unpack(uk, uc, ncode)
 
 
+def _offset_grid(rows: int, cols: int, dr: int, dc: int) -> tuple[IntArray, IntArray] | None:
+    """Row and column of every grid point whose neighbour at (dr, dc) is inside the grid, row-major;
+    None when there is none."""
+    r = np.arange(max(0, -dr), rows - max(0, dr), dtype=np.int64)
+    c = np.arange(max(0, -dc), cols - max(0, dc), dtype=np.int64)
+    if r.size == 0 or c.size == 0:
+        return None
+    return np.repeat(r, c.size), np.tile(c, r.size)
+
+
 def neighbour_pairs(setup: SimSetup) -> Iterator[tuple[IntArray, IntArray, IntArray, IntArray]]:
     """(aggressor word, aggressor bit, victim word, victim bit) arrays, one batch per neighbour offset,
     victims in physical row-major order."""
     rows, cols = require_layout(setup)
     pcols = setup.width * cols
     for dr, dc in CELL_OFFSETS:
-        r = np.arange(max(0, -dr), rows - max(0, dr), dtype=np.int64)
-        pc = np.arange(max(0, -dc), pcols - max(0, dc), dtype=np.int64)
-        if r.size == 0 or pc.size == 0:
+        grid = _offset_grid(rows, pcols, dr, dc)
+        if grid is None:
             continue
-        rv = np.repeat(r, pc.size)
-        pv = np.tile(pc, r.size)
+        rv, pv = grid
         ra, pa = rv + dr, pv + dc
         yield ra * cols + pa % cols, pa // cols, rv * cols + pv % cols, pv // cols
 
@@ -306,12 +314,10 @@ def pair_table_neighbours(rs: Resolved) -> PairTable:
 def word_neighbours(setup: SimSetup) -> Iterator[tuple[IntArray, IntArray]]:
     rows, cols = require_layout(setup)
     for dr, dc in WORD_OFFSETS:
-        r = np.arange(max(0, -dr), rows - max(0, dr), dtype=np.int64)
-        c = np.arange(max(0, -dc), cols - max(0, dc), dtype=np.int64)
-        if r.size == 0 or c.size == 0:
+        grid = _offset_grid(rows, cols, dr, dc)
+        if grid is None:
             continue
-        rx = np.repeat(r, c.size)
-        cx = np.tile(c, r.size)
+        rx, cx = grid
         yield rx * cols + cx, (rx + dr) * cols + cx + dc
 
 
