@@ -3,6 +3,8 @@
 from __future__ import annotations
 
 import sys
+from collections.abc import Callable
+from typing import Any, TypeVar
 
 import click
 from rich.console import Console
@@ -15,6 +17,8 @@ from memcheck.march.expand import expand
 from memcheck.march.export import FORMATS, hex_layout, iter_export, write_export
 from memcheck.march.library import ALGORITHMS, FAULT_CLASSES, get_algorithm, resolve_test
 from memcheck.march.orders import ORDER_KINDS, parse_layout
+
+_F = TypeVar("_F", bound=Callable[..., Any])
 
 
 @cli.group("march")
@@ -60,15 +64,20 @@ def march_show(name: str) -> None:
         click.echo(footer)
 
 
+def address_order_options(f: _F) -> _F:
+    """``--order`` and ``--any-order``, shared by every command that walks a March test's addresses."""
+    f = click.option("--any-order", default="up", show_default=True, type=click.Choice(("up", "down")),
+                     help="Walk used by elements whose order is 'any' (⇕).")(f)
+    return click.option("--order", default="linear", show_default=True, type=click.Choice(ORDER_KINDS),
+                        help="Address order of up elements (down is its exact reverse).")(f)
+
+
 @cli.command("patterns")
 @click.argument("name_or_notation")
 @click.option("--words", type=int, help="Number of words (default: rows x cols of --layout).")
 @click.option("--width", type=int, required=True, help="Bits per word (1..1024).")
 @click.option("--layout", help="Physical array ROWSxCOLS with column multiplexing, e.g. 256x4.")
-@click.option("--order", default="linear", show_default=True, type=click.Choice(ORDER_KINDS),
-              help="Address order for up elements (down is its exact reverse).")
-@click.option("--any-order", default="up", show_default=True, type=click.Choice(("up", "down")),
-              help="Walk used by elements whose order is 'any' (⇕).")
+@address_order_options
 @click.option("--backgrounds", default="solid", show_default=True,
               help=f"Comma-separated data backgrounds: {', '.join(BACKGROUND_NAMES)}, std0..stdK or a hex word.")
 @click.option("--seed", type=int, default=0, show_default=True, help="Start of the LFSR order (--order lfsr).")

@@ -13,10 +13,10 @@ from typing import Any
 import click
 
 from memcheck.cli import EXIT_FAIL, EXIT_OK
-from memcheck.cli.march_cmds import march_group
+from memcheck.cli.march_cmds import address_order_options, march_group
 from memcheck.errors import MemcheckError
 from memcheck.march.backgrounds import BACKGROUND_NAMES
-from memcheck.march.orders import ORDER_KINDS, parse_layout
+from memcheck.march.orders import parse_layout
 
 
 def _write_json(path: str, obj: dict[str, Any]) -> None:
@@ -28,10 +28,7 @@ def _write_json(path: str, obj: dict[str, Any]) -> None:
 @march_group.command("run")
 @click.argument("contract_file", type=click.Path(dir_okay=False))
 @click.argument("name_or_notation")
-@click.option("--order", default="linear", show_default=True, type=click.Choice(ORDER_KINDS),
-              help="Address order of up elements (down is its exact reverse).")
-@click.option("--any-order", default="up", show_default=True, type=click.Choice(("up", "down")),
-              help="Walk used by elements whose order is 'any' (⇕).")
+@address_order_options
 @click.option("--backgrounds", default="standard", show_default=True,
               help=f"Comma-separated data backgrounds: {', '.join(BACKGROUND_NAMES)}, std0..stdK or a hex word.")
 @click.option("--layout", help="Physical array ROWSxCOLS (rows x cols = words), for row-fast/col-fast orders "
