@@ -77,11 +77,15 @@ def _run_vvp(folder: Path, n: int) -> float:
     """Compile and run the plain testbench over the first ``n`` recorded cycles; wall seconds of vvp."""
     (folder / "plain_tb.v").write_text(PLAIN_TB.format(n=max(n, 1)))
     vvp = folder / f"plain_{n}.vvp"
-    subprocess.run(["iverilog", "-g2012", "-o", str(vvp), str(folder / "plain_tb.v"),
-                    str(CONTRACT.parent / "sp1k_wrap.v")], check=True, cwd=folder)
+    subprocess.run(
+        ["iverilog", "-g2012", "-o", str(vvp), str(folder / "plain_tb.v"), str(CONTRACT.parent / "sp1k_wrap.v")],
+        check=True,
+        cwd=folder,
+    )
     t0 = time.perf_counter()
-    out = subprocess.run(["vvp", "-n", str(vvp), "-none"], check=True, cwd=folder, capture_output=True,
-                         text=True).stdout
+    out = subprocess.run(
+        ["vvp", "-n", str(vvp), "-none"], check=True, cwd=folder, capture_output=True, text=True
+    ).stdout
     seconds = time.perf_counter() - t0
     m = re.search(r"cycles (\d+) errors (\d+)", out)
     assert m and int(m.group(2)) == 0, out
@@ -95,10 +99,12 @@ def plain_testbench(record: Path) -> tuple[int, float]:
     assert len(stim) == len(caps)
     # The contract's stimulus layout for this wrapper: en, we, addr[9:0], wdata[31:0] from bit 0.
     (record / "stim.hex").write_text("\n".join(stim) + "\n")
-    (record / "ref_value.hex").write_text("\n".join(f"{int(c.replace('x', '0').replace('z', '0'), 2):x}"
-                                                     for c in caps) + "\n")
-    (record / "ref_known.hex").write_text("\n".join(
-        f"{int(''.join('1' if ch in '01' else '0' for ch in c), 2):x}" for c in caps) + "\n")
+    (record / "ref_value.hex").write_text(
+        "\n".join(f"{int(c.replace('x', '0').replace('z', '0'), 2):x}" for c in caps) + "\n"
+    )
+    (record / "ref_known.hex").write_text(
+        "\n".join(f"{int(''.join('1' if ch in '01' else '0' for ch in c), 2):x}" for c in caps) + "\n"
+    )
     full = _run_vvp(record, len(stim))
     empty = _run_vvp(record, 1)
     return len(stim), max(full - empty, 1e-9)
@@ -110,15 +116,20 @@ def property_run(examples: int, bulk_examples: int, max_blocks: int, seed: int) 
     b = build(contract, work / "build")
     record = work / "record"
     record.mkdir()
-    opts = RunOptions(phases=("property",), examples=examples, seed=seed, max_blocks=max_blocks,
-                      bulk_examples=bulk_examples)
+    opts = RunOptions(
+        phases=("property",), examples=examples, seed=seed, max_blocks=max_blocks, bulk_examples=bulk_examples
+    )
     t0 = time.perf_counter()
     res = run_job(b, {"mode": "check", "options": opts.to_json(), "record": str(record)}, work / "run")
     wall = time.perf_counter() - t0
     assert res.failure is None, "the benchmark wrapper should conform"
     phase = res.phases[0]
-    stats = {"ops": float(phase.operations), "phase_seconds": phase.seconds, "wall": wall,
-             **{k: float(v) for k, v in res.extra.items()}}
+    stats = {
+        "ops": float(phase.operations),
+        "phase_seconds": phase.seconds,
+        "wall": wall,
+        **{k: float(v) for k, v in res.extra.items()},
+    }
     return stats, record
 
 
@@ -129,23 +140,27 @@ def bench_property(title: str, examples: int, bulk_examples: int, max_blocks: in
     ops = stats["ops"]
     sim_s = stats["seconds_batches"]
     phase_s = stats["phase_seconds"]
-    print(f"{title}: {examples} short examples (up to {max_blocks} blocks), {bulk_examples} bulk examples, "
-          f"seed {seed}")
-    print(f"  example operations          {int(ops):>10}  ({int(stats['bulk_examples'])} bulk examples ran, "
-          f"{int(stats['bulk_operations'])} operations)")
+    print(f"{title}: {examples} short examples (up to {max_blocks} blocks), {bulk_examples} bulk examples, seed {seed}")
+    print(
+        f"  example operations          {int(ops):>10}  ({int(stats['bulk_examples'])} bulk examples ran, "
+        f"{int(stats['bulk_operations'])} operations)"
+    )
     print(f"  cycles simulated            {cycles:>10}  (examples + restore/flush + canonical fill)")
     print(f"  simulator batches           {int(stats['batches']):>10}")
     print(f"  plain Verilog testbench     {ops / plain_s:>10.0f} ops/s  ({plain_s:.3f} s, same cycles, one run)")
-    print(f"  memcheck, simulator time    {ops / sim_s:>10.0f} ops/s  ({sim_s:.3f} s)   "
-          f"ratio {sim_s / plain_s:.2f}x")
-    print(f"  memcheck, whole phase       {ops / phase_s:>10.0f} ops/s  ({phase_s:.3f} s)   "
-          f"ratio {phase_s / plain_s:.2f}x")
+    print(f"  memcheck, simulator time    {ops / sim_s:>10.0f} ops/s  ({sim_s:.3f} s)   ratio {sim_s / plain_s:.2f}x")
+    print(
+        f"  memcheck, whole phase       {ops / phase_s:>10.0f} ops/s  ({phase_s:.3f} s)   "
+        f"ratio {phase_s / plain_s:.2f}x"
+    )
     rtl, model = stats["seconds_example_rtl"], stats["seconds_example_model"]
     gen, dec = stats["seconds_bulk_generate"], stats["seconds_bulk_decode"]
     other = phase_s - rtl - model - gen - dec
-    print(f"    of which: RTL runs {rtl:.2f} s (simulator batches {sim_s:.2f} s), model and comparison "
-          f"{model:.2f} s, bulk generation {gen:.2f} s, bulk decoding {dec:.2f} s, "
-          f"short-example generation and the rest {other:.2f} s")
+    print(
+        f"    of which: RTL runs {rtl:.2f} s (simulator batches {sim_s:.2f} s), model and comparison "
+        f"{model:.2f} s, bulk generation {gen:.2f} s, bulk decoding {dec:.2f} s, "
+        f"short-example generation and the rest {other:.2f} s"
+    )
     shutil.rmtree(record.parent, ignore_errors=True)
     return phase_s / plain_s
 
@@ -172,13 +187,17 @@ def bench_long_batches(cycles: int, seed: int) -> None:
     record = work / "record"
     record.mkdir()
     failure = Failure("bench", (), CheckedTrace("unknown", ()), full_trace=trace)
-    res = run_job(b, {"mode": "replay", "options": RunOptions().to_json(), "failure": failure.to_json(),
-                      "record": str(record)}, work / "run")
+    res = run_job(
+        b,
+        {"mode": "replay", "options": RunOptions().to_json(), "failure": failure.to_json(), "record": str(record)},
+        work / "run",
+    )
     n_ops = trace.operation_count()
     sim_s = float(res.extra["seconds_batches"])
     _, plain_s = plain_testbench(record)
-    print(f"long batches: one random trace of {cycles} cycles ({n_ops} operations), "
-          f"{int(res.extra['batches'])} batches")
+    print(
+        f"long batches: one random trace of {cycles} cycles ({n_ops} operations), {int(res.extra['batches'])} batches"
+    )
     print(f"  plain Verilog testbench     {n_ops / plain_s:>10.0f} ops/s  ({plain_s:.3f} s)")
     print(f"  memcheck harness            {n_ops / sim_s:>10.0f} ops/s  ({sim_s:.3f} s)   ratio {sim_s / plain_s:.2f}x")
     shutil.rmtree(work, ignore_errors=True)
@@ -190,9 +209,24 @@ def bench_examples_wall() -> None:
     for ex in index:
         out = Path(tempfile.mkdtemp(prefix="memcheck-wall-"))
         t0 = time.perf_counter()
-        proc = subprocess.run([sys.executable, "-m", "memcheck", "check", str(ROOT / "rtl_examples" / ex["contract"]),
-                               "--seed", "1", "--out", str(out), "--quiet", "--json", str(out / "r.json")],
-                              capture_output=True, text=True)
+        proc = subprocess.run(
+            [
+                sys.executable,
+                "-m",
+                "memcheck",
+                "check",
+                str(ROOT / "rtl_examples" / ex["contract"]),
+                "--seed",
+                "1",
+                "--out",
+                str(out),
+                "--quiet",
+                "--json",
+                str(out / "r.json"),
+            ],
+            capture_output=True,
+            text=True,
+        )
         wall = time.perf_counter() - t0
         import json
 
@@ -200,27 +234,34 @@ def bench_examples_wall() -> None:
         mt = rep.get("minimal_trace") or {}
         trace = f"{mt.get('cycles')} cycles" if mt else ""
         ok = "ok" if rep["verdict"] == ex["expect"] else "UNEXPECTED"
-        print(f"  {ex['name']:30s} expect {ex['expect']:4s} got {rep['verdict']:4s} {ok:10s} {wall:6.1f} s  {trace}"
-              f"  (exit {proc.returncode})")
+        print(
+            f"  {ex['name']:30s} expect {ex['expect']:4s} got {rep['verdict']:4s} {ok:10s} {wall:6.1f} s  {trace}"
+            f"  (exit {proc.returncode})"
+        )
         shutil.rmtree(out, ignore_errors=True)
 
 
 def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
     ap.add_argument("--bulk-examples", type=int, default=100, help="bulk examples of the bulk-mode measurement")
-    ap.add_argument("--examples", type=int, default=RunOptions.examples,
-                    help="short examples of the default-phase measurement")
+    ap.add_argument(
+        "--examples", type=int, default=RunOptions.examples, help="short examples of the default-phase measurement"
+    )
     ap.add_argument("--max-blocks", type=int, default=12)
     ap.add_argument("--seed", type=int, default=1)
     ap.add_argument("--long-cycles", type=int, default=100_000, help="cycles of the long-batch measurement")
     ap.add_argument("--wall", action="store_true", help="also time a default check of every rtl_examples wrapper")
     args = ap.parse_args()
-    ratio = bench_property("property phase, bulk mode, 1K x 32 single port", 0, args.bulk_examples,
-                           args.max_blocks, args.seed)
-    print(f"  -> target: the property phase within 2x of the plain testbench: "
-          f"{'met' if ratio <= 2 else 'NOT met'} ({ratio:.2f}x)\n")
-    bench_property("property phase, default budget", args.examples, RunOptions.bulk_examples, args.max_blocks,
-                   args.seed)
+    ratio = bench_property(
+        "property phase, bulk mode, 1K x 32 single port", 0, args.bulk_examples, args.max_blocks, args.seed
+    )
+    print(
+        f"  -> target: the property phase within 2x of the plain testbench: "
+        f"{'met' if ratio <= 2 else 'NOT met'} ({ratio:.2f}x)\n"
+    )
+    bench_property(
+        "property phase, default budget", args.examples, RunOptions.bulk_examples, args.max_blocks, args.seed
+    )
     print()
     bench_property("property phase, short examples only", args.examples, 0, args.max_blocks, args.seed)
     print()

@@ -59,8 +59,9 @@ def bench_a(words: int) -> None:
     setup = SimSetup(words)
     faults = [f for cls in CLASSES for f in enumerate_class(cls, setup)]
     print(f"(a) {len(faults):,} faults (every class, all universe), {words} words x 1 bit, March C-")
-    ref, t_ref, m_ref = measured(lambda: simulate_naive(test, faults, setup),
-                                 trace=lambda: simulate_naive(test, faults[::50], setup))
+    ref, t_ref, m_ref = measured(
+        lambda: simulate_naive(test, faults, setup), trace=lambda: simulate_naive(test, faults[::50], setup)
+    )
     fast, t_fast, m_fast = measured(lambda: simulate(test, faults, setup), repeat=3)
     rep, t_cov, m_cov = measured(lambda: coverage(test, setup, universe="all"), repeat=5)
     same = ref == fast
@@ -68,34 +69,46 @@ def bench_a(words: int) -> None:
     counted = (sum(c.detected for c in rep.classes), sum(c.partial for c in rep.classes))
     print("    (times are untraced; peak memory is traced in a separate call)")
     print(f"    reference engine        {t_ref:9.3f} s   peak {m_ref:7.1f} MiB")
-    print(f"    fast, per fault         {t_fast:9.3f} s   peak {m_fast:7.1f} MiB   ratio {t_ref / t_fast:8.0f}x"
-          f"   identical verdicts and witnesses: {same}")
+    print(
+        f"    fast, per fault         {t_fast:9.3f} s   peak {m_fast:7.1f} MiB   ratio {t_ref / t_fast:8.0f}x"
+        f"   identical verdicts and witnesses: {same}"
+    )
     ratio = t_ref / t_cov
-    print(f"    fast, coverage counts   {t_cov:9.3f} s   peak {m_cov:7.1f} MiB   ratio {ratio:8.0f}x"
-          f"   same counts: {counted == (tally['detected'], tally['partial'])}   "
-          f"({'meets' if ratio >= 1000 else 'MISSES'} >= 1000x)")
+    print(
+        f"    fast, coverage counts   {t_cov:9.3f} s   peak {m_cov:7.1f} MiB   ratio {ratio:8.0f}x"
+        f"   same counts: {counted == (tally['detected'], tally['partial'])}   "
+        f"({'meets' if ratio >= 1000 else 'MISSES'} >= 1000x)"
+    )
     if not same:
         sys.exit("reference and fast engines disagree")
 
 
 def bench_b() -> None:
     print("(b) every static two-cell fault (36 primitives) over every ordered cell pair, March SS, 4,096 bits")
-    for label, setup in (("4096 x 1, linear", SimSetup(4096)),
-                         ("4096 x 1, lfsr order", SimSetup(4096, order="lfsr", seed=1)),
-                         ("128 x 32, standard backgrounds", SimSetup(128, 32))):
+    for label, setup in (
+        ("4096 x 1, linear", SimSetup(4096)),
+        ("4096 x 1, lfsr order", SimSetup(4096, order="lfsr", seed=1)),
+        ("128 x 32, standard backgrounds", SimSetup(128, 32)),
+    ):
         rep, dt, mem = measured(lambda setup=setup: coverage("March SS", setup, classes=STATIC_TWO_CELL), repeat=3)
         cov = sum(c.detected for c in rep.classes) / total(rep)
-        print(f"    {label:32s} {total(rep):>14,} faults {dt:8.3f} s   peak {mem:7.1f} MiB   "
-              f"coverage {100 * cov:.2f} %   ({'meets' if dt < 5 else 'MISSES'} < 5 s)")
+        print(
+            f"    {label:32s} {total(rep):>14,} faults {dt:8.3f} s   peak {mem:7.1f} MiB   "
+            f"coverage {100 * cov:.2f} %   ({'meets' if dt < 5 else 'MISSES'} < 5 s)"
+        )
 
 
 def bench_c() -> None:
     print("(c) neighbour universe, every class, March SS, 1 Mbit")
-    for label, setup in (("1,048,576 x 1, layout 1024x1024", SimSetup(1 << 20, layout=(1024, 1024))),
-                         ("32,768 x 32, layout 1024x32", SimSetup(1 << 15, 32, layout=(1024, 32)))):
+    for label, setup in (
+        ("1,048,576 x 1, layout 1024x1024", SimSetup(1 << 20, layout=(1024, 1024))),
+        ("32,768 x 32, layout 1024x32", SimSetup(1 << 15, 32, layout=(1024, 32))),
+    ):
         rep, dt, mem = measured(lambda setup=setup: coverage("March SS", setup, universe="neighbours"))
-        print(f"    {label:32s} {total(rep):>14,} faults {dt:8.3f} s   peak {mem:7.1f} MiB   "
-              f"({'meets' if dt < 30 else 'MISSES'} < 30 s)")
+        print(
+            f"    {label:32s} {total(rep):>14,} faults {dt:8.3f} s   peak {mem:7.1f} MiB   "
+            f"({'meets' if dt < 30 else 'MISSES'} < 30 s)"
+        )
         worst = sorted(rep.classes, key=lambda c: c.coverage)[:3]
         print("        lowest: " + ", ".join(f"{c.cls} {100 * c.coverage:.1f} %" for c in worst))
 

@@ -61,16 +61,24 @@ def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--words", type=int, default=1 << 20)
     ap.add_argument("--width", type=int, default=32)
-    ap.add_argument("--fraction", type=float, default=None,
-                    help="share of addresses the plain loop runs (default: chosen to take about 10 s)")
+    ap.add_argument(
+        "--fraction",
+        type=float,
+        default=None,
+        help="share of addresses the plain loop runs (default: chosen to take about 10 s)",
+    )
     args = ap.parse_args()
 
     stream = expand("March SS", args.words, args.width, backgrounds="standard")
     total = stream.total_ops
-    print(f"March SS, {args.words} words x {args.width} bits, {len(stream.backgrounds)} standard backgrounds "
-          f"({', '.join(hex(b.base) for b in stream.backgrounds)})")
-    print(f"stream length: {total:,} operations (22 x {args.words} x {len(stream.backgrounds)}), "
-          f"chunks of up to {stream.chunk_ops:,} operations")
+    print(
+        f"March SS, {args.words} words x {args.width} bits, {len(stream.backgrounds)} standard backgrounds "
+        f"({', '.join(hex(b.base) for b in stream.backgrounds)})"
+    )
+    print(
+        f"stream length: {total:,} operations (22 x {args.words} x {len(stream.backgrounds)}), "
+        f"chunks of up to {stream.chunk_ops:,} operations"
+    )
 
     t0 = time.perf_counter()
     n = vectorised(stream)
@@ -83,16 +91,20 @@ def main() -> None:
     _, peak = tracemalloc.get_traced_memory()
     tracemalloc.stop()
     stream_bytes = total * (1 + 8 + 2 * 8 + 2)  # op + address + data + expected + step, one limb
-    print(f"peak traced memory while streaming: {peak / 2**20:.1f} MiB "
-          f"(the whole stream as arrays would be {stream_bytes / 2**30:.1f} GiB)")
+    print(
+        f"peak traced memory while streaming: {peak / 2**20:.1f} MiB "
+        f"(the whole stream as arrays would be {stream_bytes / 2**30:.1f} GiB)"
+    )
 
     # Address-dependent background: no chunk can be reused, every data word is computed.
     checker = expand("March SS", args.words, args.width, backgrounds="checkerboard")
     t0 = time.perf_counter()
     n_checker = vectorised(checker)
     t_checker = time.perf_counter() - t0
-    print(f"vectorised, checkerboard background (address-dependent data): {n_checker:,} operations in "
-          f"{t_checker:.2f} s ({n_checker / t_checker / 1e6:.1f} M operations/s)")
+    print(
+        f"vectorised, checkerboard background (address-dependent data): {n_checker:,} operations in "
+        f"{t_checker:.2f} s ({n_checker / t_checker / 1e6:.1f} M operations/s)"
+    )
 
     # Plain loop: probe its speed on a small share; run it whole if that takes under a minute,
     # otherwise on a share sized to about 10 s, extrapolated linearly (the loop is linear in length).
@@ -107,8 +119,10 @@ def main() -> None:
     built, t_loop = plain_loop(stream, fraction)
     t_loop_full = t_loop * total / built
     if built < total:
-        print(f"plain Python loop: {built:,} operations ({built / total:.2%} of the stream) in {t_loop:.2f} s; "
-              f"the full stream would take about {t_loop_full:.0f} s, so it was extrapolated linearly")
+        print(
+            f"plain Python loop: {built:,} operations ({built / total:.2%} of the stream) in {t_loop:.2f} s; "
+            f"the full stream would take about {t_loop_full:.0f} s, so it was extrapolated linearly"
+        )
     else:
         print(f"plain Python loop: {t_loop:.2f} s for the full stream")
     ratio = t_loop_full / t_vec

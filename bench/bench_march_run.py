@@ -34,16 +34,32 @@ def one(contract: str, test: str, way: str, build_dir: str, out_dir: str) -> Non
     from memcheck.sim.march_run import run_march
 
     t0 = time.perf_counter()
-    r = run_march(contract, test, out_dir=Path(out_dir), build_dir=Path(build_dir), sim_job=way,
-                  max_ops=10_000_000, waveform=False)
+    r = run_march(
+        contract,
+        test,
+        out_dir=Path(out_dir),
+        build_dir=Path(build_dir),
+        sim_job=way,
+        max_ops=10_000_000,
+        waveform=False,
+    )
     seconds = time.perf_counter() - t0
-    print(json.dumps({
-        "way": way, "verdict": r.verdict, "operations": r.operations, "cycles": r.cycles,
-        "seconds": seconds, "sim_seconds": r.extra.get("sim_seconds"),
-        "model_seconds": r.extra.get("seconds_model"), "harness_seconds": r.extra.get("seconds_batches"),
-        "rss_memcheck_mb": resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024,
-        "rss_simulator_mb": resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss / 1024,
-    }))
+    print(
+        json.dumps(
+            {
+                "way": way,
+                "verdict": r.verdict,
+                "operations": r.operations,
+                "cycles": r.cycles,
+                "seconds": seconds,
+                "sim_seconds": r.extra.get("sim_seconds"),
+                "model_seconds": r.extra.get("seconds_model"),
+                "harness_seconds": r.extra.get("seconds_batches"),
+                "rss_memcheck_mb": resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024,
+                "rss_simulator_mb": resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss / 1024,
+            }
+        )
+    )
 
 
 def main() -> None:
@@ -51,9 +67,13 @@ def main() -> None:
     ap.add_argument("--contract", default=str(CONTRACT))
     ap.add_argument("--test", default="March SS")
     ap.add_argument("--ways", default="replay,march")
-    ap.add_argument("--repeat", type=int, default=4,
-                    help="Also run the March job on the test's elements repeated this many times (0: skip), to "
-                         "show that memory does not grow with the stream.")
+    ap.add_argument(
+        "--repeat",
+        type=int,
+        default=4,
+        help="Also run the March job on the test's elements repeated this many times (0: skip), to "
+        "show that memory does not grow with the stream.",
+    )
     ap.add_argument("--one", help=argparse.SUPPRESS)
     ap.add_argument("--build-dir", help=argparse.SUPPRESS)
     ap.add_argument("--out-dir", help=argparse.SUPPRESS)
@@ -77,15 +97,33 @@ def main() -> None:
         for way, test in runs:
             if test != args.test:
                 print(f"  {args.test} x {args.repeat} (its elements {args.repeat} times over):")
-            out = subprocess.run([sys.executable, __file__, "--contract", args.contract, "--test", test,
-                                  "--one", way, "--build-dir", str(build_dir), "--out-dir", str(Path(tmp) / way)],
-                                 check=True, capture_output=True, text=True)
+            out = subprocess.run(
+                [
+                    sys.executable,
+                    __file__,
+                    "--contract",
+                    args.contract,
+                    "--test",
+                    test,
+                    "--one",
+                    way,
+                    "--build-dir",
+                    str(build_dir),
+                    "--out-dir",
+                    str(Path(tmp) / way),
+                ],
+                check=True,
+                capture_output=True,
+                text=True,
+            )
             f = json.loads(out.stdout.strip().splitlines()[-1])
-            print(f"  {way:<7} {f['verdict']}: {f['operations']} operations in {f['seconds']:.1f} s "
-                  f"({f['operations'] / f['seconds']:,.0f} ops/s; simulator side {f['sim_seconds']} s"
-                  + (f" of which model {f['model_seconds']} s" if f["model_seconds"] is not None else "")
-                  + f", harness {f['harness_seconds']} s), "
-                  f"peak RSS memcheck {f['rss_memcheck_mb']:.0f} MB, simulator {f['rss_simulator_mb']:.0f} MB")
+            print(
+                f"  {way:<7} {f['verdict']}: {f['operations']} operations in {f['seconds']:.1f} s "
+                f"({f['operations'] / f['seconds']:,.0f} ops/s; simulator side {f['sim_seconds']} s"
+                + (f" of which model {f['model_seconds']} s" if f["model_seconds"] is not None else "")
+                + f", harness {f['harness_seconds']} s), "
+                f"peak RSS memcheck {f['rss_memcheck_mb']:.0f} MB, simulator {f['rss_simulator_mb']:.0f} MB"
+            )
 
 
 if __name__ == "__main__":

@@ -194,12 +194,7 @@ class Contract:
         readers = [p for p in self.ports if p.can_read]
         if rw_ports and m.read_during_write == "unknown":
             out.append("read data of a readwrite port in a cycle that writes (read_during_write)")
-        if (
-            m.collision == "unknown"
-            and writers
-            and readers
-            and any(r is not w for r in readers for w in writers)
-        ):
+        if m.collision == "unknown" and writers and readers and any(r is not w for r in readers for w in writers):
             out.append("read data when another port writes the same address on the same edge (collision)")
         if m.write_collision == "unknown" and len(writers) > 1:
             out.append("contents after two ports write the same address on the same edge (write_collision)")
@@ -287,8 +282,7 @@ def load_contract(path: str | Path, *, check_sources: bool = True) -> Contract:
         text = raw.decode("utf-8")
     except UnicodeDecodeError:
         raise ContractError(f"{p}: the contract file is not UTF-8 text.") from None
-    return parse_contract(text, source=str(p), base_dir=p.resolve().parent,
-                          check_sources=check_sources, path=p)
+    return parse_contract(text, source=str(p), base_dir=p.resolve().parent, check_sources=check_sources, path=p)
 
 
 def parse_contract(
@@ -304,8 +298,7 @@ def parse_contract(
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise ContractError(f"{source}: not valid TOML ({exc}).") from None
-    return contract_from_dict(data, source=source, base_dir=base_dir,
-                              check_sources=check_sources, path=path)
+    return contract_from_dict(data, source=source, base_dir=base_dir, check_sources=check_sources, path=path)
 
 
 def contract_from_dict(
@@ -365,8 +358,17 @@ def _table(data: Mapping[str, Any], name: str, source: str, *, required: bool) -
     return tbl
 
 
-def _get_int(tbl: Mapping[str, Any], key: str, source: str, section: str, *, lo: int, hi: int,
-             default: int | None = None, required: bool = False) -> int | None:
+def _get_int(
+    tbl: Mapping[str, Any],
+    key: str,
+    source: str,
+    section: str,
+    *,
+    lo: int,
+    hi: int,
+    default: int | None = None,
+    required: bool = False,
+) -> int | None:
     if key not in tbl:
         if required:
             raise ContractError(
@@ -392,8 +394,9 @@ def _get_bool(tbl: Mapping[str, Any], key: str, source: str, section: str, defau
     return v
 
 
-def _get_choice(tbl: Mapping[str, Any], key: str, source: str, section: str,
-                choices: tuple[str, ...], default: str) -> str:
+def _get_choice(
+    tbl: Mapping[str, Any], key: str, source: str, section: str, choices: tuple[str, ...], default: str
+) -> str:
     if key not in tbl:
         return default
     v = tbl[key]
@@ -403,8 +406,9 @@ def _get_choice(tbl: Mapping[str, Any], key: str, source: str, section: str,
     return v
 
 
-def _get_str(tbl: Mapping[str, Any], key: str, source: str, section: str, *,
-             required: bool, what: str = "a signal name") -> str | None:
+def _get_str(
+    tbl: Mapping[str, Any], key: str, source: str, section: str, *, required: bool, what: str = "a signal name"
+) -> str | None:
     if key not in tbl:
         if required:
             raise ContractError(f"{source}: missing required key {_where(section, key)}; allowed: {what}.")
@@ -451,19 +455,21 @@ def _build_memory(tbl: Mapping[str, Any], source: str) -> MemorySpec:
         lane_width=lane_width,
         bit_mask=bit_mask,
         read_latency=latency,
-        read_during_write=cast(ReadDuringWrite, _get_choice(tbl, "read_during_write", source, s,
-                                                            READ_DURING_WRITE, "unknown")),
+        read_during_write=cast(
+            ReadDuringWrite, _get_choice(tbl, "read_during_write", source, s, READ_DURING_WRITE, "unknown")
+        ),
         collision=cast(Collision, _get_choice(tbl, "collision", source, s, COLLISION, "unknown")),
-        write_collision=cast(WriteCollision, _get_choice(tbl, "write_collision", source, s,
-                                                         WRITE_COLLISION, "unknown")),
+        write_collision=cast(
+            WriteCollision, _get_choice(tbl, "write_collision", source, s, WRITE_COLLISION, "unknown")
+        ),
         initial=cast(Initial, _get_choice(tbl, "initial", source, s, INITIAL, "unknown")),
-        idle_read_data=cast(IdleReadData, _get_choice(tbl, "idle_read_data", source, s,
-                                                      IDLE_READ_DATA, "unknown")),
+        idle_read_data=cast(IdleReadData, _get_choice(tbl, "idle_read_data", source, s, IDLE_READ_DATA, "unknown")),
     )
 
 
-def _string_list(tbl: Mapping[str, Any], key: str, source: str, section: str, *, required: bool,
-                 what: str) -> list[str]:
+def _string_list(
+    tbl: Mapping[str, Any], key: str, source: str, section: str, *, required: bool, what: str
+) -> list[str]:
     if key not in tbl:
         if required:
             raise ContractError(f"{source}: missing required key {_where(section, key)}; allowed: {what}.")
@@ -477,9 +483,7 @@ def _string_list(tbl: Mapping[str, Any], key: str, source: str, section: str, *,
 def _value_table(tbl: Mapping[str, Any], key: str, source: str, section: str) -> Mapping[str, int | str]:
     v = tbl.get(key, {})
     if not isinstance(v, dict):
-        raise ContractError(
-            f"{source}: {_where(section, key)} must be an inline table like {{ NAME = 8 }}."
-        )
+        raise ContractError(f"{source}: {_where(section, key)} must be an inline table like {{ NAME = 8 }}.")
     out: dict[str, int | str] = {}
     for name, value in v.items():
         if isinstance(value, bool) or not isinstance(value, int | str):
@@ -492,13 +496,18 @@ def _value_table(tbl: Mapping[str, Any], key: str, source: str, section: str) ->
     return MappingProxyType(out)
 
 
-def _build_rtl(tbl: Mapping[str, Any] | None, source: str, base_dir: Path | None,
-               check_sources: bool) -> RtlSpec:
+def _build_rtl(tbl: Mapping[str, Any] | None, source: str, base_dir: Path | None, check_sources: bool) -> RtlSpec:
     assert tbl is not None
     s = "rtl"
     _reject_unknown(tbl, _RTL_KEYS, source, s)
-    srcs = _string_list(tbl, "sources", source, s, required=True,
-                        what="a non-empty list of Verilog file paths relative to the contract file")
+    srcs = _string_list(
+        tbl,
+        "sources",
+        source,
+        s,
+        required=True,
+        what="a non-empty list of Verilog file paths relative to the contract file",
+    )
     if not srcs:
         raise ContractError(f"{source}: [rtl] sources is empty; allowed: at least one Verilog file.")
     top = cast(str, _get_str(tbl, "top", source, s, required=True, what="a signal name"))
@@ -511,8 +520,9 @@ def _build_rtl(tbl: Mapping[str, Any] | None, source: str, base_dir: Path | None
                     f"{source}: [rtl] sources lists {given!r}, but {full} does not exist; "
                     "allowed: paths relative to the contract file's folder."
                 )
-    incs = tuple(base / x for x in _string_list(tbl, "include_dirs", source, s, required=False,
-                                                 what="a list of folder paths"))
+    incs = tuple(
+        base / x for x in _string_list(tbl, "include_dirs", source, s, required=False, what="a list of folder paths")
+    )
     return RtlSpec(
         sources=sources,
         top=top,
@@ -534,12 +544,27 @@ def _build_reset(tbl: Mapping[str, Any], source: str) -> ResetSpec:
 
 _ROLE_PINS: dict[str, dict[str, str]] = {
     # pin -> "required" | "optional" | "forbidden" | "mask" (required iff the memory has write masks)
-    "readwrite": {"enable": "optional", "write_enable": "required", "write_data": "required",
-                  "lane_enable": "mask", "read_data": "required"},
-    "read": {"enable": "optional", "write_enable": "forbidden", "write_data": "forbidden",
-             "lane_enable": "forbidden", "read_data": "required"},
-    "write": {"enable": "required", "write_enable": "forbidden", "write_data": "required",
-              "lane_enable": "mask", "read_data": "forbidden"},
+    "readwrite": {
+        "enable": "optional",
+        "write_enable": "required",
+        "write_data": "required",
+        "lane_enable": "mask",
+        "read_data": "required",
+    },
+    "read": {
+        "enable": "optional",
+        "write_enable": "forbidden",
+        "write_data": "forbidden",
+        "lane_enable": "forbidden",
+        "read_data": "required",
+    },
+    "write": {
+        "enable": "required",
+        "write_enable": "forbidden",
+        "write_data": "required",
+        "lane_enable": "mask",
+        "read_data": "forbidden",
+    },
 }
 
 
@@ -577,8 +602,9 @@ def _build_port(tbl: Mapping[str, Any], index: int, memory: MemorySpec, source: 
             extra = " (a write port's enable is its write strobe)" if role == "write" and pin == "enable" else ""
             raise ContractError(f"{source}: [{s}] {pin} is missing; a {role} port needs it{extra}.")
         pins[pin] = _get_str(tbl, pin, source, s, required=False)
-    active_low = _string_list(tbl, "active_low", source, s, required=False,
-                              what="a list of this port's control pin names")
+    active_low = _string_list(
+        tbl, "active_low", source, s, required=False, what="a list of this port's control pin names"
+    )
     controls = {v for k, v in pins.items() if k in ("enable", "write_enable", "lane_enable") and v}
     for pin_name in active_low:
         if pin_name not in controls:

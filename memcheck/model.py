@@ -108,8 +108,9 @@ class Model:
         """Set stored contents directly (for users' testbenches that preload a memory)."""
         if not 0 <= address < self.memory.words:
             raise InvalidOperation(f"poke address {address} is outside 0..{self.memory.words - 1}")
-        self._store(address, Expected(value & self._word_mask,
-                                      self._word_mask if known is None else known & self._word_mask))
+        self._store(
+            address, Expected(value & self._word_mask, self._word_mask if known is None else known & self._word_mask)
+        )
 
     def _store(self, address: int, e: Expected) -> None:
         if self._limbs == 1:

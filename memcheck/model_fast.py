@@ -99,9 +99,13 @@ class Columns:
         ll = limbs_of(max(m.lanes, 1))
         lanes = np.zeros((cycles, p, ll), dtype=_U64)
         lanes[:] = int_limbs(m.all_lanes, ll)
-        return cls(np.zeros((cycles, p), dtype=np.int8), np.zeros((cycles, p), dtype=np.int64),
-                   np.zeros((cycles, p, limbs_of(m.width)), dtype=_U64), lanes,
-                   np.zeros((cycles, p), dtype=bool))
+        return cls(
+            np.zeros((cycles, p), dtype=np.int8),
+            np.zeros((cycles, p), dtype=np.int64),
+            np.zeros((cycles, p, limbs_of(m.width)), dtype=_U64),
+            lanes,
+            np.zeros((cycles, p), dtype=bool),
+        )
 
     @classmethod
     def quiet(cls, contract: Contract, cycles: int) -> Columns:
@@ -122,16 +126,23 @@ class Columns:
         if any(len(c) != p for c in cycles):
             raise InvalidOperation(f"a cycle needs one operation per port ({p})")
         ops = [op for c in cycles for op in c]
-        if any(op.address < 0 or op.address >> 62 or op.data < 0 or op.data >> m.width
-               or (op.lanes is not None and not 0 <= op.lanes <= m.all_lanes) for op in ops):
+        if any(
+            op.address < 0
+            or op.address >> 62
+            or op.data < 0
+            or op.data >> m.width
+            or (op.lanes is not None and not 0 <= op.lanes <= m.all_lanes)
+            for op in ops
+        ):
             model = Model(contract)
             for c in cycles:
                 model.validate(c)
         kind = np.fromiter((_KINDS[op.kind] for op in ops), dtype=np.int8, count=t * p).reshape(t, p)
         address = np.fromiter((op.address for op in ops), dtype=np.int64, count=t * p).reshape(t, p)
         data = ints_to_limbs([op.data for op in ops], limbs_of(m.width)).reshape(t, p, -1)
-        lanes = ints_to_limbs([m.all_lanes if op.lanes is None else op.lanes for op in ops],
-                              limbs_of(max(m.lanes, 1))).reshape(t, p, -1)
+        lanes = ints_to_limbs(
+            [m.all_lanes if op.lanes is None else op.lanes for op in ops], limbs_of(max(m.lanes, 1))
+        ).reshape(t, p, -1)
         given = np.fromiter((op.lanes is not None for op in ops), dtype=bool, count=t * p).reshape(t, p)
         return cls(kind, address, data, lanes, given)
 
@@ -144,20 +155,27 @@ class Columns:
         data = limbs_to_ints(self.data.reshape(t * p, -1))
         lanes = limbs_to_ints(self.lanes.reshape(t * p, -1))
         given = self.lanes_given.ravel().tolist()
-        ops = [PortOp(_NAMES[k], a, d, ln if g else None)  # type: ignore[arg-type]
-               for k, a, d, ln, g in zip(kinds, addrs, data, lanes, given, strict=True)]
-        return [tuple(ops[i * p:(i + 1) * p]) for i in range(t)]
+        ops = [
+            PortOp(_NAMES[k], a, d, ln if g else None)  # type: ignore[arg-type]
+            for k, a, d, ln, g in zip(kinds, addrs, data, lanes, given, strict=True)
+        ]
+        return [tuple(ops[i * p : (i + 1) * p]) for i in range(t)]
 
     def __getitem__(self, index: slice) -> Columns:
-        return Columns(self.kind[index], self.address[index], self.data[index], self.lanes[index],
-                       self.lanes_given[index])
+        return Columns(
+            self.kind[index], self.address[index], self.data[index], self.lanes[index], self.lanes_given[index]
+        )
 
     @staticmethod
     def concat(parts: Sequence[Columns]) -> Columns:
         if not parts:
             raise ValueError("nothing to concatenate")
-        return Columns(*(np.concatenate([getattr(c, f) for c in parts]) for f in
-                         ("kind", "address", "data", "lanes", "lanes_given")))
+        return Columns(
+            *(
+                np.concatenate([getattr(c, f) for c in parts])
+                for f in ("kind", "address", "data", "lanes", "lanes_given")
+            )
+        )
 
     def operation_count(self) -> int:
         """Non-idle port operations (as :meth:`memcheck.ops.Trace.operation_count`)."""
@@ -193,7 +211,7 @@ def validate(contract: Contract, cols: Columns) -> None:
     if bad.any():
         at = int(np.argmax(bad))
         try:
-            Model(contract).validate(cols[at:at + 1].to_cycles()[0])
+            Model(contract).validate(cols[at : at + 1].to_cycles()[0])
         except InvalidOperation as exc:
             raise InvalidOperation(f"cycle {at}: {exc}") from None
         raise InvalidOperation(f"cycle {at}: an operation does not fit the contract")  # pragma: no cover
@@ -208,10 +226,10 @@ def _write_bits(contract: Contract, lanes: np.ndarray) -> np.ndarray:
         on = (lanes[:, 0] & _U64(1)).astype(bool)
         return np.where(on[:, None], int_limbs(m.word_mask, limbs), _U64(0))
     raw = np.ascontiguousarray(lanes, dtype="<u8").view(np.uint8).reshape(n, 8 * lanes.shape[1])
-    per_lane = np.unpackbits(raw, axis=1, bitorder="little")[:, :m.lanes]
+    per_lane = np.unpackbits(raw, axis=1, bitorder="little")[:, : m.lanes]
     bits = np.repeat(per_lane, m.bits_per_lane, axis=1) if m.bits_per_lane > 1 else per_lane
     padded = np.zeros((n, 64 * limbs), dtype=np.uint8)
-    padded[:, :m.width] = bits
+    padded[:, : m.width] = bits
     packed = np.packbits(padded, axis=1, bitorder="little")
     return np.ascontiguousarray(packed).view("<u8").reshape(n, limbs).astype(_U64)
 
@@ -258,8 +276,9 @@ def _merged_writes(contract: Contract, cols: Columns, span: np.int64) -> tuple[n
     return key, touch, touch.copy(), merged
 
 
-def _scan(key: np.ndarray, span: np.int64, touch: np.ndarray, sets: np.ndarray,
-          data: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+def _scan(
+    key: np.ndarray, span: np.int64, touch: np.ndarray, sets: np.ndarray, data: np.ndarray
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Compose each address's updates in cycle order (a segmented prefix scan, log steps): element i
     becomes the single update equal to all of its address's updates up to and including i."""
     touch, sets, data = touch.copy(), sets.copy(), data.copy()
@@ -282,8 +301,9 @@ def _scan(key: np.ndarray, span: np.int64, touch: np.ndarray, sets: np.ndarray,
     return touch, sets, data
 
 
-def expected(contract: Contract, cols: Columns, contents: Contents = "unknown",
-             *, check: bool = True) -> tuple[np.ndarray, np.ndarray]:
+def expected(
+    contract: Contract, cols: Columns, contents: Contents = "unknown", *, check: bool = True
+) -> tuple[np.ndarray, np.ndarray]:
     """Expected read data of every cycle and port: ``(value, known)``, each (T, P, limbs) uint64.
 
     Matches ``Model`` started from ``forget()`` (``contents="unknown"``), or from a state whose
@@ -348,8 +368,9 @@ def expected(contract: Contract, cols: Columns, contents: Contents = "unknown",
         hi = np.searchsorted(ukey, qkey, side="right")
         idx = np.where(qa, hi, lo) - 1
         safe = np.maximum(idx, 0)
-        found = ((idx >= 0) & (ukey[safe] // span == qaddr))[:, None] if len(ukey) else \
-            np.zeros((len(qt), 1), dtype=bool)
+        found = (
+            ((idx >= 0) & (ukey[safe] // span == qaddr))[:, None] if len(ukey) else np.zeros((len(qt), 1), dtype=bool)
+        )
         base = int_limbs(m.word_mask if contents == "zero" else 0, limbs)  # contents before any write
         if len(ukey):
             kn = np.where(found, (base & ~c_touch[safe]) | c_sets[safe], base)
@@ -372,9 +393,9 @@ def expected(contract: Contract, cols: Columns, contents: Contents = "unknown",
         dv = np.zeros((t_len, limbs), dtype=_U64)
         dk = np.zeros((t_len, limbs), dtype=_U64)
         if lat < t_len:
-            due[lat:] = entry[:t_len - lat, i]
-            dv[lat:] = rv[:t_len - lat, i]
-            dk[lat:] = rk[:t_len - lat, i]
+            due[lat:] = entry[: t_len - lat, i]
+            dv[lat:] = rv[: t_len - lat, i]
+            dk[lat:] = rk[: t_len - lat, i]
         if m.idle_read_data == "unknown":
             due[due == _NONE] = _RESULT  # shows nothing known, and is what "last" becomes
         src = np.maximum.accumulate(np.where(due == _RESULT, steps, -1))
@@ -391,11 +412,10 @@ def expected_rows(value: np.ndarray, known: np.ndarray) -> list[tuple[Expected, 
     vals = limbs_to_ints(value.reshape(t * p, -1)) if t else []
     kns = limbs_to_ints(known.reshape(t * p, -1)) if t else []
     flat = [Expected(v, k) for v, k in zip(vals, kns, strict=True)]
-    return [tuple(flat[i * p:(i + 1) * p]) for i in range(t)]
+    return [tuple(flat[i * p : (i + 1) * p]) for i in range(t)]
 
 
-def mismatch(exp_value: np.ndarray, exp_known: np.ndarray, actual: np.ndarray,
-             defined: np.ndarray) -> np.ndarray:
+def mismatch(exp_value: np.ndarray, exp_known: np.ndarray, actual: np.ndarray, defined: np.ndarray) -> np.ndarray:
     """Differing bits, (T, P, limbs): known bits whose actual value differs or is X/Z."""
     out: np.ndarray = exp_known & ((exp_value ^ actual) | ~defined)
     return out

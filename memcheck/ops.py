@@ -99,8 +99,7 @@ class Expected:
     def render(self, width: int) -> str:
         """Binary rendering, MSB first, with 'x' for unknown bits."""
         return "".join(
-            ("1" if self.value >> b & 1 else "0") if self.known >> b & 1 else "x"
-            for b in range(width - 1, -1, -1)
+            ("1" if self.value >> b & 1 else "0") if self.known >> b & 1 else "x" for b in range(width - 1, -1, -1)
         )
 
 

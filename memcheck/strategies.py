@@ -112,8 +112,7 @@ class _Plan:
         self.index = st.integers(0, max(max_pool, 1) - 1)
         self.data = data_words(m.width)
         self.lanes = lane_values(contract)
-        garbage_lanes: st.SearchStrategy[int | None] = (
-            st.just(None) if m.lanes == 0 else st.integers(0, m.all_lanes))
+        garbage_lanes: st.SearchStrategy[int | None] = st.just(None) if m.lanes == 0 else st.integers(0, m.all_lanes)
         # Garbage addresses come from the pool, so a wrapper that writes while deselected is caught by
         # a read of the same address soon after.
         garbage = st.one_of(st.just(None), st.tuples(self.index, self.data, garbage_lanes))
@@ -121,9 +120,14 @@ class _Plan:
         self.rest = [garbage.map(lambda g: ("idle", g)) if p.can_idle else reads for p in ports]
         self.writes = st.tuples(st.just("write"), self.index, self.data, self.lanes)
         self.payload = st.tuples(self.data, self.lanes)
-        self.any_op = [st.one_of(*([self.rest[i]] if p.can_idle else []) + ([reads] if p.can_read else [])
-                                 + ([self.writes] if p.can_write else []))
-                       for i, p in enumerate(ports)]
+        self.any_op = [
+            st.one_of(
+                *([self.rest[i]] if p.can_idle else [])
+                + ([reads] if p.can_read else [])
+                + ([self.writes] if p.can_write else [])
+            )
+            for i, p in enumerate(ports)
+        ]
         self.cycle = st.tuples(*self.any_op)
         self.rest_cycle = st.tuples(*self.rest)
         writers = [i for i, p in enumerate(ports) if p.can_write]

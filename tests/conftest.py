@@ -9,7 +9,11 @@ import pytest
 from hypothesis import HealthCheck, settings
 
 settings.register_profile(
-    "ci", derandomize=True, database=None, deadline=None, print_blob=True,
+    "ci",
+    derandomize=True,
+    database=None,
+    deadline=None,
+    print_blob=True,
     suppress_health_check=[HealthCheck.too_slow],
 )
 settings.register_profile("dev", deadline=None, suppress_health_check=[HealthCheck.too_slow])

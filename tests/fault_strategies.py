@@ -20,8 +20,9 @@ from memcheck.march.notation import Delay, MarchElement, MarchOp, MarchTest
 
 
 @st.composite
-def march_tests(draw: st.DrawFn, max_elements: int = 5, max_ops: int = 5, delays: bool = True,
-                leading_reads: bool = True) -> MarchTest:
+def march_tests(
+    draw: st.DrawFn, max_elements: int = 5, max_ops: int = 5, delays: bool = True, leading_reads: bool = True
+) -> MarchTest:
     """A random March test that a fault-free memory passes: every read after the first write expects
     the value written last; reads before it (only with ``leading_reads``, which needs a single data
     background) may expect anything, as they are not compared."""

@@ -18,8 +18,9 @@ BUGS = ("none", "swap_lanes", "stale_bypass", "late_data", "no_lane_mask", "deca
 
 
 def contract(words: int = 16, width: int = 8, lane_width: int = 4) -> Contract:
-    return Contract.simple(words, width, lane_width=lane_width, read_latency=1, read_during_write="old",
-                           idle_read_data="keep")
+    return Contract.simple(
+        words, width, lane_width=lane_width, read_latency=1, read_during_write="old", idle_read_data="keep"
+    )
 
 
 class PyRam:

@@ -17,7 +17,7 @@ from memcheck.cli import main
 from memcheck.contract import contract_from_dict
 from tests.contract_strategies import contract_dicts
 
-DOC_EXAMPLE = '''
+DOC_EXAMPLE = """
 [memory]
 words = 256
 width = 32
@@ -53,7 +53,7 @@ write_data = "wdata"
 lane_enable = "be"
 read_data = "rdata"
 active_low = ["cs_n"]
-'''
+"""
 
 
 def test_documented_example_loads_with_every_key() -> None:
@@ -72,11 +72,19 @@ def test_documented_example_loads_with_every_key() -> None:
 def test_defaults_are_the_least_assuming() -> None:
     c = parse_contract(DOC_EXAMPLE.replace('read_during_write = "old"', "").replace('idle_read_data = "keep"', ""))
     assert c.memory.read_during_write == "unknown" and c.memory.idle_read_data == "unknown"
-    minimal = '[memory]\nwords=3\nwidth=1\n[rtl]\nsources=["a.v"]\ntop="t"\n' \
-              '[[port]]\nname="r"\nrole="read"\nclock="c"\naddress="a"\nread_data="q"\n'
+    minimal = (
+        '[memory]\nwords=3\nwidth=1\n[rtl]\nsources=["a.v"]\ntop="t"\n'
+        '[[port]]\nname="r"\nrole="read"\nclock="c"\naddress="a"\nread_data="q"\n'
+    )
     m = parse_contract(minimal).memory
     assert (m.read_latency, m.bit_mask, m.lane_width, m.collision, m.write_collision, m.initial) == (
-        1, False, None, "unknown", "unknown", "unknown")
+        1,
+        False,
+        None,
+        "unknown",
+        "unknown",
+        "unknown",
+    )
 
 
 def _broken(replace: str, by: str) -> str:
@@ -142,8 +150,12 @@ def test_random_valid_contracts_load(doc: dict[str, Any]) -> None:
 # --- fuzzing: Hypothesis-generated broken files ---------------------------------------------------
 
 _VALUES = st.one_of(
-    st.integers(-5, 2000), st.booleans(), st.text(string.ascii_letters + '"', max_size=6),
-    st.lists(st.integers(0, 3), max_size=2), st.builds(dict), st.floats(allow_nan=False, allow_infinity=False),
+    st.integers(-5, 2000),
+    st.booleans(),
+    st.text(string.ascii_letters + '"', max_size=6),
+    st.lists(st.integers(0, 3), max_size=2),
+    st.builds(dict),
+    st.floats(allow_nan=False, allow_infinity=False),
 )
 
 

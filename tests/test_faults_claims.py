@@ -129,8 +129,9 @@ def _af_condition_tests(draw: st.DrawFn) -> MarchTest:
 
 
 @settings(max_examples=30)
-@given(test=_af_condition_tests(), words=st.integers(2, 9),
-       order=st.sampled_from(("linear", "gray", "complement", "lfsr")))
+@given(
+    test=_af_condition_tests(), words=st.integers(2, 9), order=st.sampled_from(("linear", "gray", "complement", "lfsr"))
+)
 def test_sufficient_condition_for_address_decoder_faults(test: MarchTest, words: int, order: str) -> None:
     # van de Goor 1991 (as above), condition as we recall it: a March test containing ⇑(rx,…,w¬x) and
     # ⇓(r¬x,…,wx) detects all address-decoder faults, for any address order whose ⇓ is the reverse of ⇑

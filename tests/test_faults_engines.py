@@ -98,5 +98,4 @@ def test_fault_outside_memory_is_rejected() -> None:
     with pytest.raises(FaultModelError, match="outside"):
         simulate(resolve_test("MATS+"), [DecoderFault("wrong-cell", 0, 9)], SimSetup(4))
     with pytest.raises(FaultModelError, match="outside"):
-        simulate(resolve_test("MATS+"), [CouplingFault(model_named("CFst<0;0>"), Cell(0, 3), Cell(1))],
-                 SimSetup(4, 2))
+        simulate(resolve_test("MATS+"), [CouplingFault(model_named("CFst<0;0>"), Cell(0, 3), Cell(1))], SimSetup(4, 2))

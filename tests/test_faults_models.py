@@ -43,8 +43,18 @@ def test_two_cell_static_primitives_are_the_36_of_the_taxonomy() -> None:
     assert len(notations) == 36
     # same source: the 10 static single-cell FPs besides the two state faults
     single = {p.notation for c in ("TF", "WDF", "RDF", "DRDF", "IRF") for m in models_of(c) for p in m.primitives}
-    assert single == {"<0w1/0/->", "<1w0/1/->", "<0w0/1/->", "<1w1/0/->", "<0r0/1/1>", "<1r1/0/0>",
-                      "<0r0/1/0>", "<1r1/0/1>", "<0r0/0/1>", "<1r1/1/0>"}
+    assert single == {
+        "<0w1/0/->",
+        "<1w0/1/->",
+        "<0w0/1/->",
+        "<1w1/0/->",
+        "<0r0/1/1>",
+        "<1r1/0/0>",
+        "<0r0/1/0>",
+        "<1r1/0/1>",
+        "<0r0/0/1>",
+        "<1r1/1/0>",
+    }
 
 
 def test_classic_coupling_faults_as_primitives() -> None:
@@ -58,19 +68,23 @@ def test_classic_coupling_faults_as_primitives() -> None:
     assert [aggressor_op(cfid, 0, v, "w", 1) for v in (0, 1)] == [1, 1]
 
 
-@pytest.mark.parametrize(("name", "a", "v", "kind", "value", "expected"), [
-    ("TF↑", 0, 0, "w", 1, (0, 0)),       # cannot rise
-    ("TF↑", 0, 1, "w", 1, (1, 1)),       # non-transition write is fine
-    ("RDF0", 0, 0, "r", 0, (1, 1)),      # flips and returns the flipped value
-    ("DRDF0", 0, 0, "r", 0, (1, 0)),     # flips but returns the correct value
-    ("IRF1", 0, 1, "r", 1, (1, 0)),      # wrong value, cell intact
-    ("SA1", 0, 0, "w", 0, (1, 1)),
-    ("CFtr<1;↑>", 1, 0, "w", 1, (0, 0)),
-    ("CFtr<1;↑>", 0, 0, "w", 1, (1, 1)),  # aggressor in the other state: fault-free
-    ("CFrd<0;1>", 0, 1, "r", 1, (0, 0)),
-])
-def test_victim_operation_semantics(name: str, a: int, v: int, kind: str, value: int,
-                                    expected: tuple[int, int]) -> None:
+@pytest.mark.parametrize(
+    ("name", "a", "v", "kind", "value", "expected"),
+    [
+        ("TF↑", 0, 0, "w", 1, (0, 0)),  # cannot rise
+        ("TF↑", 0, 1, "w", 1, (1, 1)),  # non-transition write is fine
+        ("RDF0", 0, 0, "r", 0, (1, 1)),  # flips and returns the flipped value
+        ("DRDF0", 0, 0, "r", 0, (1, 0)),  # flips but returns the correct value
+        ("IRF1", 0, 1, "r", 1, (1, 0)),  # wrong value, cell intact
+        ("SA1", 0, 0, "w", 0, (1, 1)),
+        ("CFtr<1;↑>", 1, 0, "w", 1, (0, 0)),
+        ("CFtr<1;↑>", 0, 0, "w", 1, (1, 1)),  # aggressor in the other state: fault-free
+        ("CFrd<0;1>", 0, 1, "r", 1, (0, 0)),
+    ],
+)
+def test_victim_operation_semantics(
+    name: str, a: int, v: int, kind: str, value: int, expected: tuple[int, int]
+) -> None:
     assert victim_op(model_named(name), a, v, kind, value) == expected
 
 
@@ -80,24 +94,41 @@ def test_state_coupling_acts_at_once() -> None:
     assert settle(m, 1, 1) == 1
 
 
-@pytest.mark.parametrize("text", ["<0w1/0>", "0w1/0/-", "<0w2/0/->", "<0r1/0/1>", "<0w1/0/1>", "<0r0/1/->",
-                                  "<0w1;0r0/1/1>", "<0T;0/1/->", "<x/0/->"])
+@pytest.mark.parametrize(
+    "text",
+    [
+        "<0w1/0>",
+        "0w1/0/-",
+        "<0w2/0/->",
+        "<0r1/0/1>",
+        "<0w1/0/1>",
+        "<0r0/1/->",
+        "<0w1;0r0/1/1>",
+        "<0T;0/1/->",
+        "<x/0/->",
+    ],
+)
 def test_bad_primitives_are_rejected(text: str) -> None:
     with pytest.raises(FaultModelError):
         fp(text)
 
 
-@pytest.mark.parametrize("text", ["<0w1/0/->", "<1r1/0/1>", "<0;1/0/->", "<1w0;0/1/->", "<0r0;1/0/->", "<∀/1/->",
-                                  "<1T/0/->"])
+@pytest.mark.parametrize(
+    "text", ["<0w1/0/->", "<1r1/0/1>", "<0;1/0/->", "<1w0;0/1/->", "<0r0;1/0/->", "<∀/1/->", "<1T/0/->"]
+)
 def test_primitive_notation_round_trips(text: str) -> None:
     assert fp(text).notation == text
 
 
 def test_instance_descriptions() -> None:
-    assert CellFault(model_named("TF↑"), Cell(17, 3)).describe() == \
-        "bit 3 of word 17 cannot rise (writing 1 over 0 leaves 0)"
-    assert CouplingFault(model_named("CFds<0w1;0>"), Cell(4), Cell(9)).describe() == \
-        "writing 1 to word 4 bit 0 (holding 0) flips word 9 bit 0 from 0 to 1"
+    assert (
+        CellFault(model_named("TF↑"), Cell(17, 3)).describe()
+        == "bit 3 of word 17 cannot rise (writing 1 over 0 leaves 0)"
+    )
+    assert (
+        CouplingFault(model_named("CFds<0w1;0>"), Cell(4), Cell(9)).describe()
+        == "writing 1 to word 4 bit 0 (holding 0) flips word 9 bit 0 from 0 to 1"
+    )
     assert CouplingFault(model_named("CFst<1;0>"), Cell(9), Cell(4)).scope == "aggressor above"
     assert StuckOpenFault(Cell(2, 1)).describe().startswith("bit 1 of word 2 is stuck open")
     assert DecoderFault("extra-cell", 5, 9, "or").describe() == "address 5 reaches words 5 and 9 (read as wired-OR)"
@@ -107,10 +138,17 @@ def test_instance_descriptions() -> None:
         assert "\n" not in text and "{" not in text
 
 
-@pytest.mark.parametrize("bad", [lambda: DecoderFault("no-cell", 1, 2), lambda: DecoderFault("extra-cell", 1, 2),
-                                 lambda: DecoderFault("wrong-cell", 1, 1), lambda: DecoderFault("nowhere", 1),
-                                 lambda: CouplingFault(model_named("CFst<0;0>"), Cell(1), Cell(1)),
-                                 lambda: CellFault(model_named("CFst<0;0>"), Cell(1))])
+@pytest.mark.parametrize(
+    "bad",
+    [
+        lambda: DecoderFault("no-cell", 1, 2),
+        lambda: DecoderFault("extra-cell", 1, 2),
+        lambda: DecoderFault("wrong-cell", 1, 1),
+        lambda: DecoderFault("nowhere", 1),
+        lambda: CouplingFault(model_named("CFst<0;0>"), Cell(1), Cell(1)),
+        lambda: CellFault(model_named("CFst<0;0>"), Cell(1)),
+    ],
+)
 def test_bad_instances_are_rejected(bad) -> None:  # type: ignore[no-untyped-def]
     with pytest.raises(FaultModelError):
         bad()
@@ -149,8 +187,10 @@ def test_sample_universe_reports_wilson_interval() -> None:
     assert report.to_json()["universe"] == "sample:40"
 
 
-@pytest.mark.parametrize(("k", "n", "lo", "hi"), [(81, 263, 0.2553, 0.3662), (15, 148, 0.0624, 0.1605),
-                                                  (0, 20, 0.0, 0.1611), (1, 29, 0.0061, 0.1718)])
+@pytest.mark.parametrize(
+    ("k", "n", "lo", "hi"),
+    [(81, 263, 0.2553, 0.3662), (15, 148, 0.0624, 0.1605), (0, 20, 0.0, 0.1611), (1, 29, 0.0061, 0.1718)],
+)
 def test_wilson_interval_published_values(k: int, n: int, lo: float, hi: float) -> None:
     # R.G. Newcombe, "Two-Sided Confidence Intervals for the Single Proportion: Comparison of Seven
     # Methods", Statistics in Medicine 17, 1998, Table II, Wilson score method (values from memory).

@@ -52,8 +52,7 @@ def test_checkerboard_and_stripes_are_physical(rows: int, cols: int, width: int)
     addrs = np.arange(rows * cols, dtype=np.int64)
     lay = (rows, cols)
     r_idx, c_idx = np.indices((rows, width * cols))
-    for name, want in (("checkerboard", (r_idx + c_idx) & 1), ("row-stripe", r_idx & 1),
-                       ("col-stripe", c_idx & 1)):
+    for name, want in (("checkerboard", (r_idx + c_idx) & 1), ("row-stripe", r_idx & 1), ("col-stripe", c_idx & 1)):
         (bg,) = resolve_backgrounds(name, width, lay)
         cells = _physical(background_words(bg, addrs, width, lay), width, rows, cols)
         assert np.array_equal(cells, want), name

@@ -38,8 +38,19 @@ def test_march_show(capsys: pytest.CaptureFixture[str]) -> None:
 
 
 def test_patterns_stdout_matches_the_api(capsys: pytest.CaptureFixture[str]) -> None:
-    rc, out, err = run(capsys, "patterns", "MATS+", "--words", "8", "--width", "16", "--backgrounds",
-                       "solid,checkerboard", "--format", "csv")
+    rc, out, err = run(
+        capsys,
+        "patterns",
+        "MATS+",
+        "--words",
+        "8",
+        "--width",
+        "16",
+        "--backgrounds",
+        "solid,checkerboard",
+        "--format",
+        "csv",
+    )
     assert rc == 0
     assert out == render(expand("MATS+", 8, 16, backgrounds="solid,checkerboard"), "csv")
     assert "80 operations = 5 x 8 words x 2 background(s)" in err
@@ -47,8 +58,23 @@ def test_patterns_stdout_matches_the_api(capsys: pytest.CaptureFixture[str]) -> 
 
 def test_patterns_to_file_with_notation_layout_and_lfsr(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
     target = tmp_path / "p.json"
-    rc, _, err = run(capsys, "patterns", "{up(w0); down(r0,w1); any(r1)}", "--layout", "4x2", "--width", "8",
-                     "--order", "lfsr", "--seed", "11", "--format", "json", "-o", str(target))
+    rc, _, err = run(
+        capsys,
+        "patterns",
+        "{up(w0); down(r0,w1); any(r1)}",
+        "--layout",
+        "4x2",
+        "--width",
+        "8",
+        "--order",
+        "lfsr",
+        "--seed",
+        "11",
+        "--format",
+        "json",
+        "-o",
+        str(target),
+    )
     assert rc == 0
     doc = json.loads(target.read_text())
     assert doc["words"] == 8 and doc["layout"] == [4, 2] and doc["order"] == "lfsr" and doc["seed"] == 11
@@ -56,17 +82,20 @@ def test_patterns_to_file_with_notation_layout_and_lfsr(tmp_path: Path, capsys: 
     assert "seed 11" in err  # the seed of the pseudo-random order is printed
 
 
-@pytest.mark.parametrize("args", [
-    ("patterns", "March Q", "--words", "8", "--width", "8"),            # unknown name
-    ("patterns", "{up(w0", "--words", "8", "--width", "8"),             # bad notation
-    ("patterns", "MATS", "--width", "8"),                               # no word count
-    ("patterns", "MATS", "--words", "10", "--width", "8", "--layout", "3x3"),   # layout mismatch
-    ("patterns", "MATS", "--words", "10", "--width", "0"),              # impossible width
-    ("patterns", "MATS", "--words", "10", "--width", "8", "--order", "row-fast"),  # needs a layout
-    ("patterns", "MATS", "--words", "10", "--width", "8", "--backgrounds", "plaid"),
-    ("patterns", "MATS", "--words", "10", "--width", "8", "--format", "bin"),
-    ("march", "show", "March Q"),
-])
+@pytest.mark.parametrize(
+    "args",
+    [
+        ("patterns", "March Q", "--words", "8", "--width", "8"),  # unknown name
+        ("patterns", "{up(w0", "--words", "8", "--width", "8"),  # bad notation
+        ("patterns", "MATS", "--width", "8"),  # no word count
+        ("patterns", "MATS", "--words", "10", "--width", "8", "--layout", "3x3"),  # layout mismatch
+        ("patterns", "MATS", "--words", "10", "--width", "0"),  # impossible width
+        ("patterns", "MATS", "--words", "10", "--width", "8", "--order", "row-fast"),  # needs a layout
+        ("patterns", "MATS", "--words", "10", "--width", "8", "--backgrounds", "plaid"),
+        ("patterns", "MATS", "--words", "10", "--width", "8", "--format", "bin"),
+        ("march", "show", "March Q"),
+    ],
+)
 def test_bad_input_exits_2_with_one_paragraph(capsys: pytest.CaptureFixture[str], args: tuple[str, ...]) -> None:
     rc, _, err = run(capsys, *args)
     assert rc == 2
@@ -75,10 +104,15 @@ def test_bad_input_exits_2_with_one_paragraph(capsys: pytest.CaptureFixture[str]
 
 def test_console_script_exit_codes(tmp_path: Path) -> None:
     exe = [sys.executable, "-m", "memcheck"]
-    ok = subprocess.run([*exe, "patterns", "March C-", "--words", "16", "--width", "8", "-o",
-                         str(tmp_path / "c.hex")], capture_output=True, text=True, timeout=60)
+    ok = subprocess.run(
+        [*exe, "patterns", "March C-", "--words", "16", "--width", "8", "-o", str(tmp_path / "c.hex")],
+        capture_output=True,
+        text=True,
+        timeout=60,
+    )
     assert ok.returncode == 0, ok.stderr
     assert (tmp_path / "c.hex").read_text() == render(expand("March C-", 16, 8), "hex")
-    bad = subprocess.run([*exe, "patterns", "{up(r2)}", "--words", "16", "--width", "8"], capture_output=True,
-                         text=True, timeout=60)
+    bad = subprocess.run(
+        [*exe, "patterns", "{up(r2)}", "--words", "16", "--width", "8"], capture_output=True, text=True, timeout=60
+    )
     assert bad.returncode == 2 and "expected 0 or 1" in bad.stderr and "Traceback" not in bad.stderr

@@ -46,9 +46,26 @@ def test_mats_plus_on_four_words_hand_checked() -> None:
     # worked out by hand: 5n = 20 operations.
     got = _ops(list(expand("MATS+", 4, 1).steps()))
     assert got == [
-        "w0@0", "w0@1", "w0@2", "w0@3",
-        "r0@0", "w1@0", "r0@1", "w1@1", "r0@2", "w1@2", "r0@3", "w1@3",
-        "r1@3", "w0@3", "r1@2", "w0@2", "r1@1", "w0@1", "r1@0", "w0@0",
+        "w0@0",
+        "w0@1",
+        "w0@2",
+        "w0@3",
+        "r0@0",
+        "w1@0",
+        "r0@1",
+        "w1@1",
+        "r0@2",
+        "w1@2",
+        "r0@3",
+        "w1@3",
+        "r1@3",
+        "w0@3",
+        "r1@2",
+        "w0@2",
+        "r1@1",
+        "w0@1",
+        "r1@0",
+        "w0@0",
     ]
 
 
@@ -57,12 +74,46 @@ def test_march_c_minus_on_four_words_hand_checked() -> None:
     # 10n = 40 operations, worked out by hand.
     got = _ops(list(expand("March C-", 4, 8).steps()))
     assert got == [
-        "w0@0", "w0@1", "w0@2", "w0@3",
-        "r0@0", "wff@0", "r0@1", "wff@1", "r0@2", "wff@2", "r0@3", "wff@3",
-        "rff@0", "w0@0", "rff@1", "w0@1", "rff@2", "w0@2", "rff@3", "w0@3",
-        "r0@3", "wff@3", "r0@2", "wff@2", "r0@1", "wff@1", "r0@0", "wff@0",
-        "rff@3", "w0@3", "rff@2", "w0@2", "rff@1", "w0@1", "rff@0", "w0@0",
-        "r0@0", "r0@1", "r0@2", "r0@3",
+        "w0@0",
+        "w0@1",
+        "w0@2",
+        "w0@3",
+        "r0@0",
+        "wff@0",
+        "r0@1",
+        "wff@1",
+        "r0@2",
+        "wff@2",
+        "r0@3",
+        "wff@3",
+        "rff@0",
+        "w0@0",
+        "rff@1",
+        "w0@1",
+        "rff@2",
+        "w0@2",
+        "rff@3",
+        "w0@3",
+        "r0@3",
+        "wff@3",
+        "r0@2",
+        "wff@2",
+        "r0@1",
+        "wff@1",
+        "r0@0",
+        "wff@0",
+        "rff@3",
+        "w0@3",
+        "rff@2",
+        "w0@2",
+        "rff@1",
+        "w0@1",
+        "rff@0",
+        "w0@0",
+        "r0@0",
+        "r0@1",
+        "r0@2",
+        "r0@3",
     ]
 
 
@@ -72,8 +123,9 @@ def test_march_c_minus_with_a_background_uses_it_and_its_complement() -> None:
     assert steps[4].expected == 0x5A and steps[5].op == PortOp("write", 0, 0xA5)
 
 
-def _reference(test: MarchTest, words: int, width: int, order: AddressOrder, bg_words: list[list[int]],
-               any_order: str) -> list[tuple[int, int, int, int, int, int, int]]:
+def _reference(
+    test: MarchTest, words: int, width: int, order: AddressOrder, bg_words: list[list[int]], any_order: str
+) -> list[tuple[int, int, int, int, int, int, int]]:
     """Plain nested loops: (op, address, data, expected, element, step, background) per operation."""
     mask = (1 << width) - 1
     out = []
@@ -83,7 +135,7 @@ def _reference(test: MarchTest, words: int, width: int, order: AddressOrder, bg_
             if not isinstance(el, MarchElement):
                 continue
             walk = el.order if el.order != "any" else any_order
-            for a in (up if walk == "up" else up[::-1]):
+            for a in up if walk == "up" else up[::-1]:
                 for k, op in enumerate(el.ops):
                     v = values[a] ^ (mask if op.value else 0)
                     if op.kind == "w":
@@ -94,23 +146,49 @@ def _reference(test: MarchTest, words: int, width: int, order: AddressOrder, bg_
 
 
 @settings(max_examples=40, deadline=None)
-@given(march_tests, st.integers(1, 40), st.sampled_from([1, 7, 64, 65, 130]), st.sampled_from(ORDER_KINDS),
-       st.sampled_from(["solid", "checkerboard", "row-stripe,col-stripe", "standard", "0x1"]),
-       st.sampled_from(["up", "down"]), st.integers(1, 50), st.integers(0, 99))
-def test_stream_equals_plain_loop_reference(test: MarchTest, words: int, width: int, order: str, bgs: str,
-                                            any_order: str, chunk_ops: int, seed: int) -> None:
+@given(
+    march_tests,
+    st.integers(1, 40),
+    st.sampled_from([1, 7, 64, 65, 130]),
+    st.sampled_from(ORDER_KINDS),
+    st.sampled_from(["solid", "checkerboard", "row-stripe,col-stripe", "standard", "0x1"]),
+    st.sampled_from(["up", "down"]),
+    st.integers(1, 50),
+    st.integers(0, 99),
+)
+def test_stream_equals_plain_loop_reference(
+    test: MarchTest, words: int, width: int, order: str, bgs: str, any_order: str, chunk_ops: int, seed: int
+) -> None:
     cols = next(c for c in (4, 2, 1) if words % c == 0)
     layout = (words // cols, cols)
-    s = expand(test, words, width, layout=layout, order=order, backgrounds=bgs, any_order=any_order,
-               seed=seed, chunk_ops=chunk_ops)
+    s = expand(
+        test,
+        words,
+        width,
+        layout=layout,
+        order=order,
+        backgrounds=bgs,
+        any_order=any_order,
+        seed=seed,
+        chunk_ops=chunk_ops,
+    )
     assert s.total_ops == test.length * words * len(s.backgrounds)
     arr = s.collect()
     assert len(arr) == s.total_ops
     bg_words = [[bg.value_at(a, width, layout) for a in range(words)] for bg in s.backgrounds]
     ref = _reference(test, words, width, s.order, bg_words, any_order)
-    got = list(zip(arr.op.tolist(), arr.address.tolist(), [limbs_to_int(r) for r in arr.data],
-                   [limbs_to_int(r) for r in arr.expected], arr.element.tolist(), arr.step.tolist(),
-                   arr.background.tolist(), strict=True))
+    got = list(
+        zip(
+            arr.op.tolist(),
+            arr.address.tolist(),
+            [limbs_to_int(r) for r in arr.data],
+            [limbs_to_int(r) for r in arr.expected],
+            arr.element.tolist(),
+            arr.step.tolist(),
+            arr.background.tolist(),
+            strict=True,
+        )
+    )
     assert got == ref
     # chunks are contiguous and never cross elements or backgrounds
     pos = 0
@@ -129,6 +207,7 @@ def test_fault_free_memory_replay(alg: object, order: str) -> None:
     """Replaying every library stream on a fault-free memory: each read returns exactly the expected
     word, each element touches each address exactly once, and the count is length x words x backgrounds."""
     from memcheck.march import MarchAlgorithm
+
     assert isinstance(alg, MarchAlgorithm)
     words, width = 24, 70
     s = expand(alg.test, words, width, layout=(6, 4), order=order, backgrounds="standard,checkerboard", seed=3)
@@ -189,18 +268,21 @@ def test_any_order_down() -> None:
     assert expand(t, 4, 1, any_order="down").collect().address.tolist() == [3, 2, 1, 0]
 
 
-@pytest.mark.parametrize(("kwargs", "error"), [
-    ({"test": "March Q"}, UnknownAlgorithm),
-    ({"test": "{up(w0"}, NotationError),
-    ({"width": 0}, NotationError),
-    ({"width": 2000}, NotationError),
-    ({"words": 0}, NotationError),
-    ({"layout": (3, 3)}, NotationError),
-    ({"order": "row-fast"}, NotationError),
-    ({"backgrounds": "tartan"}, NotationError),
-    ({"any_order": "sideways"}, NotationError),
-    ({"chunk_ops": 0}, NotationError),
-])
+@pytest.mark.parametrize(
+    ("kwargs", "error"),
+    [
+        ({"test": "March Q"}, UnknownAlgorithm),
+        ({"test": "{up(w0"}, NotationError),
+        ({"width": 0}, NotationError),
+        ({"width": 2000}, NotationError),
+        ({"words": 0}, NotationError),
+        ({"layout": (3, 3)}, NotationError),
+        ({"order": "row-fast"}, NotationError),
+        ({"backgrounds": "tartan"}, NotationError),
+        ({"any_order": "sideways"}, NotationError),
+        ({"chunk_ops": 0}, NotationError),
+    ],
+)
 def test_impossible_requests(kwargs: dict[str, object], error: type[Exception]) -> None:
     args: dict[str, object] = {"test": "MATS+", "words": 16, "width": 8}
     args.update(kwargs)

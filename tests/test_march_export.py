@@ -23,8 +23,9 @@ def _expected_records(s: MarchStream) -> list[tuple[int, int, int, int]]:
             out.append((2, 0, 0, 0))
             continue
         for i in range(len(item)):
-            out.append((int(item.op[i]), int(item.address[i]), limbs_to_int(item.data[i]),
-                        limbs_to_int(item.expected[i])))
+            out.append(
+                (int(item.op[i]), int(item.address[i]), limbs_to_int(item.data[i]), limbs_to_int(item.expected[i]))
+            )
     return out
 
 
@@ -41,11 +42,14 @@ def _decode_hex(text: str, s: MarchStream) -> list[tuple[int, int, int, int]]:
     return out
 
 
-@pytest.mark.parametrize(("name", "words", "width", "kw"), [
-    ("MATS+", 4, 1, {}),
-    ("March G", 12, 70, {"backgrounds": "standard", "layout": (3, 4), "order": "row-fast"}),
-    ("March SS", 300, 1024, {"backgrounds": "checkerboard", "order": "lfsr", "seed": 9}),
-])
+@pytest.mark.parametrize(
+    ("name", "words", "width", "kw"),
+    [
+        ("MATS+", 4, 1, {}),
+        ("March G", 12, 70, {"backgrounds": "standard", "layout": (3, 4), "order": "row-fast"}),
+        ("March SS", 300, 1024, {"backgrounds": "checkerboard", "order": "lfsr", "seed": 9}),
+    ],
+)
 def test_hex_packing_round_trips(name: str, words: int, width: int, kw: dict[str, object]) -> None:
     s = expand(name, words, width, chunk_ops=333, **kw)  # type: ignore[arg-type]
     text = render(s, "hex")
@@ -60,8 +64,9 @@ def test_csv_and_json_carry_the_same_stream() -> None:
     recs = [r for r in _expected_records(s) if r[0] != 2]
     rows = list(csv.DictReader(io.StringIO(render(s, "csv"))))
     op_rows = [r for r in rows if r["op"] != "pause"]
-    assert [(1 if r["op"] == "w" else 0, int(r["address"], 16), int(r["data"], 16), int(r["expected"], 16))
-            for r in op_rows] == recs
+    assert [
+        (1 if r["op"] == "w" else 0, int(r["address"], 16), int(r["data"], 16), int(r["expected"], 16)) for r in op_rows
+    ] == recs
     assert [int(r["index"]) for r in op_rows] == list(range(s.total_ops))
     assert sum(r["op"] == "pause" for r in rows) == 2 * 2
     doc = json.loads(render(s, "json"))
@@ -97,12 +102,16 @@ endmodule
 
 
 @pytest.mark.icarus
-@pytest.mark.parametrize(("name", "words", "width", "kw"), [
-    ("March C-", 16, 8, {"backgrounds": "standard"}),
-    ("March G", 8, 70, {"backgrounds": "checkerboard", "order": "lfsr", "seed": 4, "layout": (4, 2)}),
-])
-def test_readmemh_in_icarus_reads_back_the_stream(tmp_path: Path, name: str, words: int, width: int,
-                                                  kw: dict[str, object]) -> None:
+@pytest.mark.parametrize(
+    ("name", "words", "width", "kw"),
+    [
+        ("March C-", 16, 8, {"backgrounds": "standard"}),
+        ("March G", 8, 70, {"backgrounds": "checkerboard", "order": "lfsr", "seed": 4, "layout": (4, 2)}),
+    ],
+)
+def test_readmemh_in_icarus_reads_back_the_stream(
+    tmp_path: Path, name: str, words: int, width: int, kw: dict[str, object]
+) -> None:
     """IEEE Std 1364-2005 section 17.2.9: $readmemh loads one hex word per line and skips // comments."""
     iverilog, vvp = shutil.which("iverilog"), shutil.which("vvp")
     if not iverilog or not vvp:
@@ -111,18 +120,25 @@ def test_readmemh_in_icarus_reads_back_the_stream(tmp_path: Path, name: str, wor
     hex_path = write_export(s, tmp_path / "stream.hex", "hex")
     want = _expected_records(s)
     lay = hex_layout(s)
-    (tmp_path / "tb.v").write_text(TB.format(W=lay.line_bits, N=len(want), A=lay.address_digits,
-                                             D=lay.data_digits, path=hex_path.as_posix()))
-    subprocess.run([iverilog, "-o", str(tmp_path / "tb.vvp"), str(tmp_path / "tb.v")], check=True,
-                   capture_output=True, text=True, timeout=60)
-    run = subprocess.run([vvp, "-n", str(tmp_path / "tb.vvp")], check=True, capture_output=True, text=True,
-                         timeout=60, cwd=tmp_path)
+    (tmp_path / "tb.v").write_text(
+        TB.format(W=lay.line_bits, N=len(want), A=lay.address_digits, D=lay.data_digits, path=hex_path.as_posix())
+    )
+    subprocess.run(
+        [iverilog, "-o", str(tmp_path / "tb.vvp"), str(tmp_path / "tb.v")],
+        check=True,
+        capture_output=True,
+        text=True,
+        timeout=60,
+    )
+    run = subprocess.run(
+        [vvp, "-n", str(tmp_path / "tb.vvp")], check=True, capture_output=True, text=True, timeout=60, cwd=tmp_path
+    )
     got = []
     for line in run.stdout.splitlines():
         parts = line.split()
         if len(parts) != 5 or not parts[0].isdigit():
             continue
-        assert "x" not in line.lower()[len(parts[0]):], line  # every line loaded, no unknowns
+        assert "x" not in line.lower()[len(parts[0]) :], line  # every line loaded, no unknowns
         got.append(tuple(int(p, 16) for p in parts[1:]))
     assert got == want
     assert sum(1 for r in got if r[0] == OP_WRITE) > 0

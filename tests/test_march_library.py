@@ -24,8 +24,10 @@ PUBLISHED = {
     "MATS++": ("{⇕(w0); ⇑(r0,w1); ⇓(r1,w0,r0)}", 6),
     "March X": ("{⇕(w0); ⇑(r0,w1); ⇓(r1,w0); ⇕(r0)}", 6),
     "March Y": ("{⇕(w0); ⇑(r0,w1,r1); ⇓(r1,w0,r0); ⇕(r0)}", 8),
-    "March G": ("{⇕(w0); ⇑(r0,w1,r1,w0,r0,w1); ⇑(r1,w0,w1); ⇓(r1,w0,w1,w0); ⇓(r0,w1,w0); Del; ⇕(r0,w1,r1); Del; "
-                "⇕(r1,w0,r0)}", 23),
+    "March G": (
+        "{⇕(w0); ⇑(r0,w1,r1,w0,r0,w1); ⇑(r1,w0,w1); ⇓(r1,w0,w1,w0); ⇓(r0,w1,w0); Del; ⇕(r0,w1,r1); Del; ⇕(r1,w0,r0)}",
+        23,
+    ),
     # M. Marinescu, "Simple and Efficient Algorithms for Functional RAM Testing", ITC 1982
     # (notation and length from memory): March C 11n.
     "March C": ("{⇕(w0); ⇑(r0,w1); ⇑(r1,w0); ⇕(r0); ⇓(r0,w1); ⇓(r1,w0); ⇕(r0)}", 11),
@@ -70,6 +72,7 @@ def test_library_covers_the_issue_list_and_a_retention_test() -> None:
 @pytest.mark.parametrize("alg", ALGORITHMS, ids=lambda a: a.name)
 def test_entries_are_complete(alg: object) -> None:
     from memcheck.march import MarchAlgorithm
+
     assert isinstance(alg, MarchAlgorithm)
     assert alg.claims and set(alg.claims) <= set(FAULT_CLASSES)
     assert alg.source.authors and alg.source.title and alg.source.venue and 1970 < alg.source.year < 2030
@@ -84,10 +87,19 @@ def test_claims_of_march_ss_and_march_c_minus() -> None:
     assert "WDF" not in get_algorithm("March C-").claims
 
 
-@pytest.mark.parametrize(("query", "name"), [
-    ("march c-", "March C-"), ("MARCH_C-", "March C-"), ("march-c-minus", "March C-"), ("March C", "March C"),
-    ("mats++", "MATS++"), ("mats-plus", "MATS+"), ("marchss", "March SS"), (" March  LR ", "March LR"),
-])
+@pytest.mark.parametrize(
+    ("query", "name"),
+    [
+        ("march c-", "March C-"),
+        ("MARCH_C-", "March C-"),
+        ("march-c-minus", "March C-"),
+        ("March C", "March C"),
+        ("mats++", "MATS++"),
+        ("mats-plus", "MATS+"),
+        ("marchss", "March SS"),
+        (" March  LR ", "March LR"),
+    ],
+)
 def test_lookup_is_forgiving(query: str, name: str) -> None:
     assert get_algorithm(query).name == name
 

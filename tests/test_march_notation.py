@@ -12,11 +12,15 @@ from memcheck.errors import NotationError
 from memcheck.march import Delay, MarchElement, MarchOp, MarchTest, parse_march
 
 ops = st.builds(MarchOp, st.sampled_from(["r", "w"]), st.sampled_from([0, 1]))
-elements = st.builds(MarchElement, st.sampled_from(["up", "down", "any"]),
-                     st.lists(ops, min_size=1, max_size=8).map(tuple))
+elements = st.builds(
+    MarchElement, st.sampled_from(["up", "down", "any"]), st.lists(ops, min_size=1, max_size=8).map(tuple)
+)
 delays = st.builds(Delay, st.from_regex(r"[A-Za-z0-9_.+\-]{0,6}", fullmatch=True))
-march_tests = st.lists(st.one_of(elements, elements, elements, delays), min_size=1, max_size=8).filter(
-    lambda es: any(isinstance(e, MarchElement) for e in es)).map(lambda es: MarchTest(tuple(es)))
+march_tests = (
+    st.lists(st.one_of(elements, elements, elements, delays), min_size=1, max_size=8)
+    .filter(lambda es: any(isinstance(e, MarchElement) for e in es))
+    .map(lambda es: MarchTest(tuple(es)))
+)
 
 
 @settings(max_examples=200, deadline=None)
@@ -39,11 +43,11 @@ def test_broken_strings_raise_only_notation_error(test: MarchTest, data: st.Data
     junk = data.draw(st.sampled_from(list("{}();,rw01xyz⇑⇓⇕ ud-9#")))
     mode = data.draw(st.sampled_from(["delete", "insert", "replace"]))
     if mode == "delete" and pos < len(text):
-        broken = text[:pos] + text[pos + 1:]
+        broken = text[:pos] + text[pos + 1 :]
     elif mode == "insert":
         broken = text[:pos] + junk + text[pos:]
     else:
-        broken = text[:pos] + junk + text[pos + 1:]
+        broken = text[:pos] + junk + text[pos + 1 :]
     try:
         parsed = parse_march(broken)
     except NotationError as exc:
@@ -83,16 +87,19 @@ def test_name_is_not_part_of_equality() -> None:
     assert hash(a) == hash(parse_march(a.to_unicode()))
 
 
-@pytest.mark.parametrize(("text", "position", "expected"), [
-    ("{up(w0)", 7, "';' or '}'"),
-    ("{up(w2)}", 5, "0 or 1"),
-    ("{side(w0)}", 1, "an element"),
-    ("{up(w0,)}", 7, "an operation"),
-    ("{up(w0)} x", 9, "end of text"),
-    ("{up w0}", 4, "'('"),
-    ("{up(w0) down(r0)}", 8, "';' or '}'"),
-    ("", 0, "an element"),
-])
+@pytest.mark.parametrize(
+    ("text", "position", "expected"),
+    [
+        ("{up(w0)", 7, "';' or '}'"),
+        ("{up(w2)}", 5, "0 or 1"),
+        ("{side(w0)}", 1, "an element"),
+        ("{up(w0,)}", 7, "an operation"),
+        ("{up(w0)} x", 9, "end of text"),
+        ("{up w0}", 4, "'('"),
+        ("{up(w0) down(r0)}", 8, "';' or '}'"),
+        ("", 0, "an element"),
+    ],
+)
 def test_error_points_at_character_and_says_what_was_expected(text: str, position: int, expected: str) -> None:
     with pytest.raises(NotationError) as info:
         parse_march(text)
@@ -107,14 +114,17 @@ def test_only_delays_rejected() -> None:
         parse_march("{del; del}")
 
 
-@pytest.mark.parametrize("make", [
-    lambda: MarchOp("x", 0),  # type: ignore[arg-type]
-    lambda: MarchOp("r", 2),  # type: ignore[arg-type]
-    lambda: MarchElement("sideways", (MarchOp("r", 0),)),  # type: ignore[arg-type]
-    lambda: MarchElement("up", ()),
-    lambda: Delay("a b"),
-    lambda: MarchTest((Delay(),)),
-])
+@pytest.mark.parametrize(
+    "make",
+    [
+        lambda: MarchOp("x", 0),  # type: ignore[arg-type]
+        lambda: MarchOp("r", 2),  # type: ignore[arg-type]
+        lambda: MarchElement("sideways", (MarchOp("r", 0),)),  # type: ignore[arg-type]
+        lambda: MarchElement("up", ()),
+        lambda: Delay("a b"),
+        lambda: MarchTest((Delay(),)),
+    ],
+)
 def test_constructors_reject_values_that_cannot_round_trip(make: object) -> None:
     with pytest.raises(NotationError):
         make()  # type: ignore[operator]

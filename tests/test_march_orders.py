@@ -127,10 +127,17 @@ def test_lfsr_order_seeded_and_down_is_exact_reverse() -> None:
     assert np.array_equal(a.down(), a.up()[::-1])
 
 
-@pytest.mark.parametrize(("kind", "words", "layout"), [
-    ("row-fast", 16, None), ("col-fast", 16, None), ("linear", 16, (3, 5)), ("zigzag", 16, None),
-    ("linear", 0, None), ("linear", (1 << 32) + 1, None),
-])
+@pytest.mark.parametrize(
+    ("kind", "words", "layout"),
+    [
+        ("row-fast", 16, None),
+        ("col-fast", 16, None),
+        ("linear", 16, (3, 5)),
+        ("zigzag", 16, None),
+        ("linear", 0, None),
+        ("linear", (1 << 32) + 1, None),
+    ],
+)
 def test_impossible_orders_raise_notation_error(kind: str, words: int, layout: tuple[int, int] | None) -> None:
     with pytest.raises(NotationError):
         AddressOrder(kind, words, layout)

@@ -31,8 +31,7 @@ def _contents(contract: Contract, start: str) -> Contents:
 
 
 @settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.too_slow])
-@given(st.data(), contracts(max_words=40, max_width=70, max_ports=3),
-       st.sampled_from(["forget", "reset", "power-up"]))
+@given(st.data(), contracts(max_words=40, max_width=70, max_ports=3), st.sampled_from(["forget", "reset", "power-up"]))
 def test_fast_model_agrees_with_the_model(data: st.DataObject, contract: Contract, start: str) -> None:
     # Several traces back to back, so addresses are reused across blocks and pipelines fill up.
     parts = data.draw(st.lists(traces(contract, max_blocks=8, drain=False), min_size=1, max_size=3))
@@ -59,24 +58,44 @@ def test_fast_model_agrees_on_write_collisions(data: st.DataObject, contract: Co
 def test_hand_worked_lanes_latency_and_collisions() -> None:
     # Two lanes of 4 bits, latency 2, "new" on read-during-write, idle read data held.
     c = Contract.simple(8, 8, lane_width=4, read_latency=2, read_during_write="new", idle_read_data="keep")
-    cycles = [(write(3, 0xAB),), (write(3, 0x0C, 0b01),), (read(3),), (IDLE,), (IDLE,), (read(9 % 8),), (IDLE,),
-              (IDLE,)]
+    cycles = [
+        (write(3, 0xAB),),
+        (write(3, 0x0C, 0b01),),
+        (read(3),),
+        (IDLE,),
+        (IDLE,),
+        (read(9 % 8),),
+        (IDLE,),
+        (IDLE,),
+    ]
     value, known = expected(c, Columns.from_cycles(c, cycles))
     got = [(int(v), int(k)) for v, k in zip(value[:, 0, 0], known[:, 0, 0], strict=True)]
     # cycle 0-1: pipeline start, unknown; 2: result of cycle 0 (new data AB); 3: cycle 1 wrote lane 0
     # -> AC; 4: read of cycle 2 -> AC; 5: cycle 3 idle -> held AC; 6: held; 7: read of 1 never written.
-    assert got == [(0, 0), (0, 0), (0xAB, 0xFF), (0xAC, 0xFF), (0xAC, 0xFF), (0xAC, 0xFF), (0xAC, 0xFF),
-                   (0, 0)]
+    assert got == [(0, 0), (0, 0), (0xAB, 0xFF), (0xAC, 0xFF), (0xAC, 0xFF), (0xAC, 0xFF), (0xAC, 0xFF), (0, 0)]
 
 
 def _two_port(**memory: object) -> Contract:
     from memcheck.contract import contract_from_dict
 
-    doc = {"memory": {"words": 4, "width": 8, "lane_width": 4, "read_latency": 0, **memory},
-           "rtl": {"sources": ["x.v"], "top": "t"},
-           "port": [{"name": n, "role": "readwrite", "clock": "clk", "address": f"a{n}", "enable": f"e{n}",
-                     "write_enable": f"w{n}", "write_data": f"d{n}", "lane_enable": f"b{n}", "read_data": f"r{n}"}
-                    for n in ("x", "y")]}
+    doc = {
+        "memory": {"words": 4, "width": 8, "lane_width": 4, "read_latency": 0, **memory},
+        "rtl": {"sources": ["x.v"], "top": "t"},
+        "port": [
+            {
+                "name": n,
+                "role": "readwrite",
+                "clock": "clk",
+                "address": f"a{n}",
+                "enable": f"e{n}",
+                "write_enable": f"w{n}",
+                "write_data": f"d{n}",
+                "lane_enable": f"b{n}",
+                "read_data": f"r{n}",
+            }
+            for n in ("x", "y")
+        ],
+    }
     return contract_from_dict(doc)
 
 
@@ -121,8 +140,13 @@ def test_invalid_operations_are_rejected_like_the_model() -> None:
 
 
 @settings(max_examples=60, deadline=None)
-@given(st.lists(st.tuples(st.integers(0, 3), st.integers(0, 255), st.integers(0, 255), st.integers(0, 255)),
-                min_size=1, max_size=40))
+@given(
+    st.lists(
+        st.tuples(st.integers(0, 3), st.integers(0, 255), st.integers(0, 255), st.integers(0, 255)),
+        min_size=1,
+        max_size=40,
+    )
+)
 def test_the_segmented_scan_equals_a_sequential_fold(updates: list[tuple[int, int, int, int]]) -> None:
     """The log-step scan (W.D. Hillis and G.L. Steele, "Data parallel algorithms", CACM 29(12), 1986,
     segmented as in G.E. Blelloch, "Prefix sums and their applications", 1990) composes each

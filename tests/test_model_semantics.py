@@ -36,8 +36,16 @@ def two_port(**memory: Any) -> Model:
 
 def two_rw(**memory: Any) -> Model:
     ports = [
-        {"name": n, "role": "readwrite", "clock": "clk", "enable": f"en_{n}", "write_enable": f"we_{n}",
-         "address": f"a_{n}", "write_data": f"wd_{n}", "read_data": f"rd_{n}"}
+        {
+            "name": n,
+            "role": "readwrite",
+            "clock": "clk",
+            "enable": f"en_{n}",
+            "write_enable": f"we_{n}",
+            "address": f"a_{n}",
+            "write_data": f"wd_{n}",
+            "read_data": f"rd_{n}",
+        }
         for n in ("a", "b")
     ]
     doc = {"memory": {"words": 16, "width": 8, **memory}, "rtl": {"sources": ["x.v"], "top": "t"}, "port": ports}
@@ -156,12 +164,30 @@ def test_read_write_collision_rules(rule: str, shown: Expected) -> None:
 
 def test_collision_unknown_only_blurs_the_written_lanes() -> None:
     ports = [
-        {"name": n, "role": "readwrite", "clock": "clk", "write_enable": f"we_{n}", "address": f"a_{n}",
-         "write_data": f"wd_{n}", "read_data": f"rd_{n}", "lane_enable": f"be_{n}"}
+        {
+            "name": n,
+            "role": "readwrite",
+            "clock": "clk",
+            "write_enable": f"we_{n}",
+            "address": f"a_{n}",
+            "write_data": f"wd_{n}",
+            "read_data": f"rd_{n}",
+            "lane_enable": f"be_{n}",
+        }
         for n in ("a", "b")
     ]
-    doc = {"memory": {"words": 4, "width": 8, "lane_width": 4, "read_latency": 0, "initial": "zero",
-                      "collision": "unknown"}, "rtl": {"sources": ["x.v"], "top": "t"}, "port": ports}
+    doc = {
+        "memory": {
+            "words": 4,
+            "width": 8,
+            "lane_width": 4,
+            "read_latency": 0,
+            "initial": "zero",
+            "collision": "unknown",
+        },
+        "rtl": {"sources": ["x.v"], "top": "t"},
+        "port": ports,
+    }
     model = Model(contract_from_dict(doc))
     got = model.step((write(1, 0xFF, 0b01), read(1)))[1]
     assert got == Expected(0x00, 0xF0)

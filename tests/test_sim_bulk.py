@@ -24,7 +24,7 @@ def test_decoded_traces_respect_the_contract(data: st.DataObject, contract: Cont
     m = contract.memory
     lat = m.read_latency
     # The trace ends with read_latency quiet cycles, so every read is observed within it.
-    assert (cols.kind[len(cols) - lat:] == Columns.quiet(contract, lat).kind).all()
+    assert (cols.kind[len(cols) - lat :] == Columns.quiet(contract, lat).kind).all()
     # Reads carry clean pins; idle ports carry either clean pins or garbage from the trace's pools.
     cycles = cols.to_cycles()
     for cyc in cycles:

@@ -120,7 +120,8 @@ def test_ddmin_finds_a_one_minimal_failing_subset() -> None:
 
 
 def test_a_sweep_failure_that_needs_history_is_reported_from_the_start_and_replays(
-        monkeypatch: pytest.MonkeyPatch) -> None:
+    monkeypatch: pytest.MonkeyPatch,
+) -> None:
     """A word that loses a bit when it is not rewritten for a while fails the March sweep, but no short
     window fails on its own: the report keeps the sweep from its start, and a replay reruns it."""
     import memcheck.sim.engine as engine_mod
@@ -221,7 +222,8 @@ def test_short_examples_put_garbage_addresses_from_the_pool() -> None:
 
 
 def test_a_bulk_failure_that_needs_long_history_is_reported_up_to_its_difference_and_replays(
-        monkeypatch: pytest.MonkeyPatch) -> None:
+    monkeypatch: pytest.MonkeyPatch,
+) -> None:
     """A word that loses a bit when not rewritten for a while: with windows capped at 4 cycles no short
     window fails on its own, so the bulk example up to its first difference is the trace."""
     import memcheck.sim.engine as engine_mod

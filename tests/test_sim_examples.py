@@ -14,8 +14,9 @@ from memcheck.sim import check_contract, replay_file
 pytestmark = pytest.mark.icarus
 
 ROOT = Path(__file__).resolve().parents[1] / "rtl_examples"
-INDEX: list[dict[str, Any]] = tomllib.loads((ROOT / "index.toml").read_text())["example"] if (
-    ROOT / "index.toml").is_file() else []
+INDEX: list[dict[str, Any]] = (
+    tomllib.loads((ROOT / "index.toml").read_text())["example"] if (ROOT / "index.toml").is_file() else []
+)
 GOOD = [e for e in INDEX if e["expect"] == "pass"]
 BUGGY = [e for e in INDEX if e["expect"] == "fail"]
 
@@ -28,14 +29,12 @@ def cache(tmp_path_factory: pytest.TempPathFactory) -> Path:
 @pytest.mark.parametrize("ex", GOOD, ids=[e["name"] for e in GOOD])
 def test_conforming_example_passes(ex: dict[str, Any], tmp_path: Path, cache: Path) -> None:
     # A reduced property budget keeps the suite fast; bench/bench_check.py runs the default budget.
-    res = check_contract(ROOT / ex["contract"], examples=60, bulk_examples=5, seed=1, out_dir=tmp_path,
-                         build_dir=cache)
+    res = check_contract(ROOT / ex["contract"], examples=60, bulk_examples=5, seed=1, out_dir=tmp_path, build_dir=cache)
     assert res.verdict == "pass", res.summary()
 
 
 @pytest.mark.parametrize("ex", BUGGY, ids=[e["name"] for e in BUGGY])
-def test_buggy_example_is_caught_with_a_short_replayable_trace(ex: dict[str, Any], tmp_path: Path,
-                                                                cache: Path) -> None:
+def test_buggy_example_is_caught_with_a_short_replayable_trace(ex: dict[str, Any], tmp_path: Path, cache: Path) -> None:
     res = check_contract(ROOT / ex["contract"], seed=1, out_dir=tmp_path, build_dir=cache)  # default budget
     assert res.verdict == "fail", f"{ex['name']}: {ex['bug']}"
     assert res.failure is not None

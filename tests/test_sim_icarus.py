@@ -58,8 +58,9 @@ def buggy_result(tmp_path_factory: pytest.TempPathFactory, build_cache: Path):  
 
 
 def test_conforming_fixture_passes_all_phases(tmp_path: Path, build_cache: Path) -> None:
-    res = check_contract(SP / "contract.toml", examples=30, bulk_examples=5, seed=1, out_dir=tmp_path,
-                         build_dir=build_cache)
+    res = check_contract(
+        SP / "contract.toml", examples=30, bulk_examples=5, seed=1, out_dir=tmp_path, build_dir=build_cache
+    )
     assert res.verdict == "pass", res.summary()
     assert [p.verdict for p in res.phases] == ["pass", "pass", "pass"]
     assert res.failure is None and res.replay_file is None
@@ -129,14 +130,39 @@ def test_harness_sees_what_a_synchronous_consumer_flop_sees(tmp_path: Path, buil
     The reference is a plain Verilog testbench in the classic style (inputs driven on the falling
     edge, read data captured by a flop on the rising edge), written independently of the harness.
     """
-    ops = [write(3, 0x1234), read(3), IDLE, write(3, 0xABCD, 0b01), read(3), read(3), write(9, 0x5555),
-           read(9), IDLE, IDLE]
+    ops = [
+        write(3, 0x1234),
+        read(3),
+        IDLE,
+        write(3, 0xABCD, 0b01),
+        read(3),
+        read(3),
+        write(9, 0x5555),
+        read(9),
+        IDLE,
+        IDLE,
+    ]
     c = load_contract(SP / "contract.toml")
     b = build(c, build_cache)
     failure = Failure("check", (), CheckedTrace("power-up", ()), full_trace=Trace.of([(op,) for op in ops]))
-    res = run_job(b, {"mode": "replay", "options": {"phases": [], "examples": 0, "seed": 0, "march": "March C-",
-                                                      "backgrounds": "solid", "sweep_max_ops": 0, "max_blocks": 1},
-                      "failure": failure.to_json(), "dump": False}, tmp_path / "h")
+    res = run_job(
+        b,
+        {
+            "mode": "replay",
+            "options": {
+                "phases": [],
+                "examples": 0,
+                "seed": 0,
+                "march": "March C-",
+                "backgrounds": "solid",
+                "sweep_max_ops": 0,
+                "max_blocks": 1,
+            },
+            "failure": failure.to_json(),
+            "dump": False,
+        },
+        tmp_path / "h",
+    )
     assert res.replayed is not None
     harness = [r.observed[0] for r in res.replayed.rows]
 
@@ -193,17 +219,21 @@ def _cli(args: list[str], capsys: pytest.CaptureFixture[str]) -> tuple[int, str,
 
 def test_rtl_that_does_not_compile_shows_the_compilers_lines(tmp_path: Path, capsys) -> None:  # type: ignore[no-untyped-def]
     c = small_contract(tmp_path, "syntax_wrap")
-    rc, _, err = _cli(["check", str(c), "--out", str(tmp_path / "o"), "--seed", "1",
-                       "--json", str(tmp_path / "r.json")], capsys)
+    rc, _, err = _cli(
+        ["check", str(c), "--out", str(tmp_path / "o"), "--seed", "1", "--json", str(tmp_path / "r.json")], capsys
+    )
     assert rc == 2
     assert "does not compile" in err and "syntax_wrap.v:3:" in err and "Traceback" not in err
     assert json.loads((tmp_path / "r.json").read_text())["verdict"] == "error"
 
 
-@pytest.mark.parametrize(("pins", "expect"), [
-    ({"rdata": "q"}, r"no pin 'q' \(port 'a' read data, output, 16 bits\). Its ports are: input clk"),
-    ({"be": "addr2"}, r"no pin 'addr2'"),
-])
+@pytest.mark.parametrize(
+    ("pins", "expect"),
+    [
+        ({"rdata": "q"}, r"no pin 'q' \(port 'a' read data, output, 16 bits\). Its ports are: input clk"),
+        ({"be": "addr2"}, r"no pin 'addr2'"),
+    ],
+)
 def test_missing_pins_are_named_with_the_actual_ports(tmp_path: Path, capsys, pins, expect) -> None:  # type: ignore[no-untyped-def]
     import re
 
@@ -246,8 +276,23 @@ def test_api_raises_simulation_error_for_bad_rtl(tmp_path: Path) -> None:
 def test_cli_failure_writes_json_junit_replay_and_prints_the_table(tmp_path: Path, capsys, build_cache: Path) -> None:  # type: ignore[no-untyped-def]
     c = sp_contract(tmp_path, bug=1)
     out = tmp_path / "o"
-    rc, stdout, _ = _cli(["check", str(c), "--examples", "20", "--seed", "4", "--out", str(out),
-                          "--json", str(tmp_path / "r.json"), "--junit", str(tmp_path / "r.xml")], capsys)
+    rc, stdout, _ = _cli(
+        [
+            "check",
+            str(c),
+            "--examples",
+            "20",
+            "--seed",
+            "4",
+            "--out",
+            str(out),
+            "--json",
+            str(tmp_path / "r.json"),
+            "--junit",
+            str(tmp_path / "r.xml"),
+        ],
+        capsys,
+    )
     assert rc == 1
     assert "seed 4" in stdout and "memcheck replay" in stdout and "<<" in stdout and "not sign-off" in stdout
     rep = json.loads((tmp_path / "r.json").read_text())
@@ -266,10 +311,25 @@ def test_cli_failure_writes_json_junit_replay_and_prints_the_table(tmp_path: Pat
 
 
 def test_cli_pass_exit_zero_and_json(tmp_path: Path, capsys) -> None:  # type: ignore[no-untyped-def]
-    rc, stdout, _ = _cli(["check", str(SP / "contract.toml"), "--examples", "10", "--bulk-examples", "3",
-                          "--seed", "9", "--out",
-                          str(tmp_path / "o"), "--json", str(tmp_path / "r.json"), "--phases", "smoke,property"],
-                         capsys)
+    rc, stdout, _ = _cli(
+        [
+            "check",
+            str(SP / "contract.toml"),
+            "--examples",
+            "10",
+            "--bulk-examples",
+            "3",
+            "--seed",
+            "9",
+            "--out",
+            str(tmp_path / "o"),
+            "--json",
+            str(tmp_path / "r.json"),
+            "--phases",
+            "smoke,property",
+        ],
+        capsys,
+    )
     assert rc == 0 and "conforms" in stdout
     rep = json.loads((tmp_path / "r.json").read_text())
     assert rep["verdict"] == "pass" and rep["minimal_trace"] is None
@@ -309,13 +369,23 @@ async def wrapper_conforms(dut):
     assert res.passed, res.summary()
 """)
     runner = get_runner("icarus")
-    runner.build(sources=[tmp_path / "user_top.v"], hdl_toplevel="user_top", build_dir=tmp_path / "b",
-                 log_file=tmp_path / "build.log")
+    runner.build(
+        sources=[tmp_path / "user_top.v"],
+        hdl_toplevel="user_top",
+        build_dir=tmp_path / "b",
+        log_file=tmp_path / "build.log",
+    )
     import sys
 
-    runner.test(test_module="user_checks", hdl_toplevel="user_top", build_dir=tmp_path / "b", test_dir=tmp_path,
-                results_xml=str(tmp_path / "results.xml"), log_file=tmp_path / "test.log",
-                extra_env={"PYTHONPATH": ":".join([str(tmp_path), *sys.path])})
+    runner.test(
+        test_module="user_checks",
+        hdl_toplevel="user_top",
+        build_dir=tmp_path / "b",
+        test_dir=tmp_path,
+        results_xml=str(tmp_path / "results.xml"),
+        log_file=tmp_path / "test.log",
+        extra_env={"PYTHONPATH": ":".join([str(tmp_path), *sys.path])},
+    )
     assert (tmp_path / "verdict.txt").read_text() == "pass"
 
 
@@ -335,8 +405,16 @@ def test_replay_after_a_fix_says_the_trace_now_conforms(tmp_path: Path, capsys, 
 def test_bulk_examples_alone_catch_a_write_while_deselected(tmp_path: Path, build_cache: Path) -> None:
     """BUG 2 writes whenever write enable is high, selected or not: bulk examples rest ports with their
     pins (write enable included) left on, and the later read of that word shows it."""
-    res = check_contract(sp_contract(tmp_path, bug=2), phases=("property",), examples=0, bulk_examples=20, seed=6,
-                         out_dir=tmp_path / "o", build_dir=build_cache, waveform=False)
+    res = check_contract(
+        sp_contract(tmp_path, bug=2),
+        phases=("property",),
+        examples=0,
+        bulk_examples=20,
+        seed=6,
+        out_dir=tmp_path / "o",
+        build_dir=build_cache,
+        waveform=False,
+    )
     assert res.verdict == "fail" and res.failure is not None
     assert "bulk examples" in res.phases[0].detail
     trace = res.failure.trace
@@ -345,16 +423,39 @@ def test_bulk_examples_alone_catch_a_write_while_deselected(tmp_path: Path, buil
 
 
 def test_bulk_examples_pass_the_conforming_fixture_with_many_operations(tmp_path: Path, build_cache: Path) -> None:
-    res = check_contract(SP / "contract.toml", phases=("property",), examples=0, bulk_examples=3, seed=2,
-                         out_dir=tmp_path, build_dir=build_cache)
+    res = check_contract(
+        SP / "contract.toml",
+        phases=("property",),
+        examples=0,
+        bulk_examples=3,
+        seed=2,
+        out_dir=tmp_path,
+        build_dir=build_cache,
+    )
     assert res.verdict == "pass", res.summary()
     assert res.operations > 3000 and res.extra["bulk_examples"] >= 1
 
 
 def test_cli_bulk_examples_option_and_its_bounds(tmp_path: Path, capsys) -> None:  # type: ignore[no-untyped-def]
-    rc, stdout, _ = _cli(["check", str(SP / "contract.toml"), "--examples", "0", "--bulk-examples", "2",
-                          "--phases", "property", "--seed", "3", "--out", str(tmp_path / "o"),
-                          "--json", str(tmp_path / "r.json")], capsys)
+    rc, stdout, _ = _cli(
+        [
+            "check",
+            str(SP / "contract.toml"),
+            "--examples",
+            "0",
+            "--bulk-examples",
+            "2",
+            "--phases",
+            "property",
+            "--seed",
+            "3",
+            "--out",
+            str(tmp_path / "o"),
+            "--json",
+            str(tmp_path / "r.json"),
+        ],
+        capsys,
+    )
     assert rc == 0 and "2 bulk examples" in stdout
     rep = json.loads((tmp_path / "r.json").read_text())
     assert "bulk examples" in rep["phases"][0]["detail"]
@@ -362,8 +463,22 @@ def test_cli_bulk_examples_option_and_its_bounds(tmp_path: Path, capsys) -> None
     assert rc == 2 and "bulk-examples" in err
     with pytest.raises(MemcheckError, match="bulk_examples"):
         check_contract(SP / "contract.toml", bulk_examples=-1)
-    rc, _, _ = _cli(["check", str(SP / "contract.toml"), "--examples", "0", "--bulk-examples", "0",
-                     "--phases", "property", "--out", str(tmp_path / "o2"), "--json", str(tmp_path / "r2.json")],
-                    capsys)
+    rc, _, _ = _cli(
+        [
+            "check",
+            str(SP / "contract.toml"),
+            "--examples",
+            "0",
+            "--bulk-examples",
+            "0",
+            "--phases",
+            "property",
+            "--out",
+            str(tmp_path / "o2"),
+            "--json",
+            str(tmp_path / "r2.json"),
+        ],
+        capsys,
+    )
     assert rc == 0
     assert json.loads((tmp_path / "r2.json").read_text())["phases"][0]["verdict"] == "skipped"

@@ -49,11 +49,16 @@ read_data = "q"
 """
 
 PORTS = {
-    "clk": TopPort("clk", "input", 1), "rst_n": TopPort("rst_n", "input", 1),
-    "cs_n": TopPort("cs_n", "input", 1), "we": TopPort("we", "input", 1),
-    "addr": TopPort("addr", "input", 8), "wdata": TopPort("wdata", "input", 16),
-    "be_n": TopPort("be_n", "input", 2), "rdata": TopPort("rdata", "output", 16),
-    "raddr": TopPort("raddr", "input", 6), "q": TopPort("q", "output", 16),
+    "clk": TopPort("clk", "input", 1),
+    "rst_n": TopPort("rst_n", "input", 1),
+    "cs_n": TopPort("cs_n", "input", 1),
+    "we": TopPort("we", "input", 1),
+    "addr": TopPort("addr", "input", 8),
+    "wdata": TopPort("wdata", "input", 16),
+    "be_n": TopPort("be_n", "input", 2),
+    "rdata": TopPort("rdata", "output", 16),
+    "raddr": TopPort("raddr", "input", 6),
+    "q": TopPort("q", "output", 16),
     "test_mode": TopPort("test_mode", "input", 1),
 }
 
@@ -144,7 +149,7 @@ def test_port_info_lines_of_the_root_module_only(tmp_path) -> None:  # type: ign
     vvp = tmp_path / "sim.vvp"
     vvp.write_text(
         'S_0x1 .scope module, "wrap" "wrap" 3 14;\n'
-        ' .timescale -9 -12;\n'
+        " .timescale -9 -12;\n"
         '    .port_info 0 /INPUT 1 "clk";\n'
         '    .port_info 1 /OUTPUT 32 "rdata";\n'
         'v0x2_0 .net "clk", 0 0, L_0x3;\n'
@@ -174,8 +179,9 @@ def test_harness_instantiates_the_top_with_parameters_and_every_pin() -> None:
 
 @settings(max_examples=60, deadline=None, suppress_health_check=list(HealthCheck))
 @given(st.data(), contracts(max_words=40, max_width=130, max_ports=3), st.booleans())
-def test_vectorised_stimulus_matches_the_word_by_word_encoder(data: st.DataObject, contract: Contract,
-                                                             reset: bool) -> None:
+def test_vectorised_stimulus_matches_the_word_by_word_encoder(
+    data: st.DataObject, contract: Contract, reset: bool
+) -> None:
     widths = {p.address: contract.memory.address_bits + data.draw(st.integers(0, 3)) for p in contract.ports}
     lay = Layout.build(contract, widths)
     trace = data.draw(traces(contract, max_blocks=6))
@@ -191,8 +197,9 @@ def test_vectorised_stimulus_matches_the_word_by_word_encoder(data: st.DataObjec
 def test_vectorised_capture_matches_the_line_by_line_decoder(lines: list[str], spaced: bool) -> None:
     lay = _layout()
     # $writememb as Icarus writes it: a "// 0x..." line before every 16 words (optionally with spaces).
-    text = "".join((f"// 0x{i:08x}\n" if i % 16 == 0 else "") + ln + (" \n" if spaced else "\n")
-                   for i, ln in enumerate(lines)).encode()
+    text = "".join(
+        (f"// 0x{i:08x}\n" if i % 16 == 0 else "") + ln + (" \n" if spaced else "\n") for i, ln in enumerate(lines)
+    ).encode()
     value, defined = lay.decode_arrays(text, len(lines))
     from memcheck.sim.engine import observations_from_arrays
 

@@ -56,8 +56,15 @@ def tiny_contract(**memory: object) -> Contract:
     return Contract.simple(16, 8, **keys)
 
 
-def stand_in(cycles: Sequence[Cycle], *, words: int = 16, width: int = 8, stuck: tuple[int, int, int] | None = None,
-             sleep_after: int = 0, clear_when_idle: bool = False) -> list[tuple[Observed | None, ...]]:
+def stand_in(
+    cycles: Sequence[Cycle],
+    *,
+    words: int = 16,
+    width: int = 8,
+    stuck: tuple[int, int, int] | None = None,
+    sleep_after: int = 0,
+    clear_when_idle: bool = False,
+) -> list[tuple[Observed | None, ...]]:
     """What a registered-output RAM shows before each edge. ``stuck`` = (address, bit, value): that
     cell reads as ``value``; ``sleep_after``: after that many idle edges every word becomes X;
     ``clear_when_idle``: the output register clears on an idle edge (breaks idle_read_data keep)."""
@@ -103,13 +110,16 @@ def test_default_ports_readwrite_then_write_and_read() -> None:
     assert choose_ports(rf, "wr,rd") == (1, 0)
 
 
-@pytest.mark.parametrize(("spec", "words"), [
-    ("rd", "cannot write"),
-    ("wr", "cannot read"),
-    ("rd,wr", "cannot write"),
-    ("nope", "no port 'nope'"),
-    ("wr,rd,wr", "WRITER,READER"),
-])
+@pytest.mark.parametrize(
+    ("spec", "words"),
+    [
+        ("rd", "cannot write"),
+        ("wr", "cannot read"),
+        ("rd,wr", "cannot write"),
+        ("nope", "no port 'nope'"),
+        ("wr,rd,wr", "WRITER,READER"),
+    ],
+)
 def test_ports_that_cannot_do_the_job_are_refused(spec: str, words: str) -> None:
     with pytest.raises(InvalidOperation, match=words):
         choose_ports(load_contract(REGFILE), spec)
@@ -176,7 +186,8 @@ def test_correct_memory_passes_mats_plus_and_march_c_minus() -> None:
 @settings(max_examples=25)
 @given(address=st.integers(0, 15), bit=st.integers(0, 7), value=st.integers(0, 1))
 def test_mats_plus_finds_every_stuck_at_fault_at_the_operation_the_notation_predicts(
-        address: int, bit: int, value: int) -> None:
+    address: int, bit: int, value: int
+) -> None:
     c = tiny_contract()
     p = program_for(c, MATS_PLUS, backgrounds="solid")
     f = check_program(c, p, stand_in(p.cycles, stuck=(address, bit, value)))
@@ -196,8 +207,9 @@ def test_mats_plus_finds_every_stuck_at_fault_at_the_operation_the_notation_pred
     assert f.march_diff == f.model_diff == 1 << bit
     assert f.failed_checks == ("contract model", "March expectation")
     el = "⇑(r0,w1)" if value else "⇓(r1,w0)"
-    assert f.description.startswith(f"element {f.step.element} {el} operation 1 (r{1 - value}) at address "
-                                     f"{address:#x}, background solid")
+    assert f.description.startswith(
+        f"element {f.step.element} {el} operation 1 (r{1 - value}) at address {address:#x}, background solid"
+    )
 
 
 def test_model_alone_judges_reads_of_words_never_written() -> None:
@@ -217,8 +229,10 @@ def test_idle_read_data_failure_names_the_pause() -> None:
     # The first idle edge (cycle 32, first pause cycle) clears the held read data; it shows at cycle 33.
     assert f is not None and f.activity == "quiet"
     assert (f.issued_cycle, f.cycle) == (32, 33)
-    assert "issued no read (idle_read_data) at cycle 32, during the pause of element 2 Del (3 quiet cycles" \
+    assert (
+        "issued no read (idle_read_data) at cycle 32, during the pause of element 2 Del (3 quiet cycles"
         in f.description
+    )
     assert f.step is not None and f.step.index == 31  # the last operation before: r1 at address 15
     assert f.failed_checks == ("contract model",)
 
@@ -237,18 +251,22 @@ def test_pause_cycles_decide_whether_a_sleeping_memory_fails() -> None:
 # -- bad input on the command line (no simulator needed) ---------------------------------------------
 
 
-@pytest.mark.parametrize(("args", "words"), [
-    ([str(REGFILE), "{up(w2)}"], "bad March notation"),
-    ([str(REGFILE), "March Q"], "March Q"),
-    ([str(REGFILE), "MATS+", "--port", "rd"], "cannot write"),
-    ([str(REGFILE), "MATS+", "--layout", "3x3"], "layout"),
-    ([str(REGFILE), "MATS+", "--backgrounds", "plaid"], "plaid"),
-    ([str(REGFILE), "{any(w0); up(r1)}"], "correct memory fails"),
-    ([str(REGFILE), "March C-", "--max-ops", "100"], "max-ops"),
-    (["no/such/contract.toml", "MATS+"], "contract.toml"),
-])
-def test_bad_input_exits_2_with_one_paragraph(args: list[str], words: str, tmp_path: Path,
-                                              capsys: pytest.CaptureFixture[str]) -> None:
+@pytest.mark.parametrize(
+    ("args", "words"),
+    [
+        ([str(REGFILE), "{up(w2)}"], "bad March notation"),
+        ([str(REGFILE), "March Q"], "March Q"),
+        ([str(REGFILE), "MATS+", "--port", "rd"], "cannot write"),
+        ([str(REGFILE), "MATS+", "--layout", "3x3"], "layout"),
+        ([str(REGFILE), "MATS+", "--backgrounds", "plaid"], "plaid"),
+        ([str(REGFILE), "{any(w0); up(r1)}"], "correct memory fails"),
+        ([str(REGFILE), "March C-", "--max-ops", "100"], "max-ops"),
+        (["no/such/contract.toml", "MATS+"], "contract.toml"),
+    ],
+)
+def test_bad_input_exits_2_with_one_paragraph(
+    args: list[str], words: str, tmp_path: Path, capsys: pytest.CaptureFixture[str]
+) -> None:
     report = tmp_path / "r.json"
     assert main(["march", "run", *args, "--out", str(tmp_path / "out"), "--json", str(report)]) == 2
     err = capsys.readouterr().err
@@ -351,8 +369,9 @@ def test_correct_wrapper_passes_mats_plus_and_march_c_minus(tmp_path: Path, buil
 
 
 @pytest.mark.icarus
-def test_bank_bug_fails_march_c_minus_at_its_final_read_element(tmp_path: Path, builds: Path,
-                                                               capsys: pytest.CaptureFixture[str]) -> None:
+def test_bank_bug_fails_march_c_minus_at_its_final_read_element(
+    tmp_path: Path, builds: Path, capsys: pytest.CaptureFixture[str]
+) -> None:
     # The read mux follows the live address bit 9 instead of a registered copy. MATS+ reads each
     # address right before writing the same address (same bank), so the bug never shows; March C-'s
     # last element ⇕(r0) reads 0x1ff then 0x200: the data of the read of 0x1ff (bank 0), due one
@@ -362,11 +381,28 @@ def test_bank_bug_fails_march_c_minus_at_its_final_read_element(tmp_path: Path, 
     report = tmp_path / "report.json"
     assert main(["march", "run", str(BANK_BUG), MATS_PLUS, "--backgrounds", "solid", "--out", str(out)]) == 0
     capsys.readouterr()
-    assert main(["march", "run", str(BANK_BUG), MARCH_C_MINUS, "--backgrounds", "solid", "--out", str(out),
-                 "--json", str(report)]) == 1
+    assert (
+        main(
+            [
+                "march",
+                "run",
+                str(BANK_BUG),
+                MARCH_C_MINUS,
+                "--backgrounds",
+                "solid",
+                "--out",
+                str(out),
+                "--json",
+                str(report),
+            ]
+        )
+        == 1
+    )
     text = capsys.readouterr().out
-    assert ("FAIL at cycle 9728: element 5 ⇕(r0) operation 1 (r0) at address 0x1ff, background solid; "
-            "the read was issued at cycle 9727 on port a") in text
+    assert (
+        "FAIL at cycle 9728: element 5 ⇕(r0) operation 1 (r0) at address 0x1ff, background solid; "
+        "the read was issued at cycle 9727 on port a"
+    ) in text
     assert "failed: contract model and March expectation" in text
     assert "got            xxxxxxxxxxxxxxxx" in text and "not sign-off" in text
     data = json.loads(report.read_text())
@@ -389,8 +425,14 @@ def test_quiet_reads_of_a_port_without_enable_are_checked_too(tmp_path: Path, bu
     # cycle 640 and writes 1s to address 0 at cycle 641, while rd reads address 0: that read must
     # return the old word (0), due two cycles later, at cycle 643. The March expectation does not
     # apply to it; only the contract model judges it.
-    r = run_march(EXAMPLES / "line_buffer_bypass_bug" / "contract.toml", MARCH_C_MINUS, backgrounds="solid",
-                  out_dir=tmp_path / "out", build_dir=builds, waveform=False)
+    r = run_march(
+        EXAMPLES / "line_buffer_bypass_bug" / "contract.toml",
+        MARCH_C_MINUS,
+        backgrounds="solid",
+        out_dir=tmp_path / "out",
+        build_dir=builds,
+        waveform=False,
+    )
     f = r.failure
     assert f is not None and f.step is not None
     assert (f.port, f.activity, f.issued_cycle, f.cycle) == ("rd", "quiet", 641, 643)
@@ -403,8 +445,9 @@ def test_quiet_reads_of_a_port_without_enable_are_checked_too(tmp_path: Path, bu
 
 @pytest.mark.icarus
 @pytest.mark.parametrize(("value", "element", "address"), [(1, 1, 6), (0, 2, 6)])
-def test_stuck_at_cell_fails_where_the_notation_predicts(tmp_path: Path, builds: Path,
-                                                       value: int, element: int, address: int) -> None:
+def test_stuck_at_cell_fails_where_the_notation_predicts(
+    tmp_path: Path, builds: Path, value: int, element: int, address: int
+) -> None:
     # MATS+ detects stuck-at faults (Abadir and Reghbati, ACM Computing Surveys, 1983); see the Python
     # version above for the operation that fails first.
     c = tiny_rtl(tmp_path, "sa", SA_ADDR=address, SA_BIT=3, SA_VAL=value)
@@ -424,8 +467,9 @@ def test_delay_elements_are_quiet_cycles_on_rtl(tmp_path: Path, builds: Path) ->
     ok = run_march(c, test, backgrounds="solid", pause_cycles=4, out_dir=tmp_path / "a", build_dir=builds)
     assert ok.passed and ok.cycles == 16 + 4 + 16 + 1
     assert any("quiet cycles" in n for n in ok.notes)
-    bad = run_march(c, test, backgrounds="solid", pause_cycles=20, out_dir=tmp_path / "b", build_dir=builds,
-                    waveform=False)
+    bad = run_march(
+        c, test, backgrounds="solid", pause_cycles=20, out_dir=tmp_path / "b", build_dir=builds, waveform=False
+    )
     f = bad.failure
     assert f is not None and f.step is not None
     assert (f.step.element, f.step.op.address, f.issued_cycle) == (2, 0, 36)
@@ -456,19 +500,28 @@ class StandInBackend:
     def run(self, segments: Sequence[Segment], *, dump: bool = False) -> list[tuple[Observed | None, ...]]:
         cycles = [c for s in segments for c in s.cycles]
         self.history.extend(cycles)
-        return stand_in(self.history, **self.faults)[-len(cycles):] if cycles else []  # type: ignore[arg-type]
+        return stand_in(self.history, **self.faults)[-len(cycles) :] if cycles else []  # type: ignore[arg-type]
 
 
-def job_failure(contract: Contract, test: str, batch: int, faults: dict[str, object], vectorised: bool = True,  # type: ignore[no-untyped-def]
-                **options: object):
+def job_failure(
+    contract: Contract,
+    test: str,
+    batch: int,
+    faults: dict[str, object],
+    vectorised: bool = True,  # type: ignore[no-untyped-def]
+    **options: object,
+):
     """Run ``test`` through the March job on the stand-in (batches of ``batch`` cycles) and name its
     failure against a light program; also the failure check_program finds on the whole program."""
     opts = MarchRunOptions(**options)  # type: ignore[arg-type]
     full, _, _ = prepare(contract, test, opts)
     light, _, _ = prepare(contract, test, opts, light=True)
     engine = Engine(contract, StandInBackend(**faults))
-    info = run_march_job(engine, light.stream, MarchJob(light.writer, light.reader, light.pause_cycles,
-                                                        "power-up", batch=batch, vectorised=vectorised))
+    info = run_march_job(
+        engine,
+        light.stream,
+        MarchJob(light.writer, light.reader, light.pause_cycles, "power-up", batch=batch, vectorised=vectorised),
+    )
     whole = check_program(contract, full, stand_in(full.cycles, **faults))  # type: ignore[arg-type]
     return failure_from_job(contract, light, info), whole, info, full
 
@@ -494,8 +547,9 @@ def test_light_program_names_cycles_as_the_full_one() -> None:
         assert prefix_cycles(c, light, 40) == list(full.cycles[:40])
         # The March job's columns are the full program's cycles, and it March-checks the same reads.
         written = np.zeros(c.memory.words, dtype=bool)
-        pieces = list(march_pieces(c, light.stream, MarchJob(light.writer, light.reader, light.pause_cycles,
-                                                              "power-up"), written))
+        pieces = list(
+            march_pieces(c, light.stream, MarchJob(light.writer, light.reader, light.pause_cycles, "power-up"), written)
+        )
         cols = Columns.concat([p[0] for p in pieces])
         assert cols.to_cycles() == list(full.cycles)
         ops = np.concatenate([p[3] for p in pieces])
@@ -535,8 +589,9 @@ def test_march_job_model_alone_before_the_first_write() -> None:
 
 
 @pytest.mark.icarus
-def test_failure_past_the_replay_limit_is_named_without_a_replay_file(tmp_path: Path, builds: Path,
-                                                                    monkeypatch: pytest.MonkeyPatch) -> None:
+def test_failure_past_the_replay_limit_is_named_without_a_replay_file(
+    tmp_path: Path, builds: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
     import memcheck.sim.march_run as mr
 
     monkeypatch.setattr(mr, "REPLAY_MAX_CYCLES", 10)
@@ -552,15 +607,26 @@ def test_failure_past_the_replay_limit_is_named_without_a_replay_file(tmp_path: 
 @pytest.mark.icarus
 def test_both_simulator_jobs_report_the_same_failure(tmp_path: Path, builds: Path) -> None:
     c = tiny_rtl(tmp_path, "sa", SA_ADDR=9, SA_BIT=0, SA_VAL=0)
-    runs = [run_march(c, MARCH_C_MINUS, backgrounds="standard", out_dir=tmp_path / job, build_dir=builds,
-                      waveform=False, sim_job=job) for job in ("march", "replay")]
+    runs = [
+        run_march(
+            c,
+            MARCH_C_MINUS,
+            backgrounds="standard",
+            out_dir=tmp_path / job,
+            build_dir=builds,
+            waveform=False,
+            sim_job=job,
+        )
+        for job in ("march", "replay")
+    ]
     a, b = (r.failure for r in runs)
     assert a is not None and b is not None
     assert a.to_json(8) == b.to_json(8) and a.description == b.description and a.window == b.window
-    assert runs[0].render().replace(f"{runs[0].seconds:.1f} s (build {runs[0].build_seconds:.1f} s)", "") \
-        .replace(str(tmp_path / "march"), "") == \
-        runs[1].render().replace(f"{runs[1].seconds:.1f} s (build {runs[1].build_seconds:.1f} s)", "") \
-        .replace(str(tmp_path / "replay"), "")
+    assert runs[0].render().replace(f"{runs[0].seconds:.1f} s (build {runs[0].build_seconds:.1f} s)", "").replace(
+        str(tmp_path / "march"), ""
+    ) == runs[1].render().replace(f"{runs[1].seconds:.1f} s (build {runs[1].build_seconds:.1f} s)", "").replace(
+        str(tmp_path / "replay"), ""
+    )
 
 
 def test_carried_vectorised_model_agrees_with_the_model_batch_by_batch() -> None:
@@ -587,16 +653,20 @@ def test_carried_vectorised_model_agrees_with_the_model_batch_by_batch() -> None
                 fast = CarriedModel(c, start, p.writer)  # type: ignore[arg-type]
                 got = []
                 for lo in range(0, len(cols), batch):
-                    got += expected_rows(*fast.run(cols[lo:lo + batch]))
+                    got += expected_rows(*fast.run(cols[lo : lo + batch]))
                 assert got == want, (c.memory, test, batch)
 
 
 @settings(max_examples=30, deadline=None)
-@given(data=st.data(), contract=contracts(max_words=12, max_width=70, max_ports=3),
-       test=st.sampled_from([MATS_PLUS, MARCH_C_MINUS, "{any(w1); del; up(r1,w0,r0); down(r0,r0,w1)}"]),
-       batch=st.integers(1, 40))
-def test_carried_model_agrees_on_random_contracts(data: st.DataObject, contract: Contract, test: str,
-                                                  batch: int) -> None:
+@given(
+    data=st.data(),
+    contract=contracts(max_words=12, max_width=70, max_ports=3),
+    test=st.sampled_from([MATS_PLUS, MARCH_C_MINUS, "{any(w1); del; up(r1,w0,r0); down(r0,r0,w1)}"]),
+    batch=st.integers(1, 40),
+)
+def test_carried_model_agrees_on_random_contracts(
+    data: st.DataObject, contract: Contract, test: str, batch: int
+) -> None:
     # Random contracts (latency, lanes, read_during_write, collision, idle_read_data, initial, ports
     # without enables): the carried vectorised model gives Model's answers in batches of any size.
     from hypothesis import assume
@@ -616,5 +686,5 @@ def test_carried_model_agrees_on_random_contracts(data: st.DataObject, contract:
     fast = CarriedModel(contract, start, p.writer)  # type: ignore[arg-type]
     got = []
     for lo in range(0, len(cols), batch):
-        got += expected_rows(*fast.run(cols[lo:lo + batch]))
+        got += expected_rows(*fast.run(cols[lo : lo + batch]))
     assert got == want

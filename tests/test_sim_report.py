@@ -19,8 +19,17 @@ from memcheck.sim.layout import Observed
 from memcheck.sim.result import Failure, PhaseResult
 
 
-def _observe(c: Contract, cycles: Sequence[Cycle], start: ModelStart, *, at: int, port: int = 0,
-             value: int | None = None, flip: int = 0, defined: int | None = None) -> CheckedTrace:
+def _observe(
+    c: Contract,
+    cycles: Sequence[Cycle],
+    start: ModelStart,
+    *,
+    at: int,
+    port: int = 0,
+    value: int | None = None,
+    flip: int = 0,
+    defined: int | None = None,
+) -> CheckedTrace:
     """Observations equal to the model's expectations (unknown bits read as 0), except at ``at``."""
     exp = start_model(c, start).run(cycles)
     full = c.memory.word_mask
@@ -42,8 +51,16 @@ def _observe(c: Contract, cycles: Sequence[Cycle], start: ModelStart, *, at: int
 
 def _two_port(**memory: object) -> Contract:
     base = Contract.simple(16, 8, **memory)
-    b = PortSpec(name="b", role="readwrite", clock="clk", address="addr_b", enable="en_b", write_enable="we_b",
-                 write_data="wdata_b", read_data="rdata_b")
+    b = PortSpec(
+        name="b",
+        role="readwrite",
+        clock="clk",
+        address="addr_b",
+        enable="en_b",
+        write_enable="we_b",
+        write_data="wdata_b",
+        read_data="rdata_b",
+    )
     return Contract(memory=base.memory, ports=(base.ports[0], b))
 
 
@@ -121,10 +138,17 @@ def test_hex_and_binary_rendering_mark_unknown_bits() -> None:
 
 def _result(tmp: Path, checked: CheckedTrace, c: Contract) -> CheckResult:
     fail = Failure("property", ("reset", "fill", "flush"), checked)
-    return CheckResult(verdict="fail", contract=c, contract_path=tmp / "c.toml", seed=42,
-                       phases=(PhaseResult("smoke", "pass", 10, 9, 0.1), PhaseResult("property", "fail", 50, 40, 1.0,
-                                                                                      "found")),
-                       failure=fail, seconds=1.5, replay_file=tmp / "replay.json", reproduced=True)
+    return CheckResult(
+        verdict="fail",
+        contract=c,
+        contract_path=tmp / "c.toml",
+        seed=42,
+        phases=(PhaseResult("smoke", "pass", 10, 9, 0.1), PhaseResult("property", "fail", 50, 40, 1.0, "found")),
+        failure=fail,
+        seconds=1.5,
+        replay_file=tmp / "replay.json",
+        reproduced=True,
+    )
 
 
 def test_table_json_and_junit_of_a_failure(tmp_path: Path) -> None:

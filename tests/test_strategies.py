@@ -32,7 +32,7 @@ def test_generated_traces_respect_the_contract(data: st.DataObject, contract: Co
             elif op.lanes is not None:
                 assert 0 <= op.lanes < (1 << m.lanes)
     # The trailing drain cycles issue nothing new where possible, so every read result is observed.
-    for cycle in trace.cycles[len(trace.cycles) - lat:] if lat else ():
+    for cycle in trace.cycles[len(trace.cycles) - lat :] if lat else ():
         for port, op in zip(contract.ports, cycle, strict=True):
             assert op.kind == ("idle" if port.can_idle else "read")
     Model(contract).run(trace.cycles)  # and the model accepts every cycle

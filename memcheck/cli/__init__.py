@@ -43,6 +43,7 @@ def render_error(exc: BaseException) -> str:
 def _register_commands() -> None:
     # Imported for their side effect of adding commands to ``cli``; each module owns one area.
     from memcheck.cli import contract_cmds  # noqa: F401
+
     for optional in ("march_cmds", "fault_cmds", "check_cmds", "march_run_cmds"):
         try:
             __import__(f"memcheck.cli.{optional}")
@@ -77,8 +78,12 @@ def main(argv: list[str] | None = None) -> int:
     except Exception as exc:  # a bug of ours: still one paragraph unless --debug
         if debug:
             traceback.print_exc()
-        click.echo(render_error(RuntimeError(
-            f"internal error ({exc.__class__.__name__}: {exc}); rerun with --debug and report it")), err=True)
+        click.echo(
+            render_error(
+                RuntimeError(f"internal error ({exc.__class__.__name__}: {exc}); rerun with --debug and report it")
+            ),
+            err=True,
+        )
         return EXIT_ERROR
     return int(rv) if isinstance(rv, int) else EXIT_OK
 

@@ -25,8 +25,7 @@ def validate(contract_file: str) -> None:
     console.print(f"[bold]{contract_file}[/bold]: valid contract")
     t = Table(show_header=False, box=None)
     t.add_row("geometry", f"{m.words} words x {m.width} bits")
-    writes = ("bit mask" if m.bit_mask else
-              f"{m.lanes} lanes of {m.lane_width} bits" if m.lane_width else "whole-word")
+    writes = "bit mask" if m.bit_mask else f"{m.lanes} lanes of {m.lane_width} bits" if m.lane_width else "whole-word"
     t.add_row("writes", writes)
     t.add_row("read latency", str(m.read_latency))
     for key in ("read_during_write", "collision", "write_collision", "initial", "idle_read_data"):
@@ -34,8 +33,10 @@ def validate(contract_file: str) -> None:
     for p in c.ports:
         t.add_row(f"port {p.name}", f"{p.role}: " + ", ".join(f"{k}={v}" for k, v in p.pins().items()))
     if c.reset:
-        t.add_row("reset", f"{c.reset.signal} ({'active low' if c.reset.active_low else 'active high'}, "
-                           f"{c.reset.cycles} cycles)")
+        t.add_row(
+            "reset",
+            f"{c.reset.signal} ({'active low' if c.reset.active_low else 'active high'}, {c.reset.cycles} cycles)",
+        )
     console.print(t)
     unchecked = c.unchecked_behaviours()
     if unchecked:

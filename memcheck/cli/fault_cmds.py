@@ -44,21 +44,32 @@ def _escape_lines(rep: CoverageReport, limit: int) -> list[str]:
     groups = list(rep.escapes)
     if not groups or limit <= 0:
         return []
-    lines = [f"Escapes: {len(groups)} fault model(s) are not always detected"
-             + (f" (first {limit} shown; --escapes N for more)" if len(groups) > limit else "") + ":"]
+    lines = [
+        f"Escapes: {len(groups)} fault model(s) are not always detected"
+        + (f" (first {limit} shown; --escapes N for more)" if len(groups) > limit else "")
+        + ":"
+    ]
     for g in groups[:limit]:
         notation = ""
         with contextlib.suppress(FaultModelError):
             notation = " " + model_named(g.model).notation
         where = "" if g.scope == "-" else f", {g.scope}"
-        lines.append(f"  {g.cls} {g.model}{notation}{where}: {g.escaped:,} escaped, {g.partial:,} detected only "
-                     "from some power-up states")
+        lines.append(
+            f"  {g.cls} {g.model}{notation}{where}: {g.escaped:,} escaped, {g.partial:,} detected only "
+            "from some power-up states"
+        )
         if g.example is not None:
-            lines.append(textwrap.fill(f"e.g. {g.example.fault.describe()}", 100, initial_indent="    ",
-                                       subsequent_indent="      "))
+            lines.append(
+                textwrap.fill(
+                    f"e.g. {g.example.fault.describe()}", 100, initial_indent="    ", subsequent_indent="      "
+                )
+            )
             if g.example.witness is not None:
-                lines.append(textwrap.fill(g.example.witness.describe(rep.test), 100, initial_indent="    ",
-                                           subsequent_indent="      "))
+                lines.append(
+                    textwrap.fill(
+                        g.example.witness.describe(rep.test), 100, initial_indent="    ", subsequent_indent="      "
+                    )
+                )
     return lines
 
 
@@ -81,28 +92,70 @@ def _compare_table(reports: list[CoverageReport]) -> Table:
 @click.argument("tests", nargs=-1, required=True, metavar="TEST")
 @click.option("--words", type=int, required=True, help="Number of words in the memory.")
 @click.option("--width", type=int, default=1, show_default=True, help="Bits per word (1 = bit-oriented).")
-@click.option("--layout", default=None, metavar="RxC",
-              help="Physical layout: rows x column-mux words (needed for --universe neighbours).")
-@click.option("--order", type=click.Choice(ORDER_KINDS), default="linear", show_default=True,
-              help="Address order of up elements (down is its reverse).")
-@click.option("--backgrounds", default=None,
-              help="Data backgrounds, comma-separated (default: solid for 1-bit words, else the standard set).")
-@click.option("--faults", "fault_classes", default=None, metavar="CLASSES",
-              help=f"Fault classes, comma-separated (default all: {','.join(CLASSES)}).")
-@click.option("--universe", default="all", show_default=True, metavar="all|neighbours|sample:K",
-              help="Which instances to count.")
-@click.option("--seed", type=int, default=None,
-              help=f"Seed for sample universes and the lfsr order (default {DEFAULT_SEED}; always printed).")
-@click.option("--escapes", "max_escapes", type=int, default=12, show_default=True,
-              help="How many fault models with escapes to list (one example each).")
-@click.option("--compare", is_flag=True,
-              help="Compare several TESTs side by side: memcheck coverage A B C --compare ...")
+@click.option(
+    "--layout",
+    default=None,
+    metavar="RxC",
+    help="Physical layout: rows x column-mux words (needed for --universe neighbours).",
+)
+@click.option(
+    "--order",
+    type=click.Choice(ORDER_KINDS),
+    default="linear",
+    show_default=True,
+    help="Address order of up elements (down is its reverse).",
+)
+@click.option(
+    "--backgrounds",
+    default=None,
+    help="Data backgrounds, comma-separated (default: solid for 1-bit words, else the standard set).",
+)
+@click.option(
+    "--faults",
+    "fault_classes",
+    default=None,
+    metavar="CLASSES",
+    help=f"Fault classes, comma-separated (default all: {','.join(CLASSES)}).",
+)
+@click.option(
+    "--universe", default="all", show_default=True, metavar="all|neighbours|sample:K", help="Which instances to count."
+)
+@click.option(
+    "--seed",
+    type=int,
+    default=None,
+    help=f"Seed for sample universes and the lfsr order (default {DEFAULT_SEED}; always printed).",
+)
+@click.option(
+    "--escapes",
+    "max_escapes",
+    type=int,
+    default=12,
+    show_default=True,
+    help="How many fault models with escapes to list (one example each).",
+)
+@click.option(
+    "--compare", is_flag=True, help="Compare several TESTs side by side: memcheck coverage A B C --compare ..."
+)
 @click.option("--json", "json_file", type=click.Path(dir_okay=False), default=None, help="Write a JSON report.")
-@click.option("--plot", "plot_file", type=click.Path(dir_okay=False), default=None,
-              help="Write a grouped bar chart (PNG).")
-def coverage_cmd(tests: tuple[str, ...], words: int, width: int, layout: str | None, order: str,
-                 backgrounds: str | None, fault_classes: str | None, universe: str, seed: int | None,
-                 max_escapes: int, compare: bool, json_file: str | None, plot_file: str | None) -> None:
+@click.option(
+    "--plot", "plot_file", type=click.Path(dir_okay=False), default=None, help="Write a grouped bar chart (PNG)."
+)
+def coverage_cmd(
+    tests: tuple[str, ...],
+    words: int,
+    width: int,
+    layout: str | None,
+    order: str,
+    backgrounds: str | None,
+    fault_classes: str | None,
+    universe: str,
+    seed: int | None,
+    max_escapes: int,
+    compare: bool,
+    json_file: str | None,
+    plot_file: str | None,
+) -> None:
     """Fault coverage of a March TEST (library name or notation) on a WORDS x WIDTH memory.
 
     Prints a table per fault class (instances, detected, escaped, partial = detected only from some
@@ -110,15 +163,18 @@ def coverage_cmd(tests: tuple[str, ...], words: int, width: int, layout: str | N
     Give several TESTs with --compare to see them side by side.
     """
     if len(tests) > 1 and not compare:
-        raise FaultModelError(f"{len(tests)} tests given ({', '.join(tests)}); add --compare to compare them side "
-                              "by side, or quote a notation that contains spaces")
+        raise FaultModelError(
+            f"{len(tests)} tests given ({', '.join(tests)}); add --compare to compare them side "
+            "by side, or quote a notation that contains spaces"
+        )
     try:
         lay = parse_layout(layout) if layout else None
     except MemcheckError as exc:
         raise FaultModelError(str(exc)) from None
     used_seed = DEFAULT_SEED if seed is None else seed
-    setup = SimSetup(words, width, layout=lay, order=order, backgrounds=backgrounds,
-                     seed=used_seed if order == "lfsr" else None)
+    setup = SimSetup(
+        words, width, layout=lay, order=order, backgrounds=backgrounds, seed=used_seed if order == "lfsr" else None
+    )
     classes = parse_classes(fault_classes)
     uni = parse_universe(universe, used_seed)
     reports = [coverage(t, setup, classes=classes, universe=uni) for t in tests]
@@ -126,16 +182,19 @@ def coverage_cmd(tests: tuple[str, ...], words: int, width: int, layout: str | N
     first = reports[0]
     bgs = ", ".join(first.backgrounds)
     lay_text = f", layout {lay[0]}x{lay[1]}" if lay else ""
-    console.print(f"memory {words} words x {width} bit{'s' if width > 1 else ''}{lay_text}; order {order}; "
-                  f"backgrounds {bgs}; universe {uni.label}; seed {used_seed}")
+    console.print(
+        f"memory {words} words x {width} bit{'s' if width > 1 else ''}{lay_text}; order {order}; "
+        f"backgrounds {bgs}; universe {uni.label}; seed {used_seed}"
+    )
     for rep in reports:
         click.echo(f"\n{rep.label}  {rep.notation}  ({rep.test.length}n, {rep.seconds:.2f} s)")
         console.print(_class_table(rep))
         for line in _escape_lines(rep, max_escapes):
             click.echo(line)
     if len(reports) > 1:
-        click.echo("\nCoverage % side by side (guaranteed detection; detected only from some power-up states in "
-                   "brackets):")
+        click.echo(
+            "\nCoverage % side by side (guaranteed detection; detected only from some power-up states in brackets):"
+        )
         console.print(_compare_table(reports))
     click.echo(DISCLAIMER)
     if json_file:

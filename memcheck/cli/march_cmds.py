@@ -11,12 +11,13 @@ from rich.console import Console
 from rich.table import Table
 
 from memcheck.cli import cli
+from memcheck.cli._options import address_order_options
 from memcheck.errors import NotationError, UnknownAlgorithm
 from memcheck.march.backgrounds import BACKGROUND_NAMES
 from memcheck.march.expand import expand
 from memcheck.march.export import FORMATS, hex_layout, iter_export, write_export
 from memcheck.march.library import ALGORITHMS, FAULT_CLASSES, get_algorithm, resolve_test
-from memcheck.march.orders import ORDER_KINDS, parse_layout
+from memcheck.march.orders import parse_layout
 
 _F = TypeVar("_F", bound=Callable[..., Any])
 
@@ -47,29 +48,32 @@ def march_show(name: str) -> None:
         test = resolve_test(name)  # notation, or the UnknownAlgorithm error again
         footer = ""
         d = test.delays
-        rows = [("custom test", ""), ("notation", test.to_unicode()), ("ascii", test.to_ascii()),
-                ("length", f"{test.length}n" + (f" + {d} delay{'s' if d > 1 else ''}" if d else ""))]
+        rows = [
+            ("custom test", ""),
+            ("notation", test.to_unicode()),
+            ("ascii", test.to_ascii()),
+            ("length", f"{test.length}n" + (f" + {d} delay{'s' if d > 1 else ''}" if d else "")),
+        ]
     else:
         test = alg.test
-        rows = [(alg.name, ""), ("notation", test.to_unicode()), ("ascii", test.to_ascii()),
-                ("length", alg.length_text), ("source", alg.source.cite()),
-                ("claimed", ", ".join(f"{c} ({FAULT_CLASSES[c]})" for c in alg.claims))]
+        rows = [
+            (alg.name, ""),
+            ("notation", test.to_unicode()),
+            ("ascii", test.to_ascii()),
+            ("length", alg.length_text),
+            ("source", alg.source.cite()),
+            ("claimed", ", ".join(f"{c} ({FAULT_CLASSES[c]})" for c in alg.claims)),
+        ]
         if alg.notes:
             rows.append(("notes", alg.notes))
-        footer = ("Claims are as published; memcheck's fault simulator measures coverage under its own fault "
-                  "models. Not sign-off.")
+        footer = (
+            "Claims are as published; memcheck's fault simulator measures coverage under its own fault "
+            "models. Not sign-off."
+        )
     for key, value in rows:
         click.echo(f"{key:<10}{value}" if value else key)
     if footer:
         click.echo(footer)
-
-
-def address_order_options(f: _F) -> _F:
-    """``--order`` and ``--any-order``, shared by every command that walks a March test's addresses."""
-    f = click.option("--any-order", default="up", show_default=True, type=click.Choice(("up", "down")),
-                     help="Walk used by elements whose order is 'any' (⇕).")(f)
-    return click.option("--order", default="linear", show_default=True, type=click.Choice(ORDER_KINDS),
-                        help="Address order of up elements (down is its exact reverse).")(f)
 
 
 @cli.command("patterns")
@@ -78,14 +82,34 @@ def address_order_options(f: _F) -> _F:
 @click.option("--width", type=int, required=True, help="Bits per word (1..1024).")
 @click.option("--layout", help="Physical array ROWSxCOLS with column multiplexing, e.g. 256x4.")
 @address_order_options
-@click.option("--backgrounds", default="solid", show_default=True,
-              help=f"Comma-separated data backgrounds: {', '.join(BACKGROUND_NAMES)}, std0..stdK or a hex word.")
+@click.option(
+    "--backgrounds",
+    default="solid",
+    show_default=True,
+    help=f"Comma-separated data backgrounds: {', '.join(BACKGROUND_NAMES)}, std0..stdK or a hex word.",
+)
 @click.option("--seed", type=int, default=0, show_default=True, help="Start of the LFSR order (--order lfsr).")
-@click.option("--format", "fmt", default="hex", show_default=True, type=click.Choice(FORMATS),
-              help="hex loads with Verilog $readmemh; csv and json are for scripts.")
+@click.option(
+    "--format",
+    "fmt",
+    default="hex",
+    show_default=True,
+    type=click.Choice(FORMATS),
+    help="hex loads with Verilog $readmemh; csv and json are for scripts.",
+)
 @click.option("-o", "--output", type=click.Path(dir_okay=False), help="Write here (atomically) instead of stdout.")
-def patterns(name_or_notation: str, words: int | None, width: int, layout: str | None, order: str,
-             any_order: str, backgrounds: str, seed: int, fmt: str, output: str | None) -> None:
+def patterns(
+    name_or_notation: str,
+    words: int | None,
+    width: int,
+    layout: str | None,
+    order: str,
+    any_order: str,
+    backgrounds: str,
+    seed: int,
+    fmt: str,
+    output: str | None,
+) -> None:
     """Expand NAME_OR_NOTATION (library name or March notation) into its operation stream."""
     lay = parse_layout(layout) if layout else None
     if words is None:
@@ -93,12 +117,22 @@ def patterns(name_or_notation: str, words: int | None, width: int, layout: str |
             raise NotationError("give --words N (or a --layout ROWSxCOLS to take the word count from)")
         words = lay[0] * lay[1]
     test = resolve_test(name_or_notation)
-    stream = expand(test, words, width, layout=lay, order=order, backgrounds=backgrounds, any_order=any_order,
-                    seed=seed if order == "lfsr" else None)
+    stream = expand(
+        test,
+        words,
+        width,
+        layout=lay,
+        order=order,
+        backgrounds=backgrounds,
+        any_order=any_order,
+        seed=seed if order == "lfsr" else None,
+    )
     lay_h = hex_layout(stream)
-    summary = (f"{test.name or 'custom test'}: {stream.total_ops} operations = {test.length} x {words} words x "
-               f"{len(stream.backgrounds)} background(s) [{', '.join(b.name for b in stream.backgrounds)}], "
-               f"order {order}")
+    summary = (
+        f"{test.name or 'custom test'}: {stream.total_ops} operations = {test.length} x {words} words x "
+        f"{len(stream.backgrounds)} background(s) [{', '.join(b.name for b in stream.backgrounds)}], "
+        f"order {order}"
+    )
     if order == "lfsr":
         summary += f" (seed {seed}, LFSR start state {stream.order.lfsr_start})"
     if fmt == "hex":

@@ -66,8 +66,10 @@ from memcheck.march.notation import MarchTest
 
 IntArray = npt.NDArray[np.int64]
 
-DISCLAIMER = ("Verdicts cover the modelled fault models only (single faults, the fault primitives and read "
-              "conventions in docs/faults.md); they are an engineering aid, not sign-off.")
+DISCLAIMER = (
+    "Verdicts cover the modelled fault models only (single faults, the fault primitives and read "
+    "conventions in docs/faults.md); they are an engineering aid, not sign-off."
+)
 Z95 = 1.959963984540054
 NO_SCOPE = "-"
 _VERDICTS: tuple[Verdict, ...] = ("detected", "partial", "escaped")
@@ -158,20 +160,32 @@ class CoverageReport:
         s = self.setup
         classes: dict[str, Any] = {}
         for c in self.classes:
-            entry: dict[str, Any] = {"faults": c.faults, "detected": c.detected, "partial": c.partial,
-                                     "coverage": c.coverage, "escaped": c.escaped}
+            entry: dict[str, Any] = {
+                "faults": c.faults,
+                "detected": c.detected,
+                "partial": c.partial,
+                "coverage": c.coverage,
+                "escaped": c.escaped,
+            }
             if c.ci95 is not None:
                 entry["ci95"] = list(c.ci95)
-            entry["by_model"] = {b.label: {"faults": b.faults, "detected": b.detected, "partial": b.partial}
-                                 for b in c.by_model}
+            entry["by_model"] = {
+                b.label: {"faults": b.faults, "detected": b.detected, "partial": b.partial} for b in c.by_model
+            }
             if c.by_scope:
-                entry["by_scope"] = {b.label: {"faults": b.faults, "detected": b.detected, "partial": b.partial}
-                                     for b in c.by_scope}
+                entry["by_scope"] = {
+                    b.label: {"faults": b.faults, "detected": b.detected, "partial": b.partial} for b in c.by_scope
+                }
             classes[c.cls] = entry
         escapes = []
         for g in self.escapes:
-            item: dict[str, Any] = {"class": g.cls, "model": g.model, "scope": g.scope, "escaped": g.escaped,
-                                    "partial": g.partial}
+            item: dict[str, Any] = {
+                "class": g.cls,
+                "model": g.model,
+                "scope": g.scope,
+                "escaped": g.escaped,
+                "partial": g.partial,
+            }
             if g.example is not None:
                 item["example"] = g.example.fault.describe()
                 item["verdict"] = g.example.verdict
@@ -179,10 +193,17 @@ class CoverageReport:
                     item["witness"] = g.example.witness.describe(self.test)
             escapes.append(item)
         return {
-            "test": self.label, "words": s.words, "width": s.width, "universe": self.universe.label,
-            "classes": classes, "notation": self.notation,
-            "layout": None if s.layout is None else f"{s.layout[0]}x{s.layout[1]}", "order": s.order,
-            "backgrounds": list(self.backgrounds), "seed": self.universe.seed, "escapes": escapes,
+            "test": self.label,
+            "words": s.words,
+            "width": s.width,
+            "universe": self.universe.label,
+            "classes": classes,
+            "notation": self.notation,
+            "layout": None if s.layout is None else f"{s.layout[0]}x{s.layout[1]}",
+            "order": s.order,
+            "backgrounds": list(self.backgrounds),
+            "seed": self.universe.seed,
+            "escapes": escapes,
             "note": DISCLAIMER,
         }
 
@@ -190,6 +211,7 @@ class CoverageReport:
 # ---------------------------------------------------------------------------------------------------
 # Tallies
 # ---------------------------------------------------------------------------------------------------
+
 
 @dataclass
 class _Tally:
@@ -199,8 +221,9 @@ class _Tally:
     locators: dict[tuple[str, str, str], tuple[Verdict, tuple[Any, ...]]] = field(default_factory=dict)
     results: dict[tuple[str, str, str], FaultResult] = field(default_factory=dict)
 
-    def add(self, group: tuple[str, str, str], verdict: int, count: int,
-            locator: tuple[Any, ...] | None = None) -> None:
+    def add(
+        self, group: tuple[str, str, str], verdict: int, count: int, locator: tuple[Any, ...] | None = None
+    ) -> None:
         if count <= 0:
             return
         self.counts.setdefault(group, [0, 0, 0])[verdict] += count
@@ -210,8 +233,15 @@ class _Tally:
                 self.locators[group] = (_VERDICTS[verdict], locator)
 
 
-def _tally_table(tally: _Tally, cls_of: list[str], names: list[str], scope: IntArray | None, verdicts: npt.NDArray[Any],
-                 counts: IntArray, locate: Any) -> None:
+def _tally_table(
+    tally: _Tally,
+    cls_of: list[str],
+    names: list[str],
+    scope: IntArray | None,
+    verdicts: npt.NDArray[Any],
+    counts: IntArray,
+    locate: Any,
+) -> None:
     """Add (rows x models) verdicts with per-row counts; ``locate(row, model)`` gives a locator."""
     nrows, nm = verdicts.shape
     sc = np.zeros(nrows, np.int64) if scope is None else scope
@@ -233,8 +263,15 @@ def _single_cell(plan: Plan, classes: Sequence[str], tally: _Tally) -> None:
         return
     ct = cell_table(plan.rs)
     run = run_cell_classes(plan, "single", np.zeros_like(ct.code), ct.code, models)
-    _tally_table(tally, [m.cls for m in models], [m.name for m in models], None, run.verdicts(), ct.count,
-                 lambda r, m: ("cell", models[m], int(ct.code[r])))
+    _tally_table(
+        tally,
+        [m.cls for m in models],
+        [m.name for m in models],
+        None,
+        run.verdicts(),
+        ct.count,
+        lambda r, m: ("cell", models[m], int(ct.code[r])),
+    )
 
 
 def _two_cell(plan: Plan, classes: Sequence[str], kind: str, tally: _Tally) -> None:
@@ -252,13 +289,13 @@ def _two_cell(plan: Plan, classes: Sequence[str], kind: str, tally: _Tally) -> N
         verdicts = run.verdicts()[inv.reshape(-1)]
         scope, ca, cv = pt.scope[sel], pt.code_a[sel], pt.code_v[sel]
 
-        def locate(r: int, m: int, scope: IntArray = scope, ca: IntArray = ca, cv: IntArray = cv,
-                   ri: int = ri) -> tuple[Any, ...]:
+        def locate(
+            r: int, m: int, scope: IntArray = scope, ca: IntArray = ca, cv: IntArray = cv, ri: int = ri
+        ) -> tuple[Any, ...]:
             key = ((ri * 3 + int(scope[r])) * ncode + int(ca[r])) * ncode + int(cv[r])
             return ("pair", models[m], key)
 
-        _tally_table(tally, [m.cls for m in models], [m.name for m in models], scope, verdicts,
-                     pt.count[sel], locate)
+        _tally_table(tally, [m.cls for m in models], [m.name for m in models], scope, verdicts, pt.count[sel], locate)
 
 
 def _stuck_open(plan: Plan, tally: _Tally) -> None:
@@ -273,8 +310,12 @@ def _stuck_open(plan: Plan, tally: _Tally) -> None:
         sel = np.flatnonzero(verdict == v)
         if sel.size:
             first = int(sel[np.argmin(words[sel] * width + bits[sel])])
-            tally.add(("SOF", "SOF", NO_SCOPE), v, int(weight[sel].sum()),
-                      ("sof", int(words[first]), int(bits[first])) if v else None)
+            tally.add(
+                ("SOF", "SOF", NO_SCOPE),
+                v,
+                int(weight[sel].sum()),
+                ("sof", int(words[first]), int(bits[first])) if v else None,
+            )
 
 
 def af_label(kind: str, wired: str | None) -> str:
@@ -307,8 +348,14 @@ def _decoder(plan: Plan, kind: str, tally: _Tally) -> None:
                 verdicts[r, m] = combine_bits(run.detected[inv[r], m][:, states])[0]
         names = [af_label(k, w) for k, w in variants]
 
-        def locate(r: int, m: int, ri: int = ri, cx: IntArray = cx, cy: IntArray | None = cy,
-                   variants: Sequence[tuple[str, str | None]] = variants) -> tuple[Any, ...]:
+        def locate(
+            r: int,
+            m: int,
+            ri: int = ri,
+            cx: IntArray = cx,
+            cy: IntArray | None = cy,
+            variants: Sequence[tuple[str, str | None]] = variants,
+        ) -> tuple[Any, ...]:
             if cy is None:
                 return ("word", variants[m], int(cx[r]))
             return ("wordpair", variants[m], word_pair_key(rs, ri, int(cx[r]), int(cy[r])))
@@ -359,8 +406,14 @@ def _model_order(cls: str) -> list[str]:
     return [m.name for m in models_of(cls)]
 
 
-def coverage(test: MarchTest | str, setup: SimSetup, *, classes: str | Sequence[str] | None = None,
-             universe: str | Universe = "all", seed: int | None = None) -> CoverageReport:
+def coverage(
+    test: MarchTest | str,
+    setup: SimSetup,
+    *,
+    classes: str | Sequence[str] | None = None,
+    universe: str | Universe = "all",
+    seed: int | None = None,
+) -> CoverageReport:
     """Coverage of ``test`` (a MarchTest, library name or notation) on the memory ``setup`` describes."""
     t0 = time.perf_counter()
     t = resolve_test(test) if isinstance(test, str) else test
@@ -382,8 +435,10 @@ def coverage(test: MarchTest | str, setup: SimSetup, *, classes: str | Sequence[
         examples = tally.results
     else:
         if uni.kind == "neighbours" and setup.layout is None:
-            raise FaultModelError("the neighbours universe needs the physical layout: give --layout ROWSxCOLS "
-                                  "(rows x column-mux words, rows*cols = words)")
+            raise FaultModelError(
+                "the neighbours universe needs the physical layout: give --layout ROWSxCOLS "
+                "(rows x column-mux words, rows*cols = words)"
+            )
         _single_cell(plan, [c for c in cls_list if models_of(c) and not models_of(c)[0].two_cell], tally)
         _two_cell(plan, [c for c in cls_list if c in TWO_CELL_CLASSES], uni.kind, tally)
         if "SOF" in cls_list:
@@ -411,12 +466,19 @@ def coverage(test: MarchTest | str, setup: SimSetup, *, classes: str | Sequence[
             for scope in SCOPES:
                 cs = [c for g, c in groups.items() if g[2] == scope]
                 if cs:
-                    by_scope.append(Breakdown(scope, sum(map(sum, cs)), sum(c[0] for c in cs),
-                                              sum(c[1] for c in cs)))
+                    by_scope.append(Breakdown(scope, sum(map(sum, cs)), sum(c[0] for c in cs), sum(c[1] for c in cs)))
         ci = wilson_interval(total[0], faults) if uni.kind == "sample" else None
         class_rows.append(ClassCoverage(cls, faults, total[0], total[1], tuple(by_model), tuple(by_scope), ci))
-    return CoverageReport(t, label, setup, tuple(bg.name for bg in plan.rs.backgrounds), uni, tuple(class_rows),
-                          tuple(escape_rows), time.perf_counter() - t0)
+    return CoverageReport(
+        t,
+        label,
+        setup,
+        tuple(bg.name for bg in plan.rs.backgrounds),
+        uni,
+        tuple(class_rows),
+        tuple(escape_rows),
+        time.perf_counter() - t0,
+    )
 
 
 def fault_models(cls: str) -> tuple[FaultModel, ...]:

@@ -53,14 +53,19 @@ AF_RELATIONS = ("X", "XY", "YX")
 
 # (kind, wired) of every decoder-fault variant, in a fixed order
 AF_VARIANTS: tuple[tuple[DecoderKind, Wired | None], ...] = (
-    ("no-cell", None), ("no-cell-shared", "and"), ("no-cell-shared", "or"), ("wrong-cell", None),
-    ("extra-cell", "and"), ("extra-cell", "or"),
+    ("no-cell", None),
+    ("no-cell-shared", "and"),
+    ("no-cell-shared", "or"),
+    ("wrong-cell", None),
+    ("extra-cell", "and"),
+    ("extra-cell", "or"),
 )
 
 
 # ---------------------------------------------------------------------------------------------------
 # Streams
 # ---------------------------------------------------------------------------------------------------
+
 
 @dataclass(frozen=True)
 class Stream:
@@ -123,8 +128,13 @@ def build_stream(slots: Sequence[Slot], relation: str) -> Stream:
         before.append(any(c in written for c in side) and side != "T")
         if s.kind == "w":
             written.update(side)
-    return Stream(tuple(sd for sd, _ in steps), tuple(s.kind for _, s in steps),
-                  tuple(s.value for _, s in steps), tuple(s for _, s in steps), tuple(before))
+    return Stream(
+        tuple(sd for sd, _ in steps),
+        tuple(s.kind for _, s in steps),
+        tuple(s.value for _, s in steps),
+        tuple(s for _, s in steps),
+        tuple(before),
+    )
 
 
 @dataclass(eq=False)
@@ -152,6 +162,7 @@ class Plan:
 # ---------------------------------------------------------------------------------------------------
 # Single- and two-cell FP faults
 # ---------------------------------------------------------------------------------------------------
+
 
 @dataclass(frozen=True)
 class _Tables:
@@ -213,8 +224,9 @@ def _track(t: int, diff: BoolArray, exc: IntArray, mask: IntArray) -> None:
     mask[~diff & (exc != NEVER) & (mask == NEVER)] = t
 
 
-def run_cell_classes(plan: Plan, relation: str, code_a: IntArray, code_v: IntArray,
-                     models: Sequence[FaultModel]) -> ClassRun:
+def run_cell_classes(
+    plan: Plan, relation: str, code_a: IntArray, code_v: IntArray, models: Sequence[FaultModel]
+) -> ClassRun:
     """Simulate every (signature pair, model, power-up state) row of one relation at once."""
     stream = plan.stream(relation)
     single = relation == "single"
@@ -313,8 +325,11 @@ def _cell_results(plan: Plan, faults: Sequence[CellFault | CouplingFault]) -> li
             words = {"V": int(wv[i]), "A": int(wa[i])}
             labels = f.power_up_labels()
             values = (s,) if len(labels) == 1 else (s >> 1, s & 1)
-            witness = Witness(tuple(zip(labels, values, strict=True)), run.stream.ref(int(run.excited[c, m, s]), words),
-                              run.stream.ref(int(run.masked[c, m, s]), words))
+            witness = Witness(
+                tuple(zip(labels, values, strict=True)),
+                run.stream.ref(int(run.excited[c, m, s]), words),
+                run.stream.ref(int(run.masked[c, m, s]), words),
+            )
             out[i] = FaultResult(f, verdict, witness)
     return [r for r in out if r is not None]
 
@@ -322,6 +337,7 @@ def _cell_results(plan: Plan, faults: Sequence[CellFault | CouplingFault]) -> li
 # ---------------------------------------------------------------------------------------------------
 # Stuck-open cells
 # ---------------------------------------------------------------------------------------------------
+
 
 def sof_detection(plan: Plan, words: IntArray, bits: IntArray) -> tuple[BoolArray, BoolArray]:
     """Whether some compared read of each stuck-open cell differs, for data-out latch power-up 0 and 1.
@@ -409,6 +425,7 @@ def _sof_results(plan: Plan, faults: Sequence[StuckOpenFault]) -> list[FaultResu
 # Address-decoder faults (one data bit at a time: the bits of a word never interact)
 # ---------------------------------------------------------------------------------------------------
 
+
 def _reach(kind: str) -> tuple[tuple[int, int], tuple[int, int]]:
     """((x reaches cell x, x reaches cell y), (y reaches cell x, y reaches cell y))."""
     return {
@@ -419,8 +436,9 @@ def _reach(kind: str) -> tuple[tuple[int, int], tuple[int, int]]:
     }[kind]
 
 
-def run_af_classes(plan: Plan, relation: str, code_x: IntArray, code_y: IntArray,
-                   variants: Sequence[tuple[str, str | None]]) -> ClassRun:
+def run_af_classes(
+    plan: Plan, relation: str, code_x: IntArray, code_y: IntArray, variants: Sequence[tuple[str, str | None]]
+) -> ClassRun:
     """Rows (signature pair, variant, power-up state (cell x, cell y, floating value)) of one bit."""
     stream = plan.stream(relation)
     nc, nm, ns = len(code_x), len(variants), 8
@@ -523,8 +541,13 @@ def _af_results(plan: Plan, faults: Sequence[DecoderFault]) -> list[FaultResult]
                 best = (e, int(run.masked[cls_rows[b], m, chosen[b]]))
         words = {"X": int(x[i]), "Y": int(y[i])}
         e, mk = best if best is not None else (NEVER, NEVER)
-        out.append(FaultResult(f, verdict, Witness(tuple(zip(labels, values, strict=True)),
-                                                   run.stream.ref(e, words), run.stream.ref(mk, words))))
+        out.append(
+            FaultResult(
+                f,
+                verdict,
+                Witness(tuple(zip(labels, values, strict=True)), run.stream.ref(e, words), run.stream.ref(mk, words)),
+            )
+        )
     return out
 
 
@@ -532,8 +555,10 @@ def _af_results(plan: Plan, faults: Sequence[DecoderFault]) -> list[FaultResult]
 # Public entry point for explicit fault lists
 # ---------------------------------------------------------------------------------------------------
 
-def simulate(test: MarchTest, faults: Sequence[FaultInstance], setup: SimSetup,
-             plan: Plan | None = None) -> list[FaultResult]:
+
+def simulate(
+    test: MarchTest, faults: Sequence[FaultInstance], setup: SimSetup, plan: Plan | None = None
+) -> list[FaultResult]:
     """Fast verdicts for ``faults`` (same results as :func:`memcheck.faults.naive.simulate_naive`)."""
     plan = plan if plan is not None else Plan.build(test, setup)
     for f in faults:

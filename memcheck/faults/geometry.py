@@ -160,9 +160,11 @@ def check_consistent(test: MarchTest, backgrounds: int = 1) -> None:
                     f"element {e} {el.to_unicode()} reads at operation {j + 1} before the test writes "
                     f"anything; run over {backgrounds} data backgrounds, that read would expect the new "
                     "background while a good memory still holds the previous one: start the test with a "
-                    "write element (e.g. ⇕(w0)) or use a single background")
+                    "write element (e.g. ⇕(w0)) or use a single background"
+                )
             elif last is not None and op.value != last:
                 raise FaultModelError(
                     f"element {e} {el.to_unicode()} reads {op} at operation {j + 1}, but every word holds "
                     f"{last} there in a good memory (written last by w{last}); a fault-free memory fails this "
-                    "test, so its coverage means nothing: fix the notation")
+                    "test, so its coverage means nothing: fix the notation"
+                )

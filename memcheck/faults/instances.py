@@ -157,14 +157,17 @@ class DecoderFault:
         if self.kind not in DECODER_KINDS:
             raise FaultModelError(f"unknown decoder fault kind {self.kind!r}; one of {', '.join(DECODER_KINDS)}")
         if (self.other is None) != (self.kind == "no-cell"):
-            raise FaultModelError(f"decoder fault {self.kind} {'takes no' if self.kind == 'no-cell' else 'needs a'} "
-                                  "second word")
+            raise FaultModelError(
+                f"decoder fault {self.kind} {'takes no' if self.kind == 'no-cell' else 'needs a'} second word"
+            )
         if self.other is not None and self.other == self.address:
             raise FaultModelError("a decoder fault's two words must differ")
         multi = self.kind in ("no-cell-shared", "extra-cell")
         if multi != (self.wired is not None):
-            raise FaultModelError(f"decoder fault {self.kind}: wired is {'and/or' if multi else 'None'} "
-                                  "(only an address reaching two cells combines them)")
+            raise FaultModelError(
+                f"decoder fault {self.kind}: wired is {'and/or' if multi else 'None'} "
+                "(only an address reaching two cells combines them)"
+            )
 
     @property
     def name(self) -> str:
@@ -233,8 +236,10 @@ class OpRef:
             return f"the pause (element {self.element}{bg})"
         el = test.elements[self.element] if test is not None and self.element < len(test.elements) else None
         if isinstance(el, MarchElement) and self.op < len(el.ops):
-            return (f"{el.ops[self.op]} at word {self.word} (element {self.element} {el.to_unicode()}, "
-                    f"operation {self.op + 1}{bg})")
+            return (
+                f"{el.ops[self.op]} at word {self.word} (element {self.element} {el.to_unicode()}, "
+                f"operation {self.op + 1}{bg})"
+            )
         return f"operation {self.op + 1} of element {self.element} at word {self.word}{bg}"
 
 
@@ -252,14 +257,20 @@ class Witness:
         state = ", ".join(f"{k}={v:#x}" if v > 1 else f"{k}={v}" for k, v in self.power_up)
         where: str
         if self.excited is None:
-            where = ("nothing in the test exposes the fault: the faulty cells always hold what a good memory holds "
-                     "and every read returns the expected value")
+            where = (
+                "nothing in the test exposes the fault: the faulty cells always hold what a good memory holds "
+                "and every read returns the expected value"
+            )
         elif self.masked is None:
-            where = (f"it first shows after {self.excited.describe(test)} and is still in the memory when the "
-                     "test ends, never read")
+            where = (
+                f"it first shows after {self.excited.describe(test)} and is still in the memory when the "
+                "test ends, never read"
+            )
         else:
-            where = (f"it first shows after {self.excited.describe(test)} and is overwritten or undone by "
-                     f"{self.masked.describe(test)} before any read sees it")
+            where = (
+                f"it first shows after {self.excited.describe(test)} and is overwritten or undone by "
+                f"{self.masked.describe(test)} before any read sees it"
+            )
         return f"from power-up {state}: {where}"
 
 

@@ -44,8 +44,15 @@ class _Event:
 
 
 def _events(test: MarchTest, setup: SimSetup) -> list[_Event]:
-    stream = expand(test, setup.words, setup.width, layout=setup.layout, order=setup.order,
-                    backgrounds=setup.background_spec, seed=setup.seed)
+    stream = expand(
+        test,
+        setup.words,
+        setup.width,
+        layout=setup.layout,
+        order=setup.order,
+        backgrounds=setup.background_spec,
+        seed=setup.seed,
+    )
     out: list[_Event] = []
     for item in stream.steps():
         if isinstance(item, Pause):
@@ -59,6 +66,7 @@ def _events(test: MarchTest, setup: SimSetup) -> list[_Event]:
 # ---------------------------------------------------------------------------------------------------
 # Faulty memories: the same three operations as a good memory, with the fault injected.
 # ---------------------------------------------------------------------------------------------------
+
 
 class _Memory:
     def __init__(self, words: int) -> None:
@@ -166,6 +174,7 @@ class _DecoderMemory(_Memory):
 # One run from one power-up state.
 # ---------------------------------------------------------------------------------------------------
 
+
 @dataclass
 class _Run:
     detected_bits: int  # data bits on which some compared read differed
@@ -253,8 +262,9 @@ def _verdict(all_detect: bool, some_detect: bool) -> Verdict:
     return "detected" if all_detect else ("partial" if some_detect else "escaped")
 
 
-def simulate_one(test: MarchTest, fault: FaultInstance, setup: SimSetup,
-                 events: Sequence[_Event] | None = None) -> FaultResult:
+def simulate_one(
+    test: MarchTest, fault: FaultInstance, setup: SimSetup, events: Sequence[_Event] | None = None
+) -> FaultResult:
     """Run every power-up state of ``fault``'s cells through the whole test."""
     if events is None:
         check_consistent(test, len(setup.resolve().backgrounds))
@@ -270,8 +280,9 @@ def simulate_one(test: MarchTest, fault: FaultInstance, setup: SimSetup,
             return FaultResult(fault, verdict)
         s = det.index(False)
         exc, mask = _first_episode(runs[s], range(width))
-        return FaultResult(fault, verdict, Witness(tuple(zip(labels, states[s], strict=True)),
-                                                   _ref(events, exc), _ref(events, mask)))
+        return FaultResult(
+            fault, verdict, Witness(tuple(zip(labels, states[s], strict=True)), _ref(events, exc), _ref(events, mask))
+        )
     # A decoder fault acts on every bit of its words alike and the bits never interact, so each bit is
     # an independent copy: the fault escapes from some power-up state of the whole words exactly when
     # every bit has an escaping state of its own, and those combine into the witness.
@@ -288,8 +299,9 @@ def simulate_one(test: MarchTest, fault: FaultInstance, setup: SimSetup,
         if exc != NEVER and (best is None or exc < best[0]):
             best = (exc, b, mask)
     exc, mask = (NEVER, NEVER) if best is None else (best[0], best[2])
-    return FaultResult(fault, verdict, Witness(tuple(zip(labels, values, strict=True)),
-                                               _ref(events, exc), _ref(events, mask)))
+    return FaultResult(
+        fault, verdict, Witness(tuple(zip(labels, values, strict=True)), _ref(events, exc), _ref(events, mask))
+    )
 
 
 def simulate_naive(test: MarchTest, faults: Iterable[FaultInstance], setup: SimSetup) -> list[FaultResult]:

@@ -25,8 +25,7 @@ def plot_coverage(reports: Sequence[CoverageReport], path: str | Path) -> Path:
     classes = [c.cls for c in reports[0].classes]
     n = len(reports)
     width = 0.8 / n
-    fig, ax = plt.subplots(figsize=(min(18.0, max(8.0, 0.45 * len(classes) * (1 + 0.35 * (n - 1)) + 2)), 5.2),
-                           dpi=110)
+    fig, ax = plt.subplots(figsize=(min(18.0, max(8.0, 0.45 * len(classes) * (1 + 0.35 * (n - 1)) + 2)), 5.2), dpi=110)
     colors = plt.get_cmap("tab10")
     for i, rep in enumerate(reports):
         xs = [j + (i - (n - 1) / 2) * width for j in range(len(classes))]
@@ -40,16 +39,27 @@ def plot_coverage(reports: Sequence[CoverageReport], path: str | Path) -> Path:
             hi = [max(0.0, 100 * (rep[c].ci95 or (0, 0))[1] - det[j]) for j, c in enumerate(classes)]
             ax.errorbar(xs, det, yerr=[lo, hi], fmt="none", ecolor="black", elinewidth=0.8, capsize=2)
         for x, d, p in zip(xs, det, part, strict=True):
-            ax.text(x, min(d + p, 100) + 1.5, f"{d:.0f}", ha="center", va="bottom", fontsize=6.5,
-                    rotation=90 if n > 2 else 0)
+            ax.text(
+                x,
+                min(d + p, 100) + 1.5,
+                f"{d:.0f}",
+                ha="center",
+                va="bottom",
+                fontsize=6.5,
+                rotation=90 if n > 2 else 0,
+            )
     handles, _ = ax.get_legend_handles_labels()
-    handles.append(Patch(facecolor="white", edgecolor="grey", hatch="///",
-                         label="detected only from some power-up states"))
+    handles.append(
+        Patch(facecolor="white", edgecolor="grey", hatch="///", label="detected only from some power-up states")
+    )
     s = reports[0].setup
     layout = f", layout {s.layout[0]}x{s.layout[1]}" if s.layout else ""
-    ax.set_title(f"Fault coverage, {s.words} words x {s.width} bit{'s' if s.width > 1 else ''}{layout}, "
-                 f"{s.order} order, backgrounds {', '.join(reports[0].backgrounds)}, "
-                 f"universe {reports[0].universe.label}", fontsize=10)
+    ax.set_title(
+        f"Fault coverage, {s.words} words x {s.width} bit{'s' if s.width > 1 else ''}{layout}, "
+        f"{s.order} order, backgrounds {', '.join(reports[0].backgrounds)}, "
+        f"universe {reports[0].universe.label}",
+        fontsize=10,
+    )
     ax.set_xticks(range(len(classes)), classes, rotation=45, ha="right")
     ax.set_ylabel("guaranteed detection (% of instances)")
     ax.set_ylim(0, 118)

@@ -191,27 +191,49 @@ SINGLE_CELL_MODELS: tuple[FaultModel, ...] = (
 # Two-cell static faults (van de Goor & Al-Ars 2000; Hamdioui, van de Goor and Rodgers, "March SS: a
 # Test for All Static Simple RAM Faults", MTDT 2002) and the classic CFin / CFid (van de Goor 1991).
 TWO_CELL_MODELS: tuple[FaultModel, ...] = (
-    *(_m("CFst", f"CFst<{x};{y}>", f"<{x};{y}/{1 - y}/->",
-         f"{{v}} cannot hold {y} while {{a}} holds {x} (it flips to {1 - y})")
-      for x in (0, 1) for y in (0, 1)),
-    *(_m("CFds", f"CFds<{x}w{w};{y}>", f"<{x}w{w};{y}/{1 - y}/->",
-         f"writing {w} to {{a}} (holding {x}) flips {{v}} from {y} to {1 - y}")
-      for x in (0, 1) for w in (0, 1) for y in (0, 1)),
-    *(_m("CFds", f"CFds<{x}r{x};{y}>", f"<{x}r{x};{y}/{1 - y}/->",
-         f"reading {x} from {{a}} flips {{v}} from {y} to {1 - y}")
-      for x in (0, 1) for y in (0, 1)),
+    *(
+        _m(
+            "CFst",
+            f"CFst<{x};{y}>",
+            f"<{x};{y}/{1 - y}/->",
+            f"{{v}} cannot hold {y} while {{a}} holds {x} (it flips to {1 - y})",
+        )
+        for x in (0, 1)
+        for y in (0, 1)
+    ),
+    *(
+        _m(
+            "CFds",
+            f"CFds<{x}w{w};{y}>",
+            f"<{x}w{w};{y}/{1 - y}/->",
+            f"writing {w} to {{a}} (holding {x}) flips {{v}} from {y} to {1 - y}",
+        )
+        for x in (0, 1)
+        for w in (0, 1)
+        for y in (0, 1)
+    ),
+    *(
+        _m(
+            "CFds",
+            f"CFds<{x}r{x};{y}>",
+            f"<{x}r{x};{y}/{1 - y}/->",
+            f"reading {x} from {{a}} flips {{v}} from {y} to {1 - y}",
+        )
+        for x in (0, 1)
+        for y in (0, 1)
+    ),
     *_two_cell("CFtr", "CFtr<{x};↑>", "<{x};0w1/0/->", "{v} cannot rise while {a} holds {x}"),
     *_two_cell("CFtr", "CFtr<{x};↓>", "<{x};1w0/1/->", "{v} cannot fall while {a} holds {x}"),
     *_two_cell("CFwd", "CFwd<{x};0>", "<{x};0w0/1/->", "writing 0 over 0 in {v} flips it to 1 while {a} holds {x}"),
     *_two_cell("CFwd", "CFwd<{x};1>", "<{x};1w1/0/->", "writing 1 over 1 in {v} flips it to 0 while {a} holds {x}"),
-    *_two_cell("CFrd", "CFrd<{x};0>", "<{x};0r0/1/1>",
-               "reading 0 from {v} flips it and returns 1 while {a} holds {x}"),
-    *_two_cell("CFrd", "CFrd<{x};1>", "<{x};1r1/0/0>",
-               "reading 1 from {v} flips it and returns 0 while {a} holds {x}"),
-    *_two_cell("CFdrd", "CFdrd<{x};0>", "<{x};0r0/1/0>",
-               "reading 0 from {v} returns 0 but flips it while {a} holds {x}"),
-    *_two_cell("CFdrd", "CFdrd<{x};1>", "<{x};1r1/0/1>",
-               "reading 1 from {v} returns 1 but flips it while {a} holds {x}"),
+    *_two_cell("CFrd", "CFrd<{x};0>", "<{x};0r0/1/1>", "reading 0 from {v} flips it and returns 1 while {a} holds {x}"),
+    *_two_cell("CFrd", "CFrd<{x};1>", "<{x};1r1/0/0>", "reading 1 from {v} flips it and returns 0 while {a} holds {x}"),
+    *_two_cell(
+        "CFdrd", "CFdrd<{x};0>", "<{x};0r0/1/0>", "reading 0 from {v} returns 0 but flips it while {a} holds {x}"
+    ),
+    *_two_cell(
+        "CFdrd", "CFdrd<{x};1>", "<{x};1r1/0/1>", "reading 1 from {v} returns 1 but flips it while {a} holds {x}"
+    ),
     *_two_cell("CFir", "CFir<{x};0>", "<{x};0r0/0/1>", "reading 0 from {v} returns 1 while {a} holds {x}"),
     *_two_cell("CFir", "CFir<{x};1>", "<{x};1r1/1/0>", "reading 1 from {v} returns 0 while {a} holds {x}"),
     _m("CFin", "CFin<↑;↕>", "<0w1;0/1/-> <0w1;1/0/->", "writing 1 over 0 in {a} inverts {v}"),
@@ -242,6 +264,7 @@ def model_named(name: str) -> FaultModel:
 # victim's. Within one word operation the victim's own operation is applied first, then the
 # aggressor's disturbance, then state coupling (see docs/faults.md, "one word, two bits").
 # --------------------------------------------------------------------------------------------------
+
 
 def _aggressor_state_ok(p: FaultPrimitive, a: int) -> bool:
     return p.aggressor is None or (p.aggressor.is_state and p.aggressor.state == a)

@@ -42,8 +42,26 @@ from memcheck.faults.primitives import models_of
 
 IntArray = npt.NDArray[np.int64]
 
-CLASSES: tuple[str, ...] = ("SAF", "TF", "WDF", "RDF", "DRDF", "IRF", "SOF", "DRF", "CFst", "CFds", "CFtr",
-                            "CFwd", "CFrd", "CFdrd", "CFir", "CFin", "CFid", "AF")
+CLASSES: tuple[str, ...] = (
+    "SAF",
+    "TF",
+    "WDF",
+    "RDF",
+    "DRDF",
+    "IRF",
+    "SOF",
+    "DRF",
+    "CFst",
+    "CFds",
+    "CFtr",
+    "CFwd",
+    "CFrd",
+    "CFdrd",
+    "CFir",
+    "CFin",
+    "CFid",
+    "AF",
+)
 SINGLE_CLASSES: tuple[str, ...] = ("SAF", "TF", "WDF", "RDF", "DRDF", "IRF", "DRF")
 TWO_CELL_CLASSES: tuple[str, ...] = ("CFst", "CFds", "CFtr", "CFwd", "CFrd", "CFdrd", "CFir", "CFin", "CFid")
 SCOPES: tuple[str, ...] = ("intra-word", "aggressor below", "aggressor above")
@@ -99,14 +117,17 @@ def parse_classes(spec: str | tuple[str, ...] | list[str] | None) -> tuple[str, 
 
 def require_layout(setup: SimSetup) -> tuple[int, int]:
     if setup.layout is None:
-        raise FaultModelError("the neighbours universe needs the physical layout: give --layout ROWSxCOLS "
-                              "(rows x column-mux words, rows*cols = words)")
+        raise FaultModelError(
+            "the neighbours universe needs the physical layout: give --layout ROWSxCOLS "
+            "(rows x column-mux words, rows*cols = words)"
+        )
     return setup.layout
 
 
 # ---------------------------------------------------------------------------------------------------
 # Counting helpers
 # ---------------------------------------------------------------------------------------------------
+
 
 def count_keys(keys: IntArray) -> tuple[IntArray, IntArray]:
     """Distinct keys and how often each occurs."""
@@ -166,16 +187,17 @@ def word_pair_counts(rs: Resolved) -> IntArray:
         t_lt[:, c2] = cum[wc == c2].sum(axis=0)
     inv = inversions_by_class(rs.up, wc, nwc)  # [c_lo, c_hi]: lo address visited later
     out = np.zeros((2, 2, nwc, nwc), np.int64)
-    out[0, 0] = t_lt - inv          # a below b, a first
-    out[1, 0] = inv                 # a below b, b first
-    out[0, 1] = inv.T               # a above b, a first
-    out[1, 1] = t_lt.T - inv.T      # a above b, b first
+    out[0, 0] = t_lt - inv  # a below b, a first
+    out[1, 0] = inv  # a below b, b first
+    out[0, 1] = inv.T  # a above b, a first
+    out[1, 1] = t_lt.T - inv.T  # a above b, b first
     return out
 
 
 # ---------------------------------------------------------------------------------------------------
 # Multiplicity tables
 # ---------------------------------------------------------------------------------------------------
+
 
 @dataclass(frozen=True, eq=False)
 class CellTable:
@@ -247,8 +269,9 @@ def pair_table_all(rs: Resolved) -> PairTable:
     off = ba != bv
     for c in range(nwc):  # intra-word
         if n_words[c] and width > 1:
-            k = _pack(np.ones(off.sum(), np.int64), np.zeros(off.sum(), np.int64), codes[c, ba[off]],
-                      codes[c, bv[off]], ncode)
+            k = _pack(
+                np.ones(off.sum(), np.int64), np.zeros(off.sum(), np.int64), codes[c, ba[off]], codes[c, bv[off]], ncode
+            )
             u, cnt = count_keys(k)
             keys.append(u)
             counts.append(cnt * n_words[c])
@@ -343,21 +366,24 @@ def word_pair_table(rs: Resolved, kind: str) -> WordPairTable:
 # Finding an instance for a table row (examples of escapes)
 # ---------------------------------------------------------------------------------------------------
 
+
 def find_cells(rs: Resolved, codes_wanted: list[int]) -> dict[int, Cell]:
     """For each signature code, the first cell (by word, then bit) that has it."""
     codes = rs.class_codes()
     first_word = {int(c): int(np.flatnonzero(rs.wclass == c)[0]) for c in np.unique(rs.wclass)}
     out: dict[int, Cell] = {}
     for code in codes_wanted:
-        cands = [(first_word[c], int(np.flatnonzero(codes[c] == code)[0])) for c in first_word
-                 if (codes[c] == code).any()]
+        cands = [
+            (first_word[c], int(np.flatnonzero(codes[c] == code)[0])) for c in first_word if (codes[c] == code).any()
+        ]
         if cands:
             out[code] = Cell(*min(cands))
     return out
 
 
-def _first_by_key(batches: Iterable[tuple[IntArray, IntArray, IntArray]], wanted: IntArray,
-                  stop_when_all: bool = False) -> dict[int, tuple[int, int]]:
+def _first_by_key(
+    batches: Iterable[tuple[IntArray, IntArray, IntArray]], wanted: IntArray, stop_when_all: bool = False
+) -> dict[int, tuple[int, int]]:
     """For each wanted key, the smallest (primary, secondary) over batches of (keys, primary, secondary)."""
     best: dict[int, tuple[int, int]] = {}
     for k, primary, secondary in batches:
@@ -390,7 +416,8 @@ def find_pairs(rs: Resolved, kind: str, keys: list[int], budget: int = 1 << 26) 
     if kind == "neighbours":
         batches: Iterator[tuple[IntArray, IntArray, IntArray]] = (
             (_pair_keys(rs, wa, ba, wv, bv), wv * width + bv, wa * width + ba)
-            for wa, ba, wv, bv in neighbour_pairs(rs.setup))
+            for wa, ba, wv, bv in neighbour_pairs(rs.setup)
+        )
         best = _first_by_key(batches, wanted)
     else:
         cells = np.arange(rs.setup.cells, dtype=np.int64)
@@ -445,6 +472,7 @@ def sof_contexts(rs: Resolved) -> tuple[IntArray, IntArray]:
 # Explicit instances (samples, and the whole universe of a small memory for tests)
 # ---------------------------------------------------------------------------------------------------
 
+
 def class_size(cls: str, setup: SimSetup) -> int:
     """Instances of ``cls`` in the ``all`` universe."""
     n, w = setup.cells, setup.words
@@ -496,8 +524,11 @@ def enumerate_class(cls: str, setup: SimSetup, kind: str = "all") -> list[FaultI
     models = models_of(cls)
     if not models[0].two_cell:
         return [CellFault(m, c) for m in models for c in cells]
-    pairs = [(Cell(int(a), int(b)), Cell(int(c), int(d)))
-             for wa, ba, wv, bv in neighbour_pairs(setup) for a, b, c, d in zip(wa, ba, wv, bv, strict=True)]
+    pairs = [
+        (Cell(int(a), int(b)), Cell(int(c), int(d)))
+        for wa, ba, wv, bv in neighbour_pairs(setup)
+        for a, b, c, d in zip(wa, ba, wv, bv, strict=True)
+    ]
     return [CouplingFault(m, a, v) for m in models for a, v in pairs]
 
 

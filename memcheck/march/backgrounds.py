@@ -144,11 +144,13 @@ def resolve_background(name: str, width: int, layout: tuple[int, int] | None = N
         return (DataBackground(f"{value:#x}", value),)
     raise NotationError(
         f"unknown data background {name!r}; choose from {', '.join(BACKGROUND_NAMES)}, std0..stdK or a hex word "
-        "such as 0x5a")
+        "such as 0x5a"
+    )
 
 
-def resolve_backgrounds(spec: str | Sequence[str], width: int,
-                        layout: tuple[int, int] | None = None) -> tuple[DataBackground, ...]:
+def resolve_backgrounds(
+    spec: str | Sequence[str], width: int, layout: tuple[int, int] | None = None
+) -> tuple[DataBackground, ...]:
     """A comma-separated list (or sequence) of background names, in order; a background equal to an
     earlier one (same words) is dropped."""
     names = [s for s in (spec.split(",") if isinstance(spec, str) else spec) if s.strip()]
@@ -186,8 +188,9 @@ def parity(flip: Flip, addresses: IntArray, layout: tuple[int, int] | None) -> I
     return (row + col) & 1
 
 
-def background_words(bg: DataBackground, addresses: IntArray, width: int,
-                     layout: tuple[int, int] | None = None) -> WordArray:
+def background_words(
+    bg: DataBackground, addresses: IntArray, width: int, layout: tuple[int, int] | None = None
+) -> WordArray:
     """Background value of every address, vectorised: ``uint64[n, L]``."""
     base = int_to_limbs(bg.base, width)
     n = len(addresses)

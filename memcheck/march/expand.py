@@ -231,23 +231,43 @@ class MarchStream:
             for i in range(len(item)):
                 addr = int(item.address[i])
                 if item.op[i] == OP_WRITE:
-                    yield MarchStep(item.start + i, item.element, int(item.step[i]), item.background,
-                                    write(addr, limbs_to_int(item.data[i])), None)
+                    yield MarchStep(
+                        item.start + i,
+                        item.element,
+                        int(item.step[i]),
+                        item.background,
+                        write(addr, limbs_to_int(item.data[i])),
+                        None,
+                    )
                 else:
-                    yield MarchStep(item.start + i, item.element, int(item.step[i]), item.background,
-                                    read(addr), limbs_to_int(item.expected[i]))
+                    yield MarchStep(
+                        item.start + i,
+                        item.element,
+                        int(item.step[i]),
+                        item.background,
+                        read(addr),
+                        limbs_to_int(item.expected[i]),
+                    )
 
     def collect(self, limit: int = 1 << 24) -> StreamArrays:
         """The whole stream as arrays (for small memories and tests); refuses above ``limit`` ops."""
         if self.total_ops > limit:
-            raise NotationError(f"the stream has {self.total_ops} operations; collect() stops at {limit} "
-                                "(iterate the stream instead)")
+            raise NotationError(
+                f"the stream has {self.total_ops} operations; collect() stops at {limit} (iterate the stream instead)"
+            )
         parts = list(self.chunks())
         nl = limbs(self.width)
         if not parts:
             z = np.zeros(0, dtype=np.int64)
-            return StreamArrays(z.astype(np.uint8), z, np.zeros((0, nl), np.uint64), np.zeros((0, nl), np.uint64),
-                                z.astype(np.int32), z.astype(np.int32), z.astype(np.uint16))
+            return StreamArrays(
+                z.astype(np.uint8),
+                z,
+                np.zeros((0, nl), np.uint64),
+                np.zeros((0, nl), np.uint64),
+                z.astype(np.int32),
+                z.astype(np.int32),
+                z.astype(np.uint16),
+            )
         return StreamArrays(
             np.concatenate([c.op for c in parts]),
             np.concatenate([c.address for c in parts]),
@@ -265,8 +285,10 @@ class MarchStream:
         op = el.ops[step.step]
         bg = self.backgrounds[step.background]
         hexw = (self.width + 3) // 4
-        text = (f"element {step.element} {el.to_unicode()} operation {step.step + 1} ({op}) at address "
-                f"{step.op.address:#x}, background {bg.name}")
+        text = (
+            f"element {step.element} {el.to_unicode()} operation {step.step + 1} ({op}) at address "
+            f"{step.op.address:#x}, background {bg.name}"
+        )
         if step.expected is not None:
             text += f": expected {step.expected:#0{hexw + 2}x}"
             if got is not None:
@@ -274,9 +296,18 @@ class MarchStream:
         return text
 
 
-def expand(test: MarchTest | str, words: int, width: int, *, layout: tuple[int, int] | None = None,
-           order: str = "linear", backgrounds: str | Sequence[str] = "solid", any_order: str = "up",
-           seed: int | None = None, chunk_ops: int = DEFAULT_CHUNK_OPS) -> MarchStream:
+def expand(
+    test: MarchTest | str,
+    words: int,
+    width: int,
+    *,
+    layout: tuple[int, int] | None = None,
+    order: str = "linear",
+    backgrounds: str | Sequence[str] = "solid",
+    any_order: str = "up",
+    seed: int | None = None,
+    chunk_ops: int = DEFAULT_CHUNK_OPS,
+) -> MarchStream:
     """Plan ``test`` (a MarchTest, library name or notation) over a ``words`` x ``width`` memory.
 
     Raises NotationError / UnknownAlgorithm for impossible requests (bad order, layout that does not
@@ -291,5 +322,6 @@ def expand(test: MarchTest | str, words: int, width: int, *, layout: tuple[int, 
     lay = None if layout is None else (int(layout[0]), int(layout[1]))
     addr_order = AddressOrder(order, words, lay, seed)
     bgs = resolve_backgrounds(backgrounds, width, lay)
-    return MarchStream(t, int(words), int(width), lay, addr_order, bgs,
-                       "up" if any_order == "up" else "down", chunk_ops)
+    return MarchStream(
+        t, int(words), int(width), lay, addr_order, bgs, "up" if any_order == "up" else "down", chunk_ops
+    )

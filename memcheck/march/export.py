@@ -61,8 +61,12 @@ class HexLayout:
     def fields(self) -> dict[str, tuple[int, int]]:
         """Bit ranges ``name -> (msb, lsb)`` inside a line."""
         d, a = 4 * self.data_digits, 4 * self.address_digits
-        return {"op": (self.line_bits - 1, self.line_bits - 4), "address": (2 * d + a - 1, 2 * d),
-                "data": (2 * d - 1, d), "expected": (d - 1, 0)}
+        return {
+            "op": (self.line_bits - 1, self.line_bits - 4),
+            "address": (2 * d + a - 1, 2 * d),
+            "data": (2 * d - 1, d),
+            "expected": (d - 1, 0),
+        }
 
 
 def hex_layout(stream: MarchStream) -> HexLayout:
@@ -99,8 +103,10 @@ def _header_lines(stream: MarchStream) -> list[str]:
         + (f", layout {stream.layout[0]}x{stream.layout[1]}" if stream.layout else "")
         + f", order {stream.order.kind}"
         + (f" (seed {stream.seed})" if stream.order.kind == "lfsr" else ""),
-        "backgrounds " + ", ".join(f"{b.name}={b.base:#x}" + ("" if b.flip == "none" else f" flip-{b.flip}")
-                                   for b in stream.backgrounds),
+        "backgrounds "
+        + ", ".join(
+            f"{b.name}={b.base:#x}" + ("" if b.flip == "none" else f" flip-{b.flip}") for b in stream.backgrounds
+        ),
         f"{stream.total_ops} operations (length {t.length} x {stream.words} words x "
         f"{len(stream.backgrounds)} backgrounds) + {t.delays * len(stream.backgrounds)} pause lines",
     ]
@@ -143,7 +149,8 @@ def iter_csv(stream: MarchStream) -> Iterator[bytes]:
             continue
         yield "".join(
             f"{item.start + i},{item.background},{item.element},{step},{op},0x{addr},0x{data},0x{exp}\n"
-            for i, (op, addr, data, exp, step) in enumerate(_text_rows(item, lay))).encode()
+            for i, (op, addr, data, exp, step) in enumerate(_text_rows(item, lay))
+        ).encode()
 
 
 def iter_json(stream: MarchStream) -> Iterator[bytes]:
@@ -170,12 +177,14 @@ def iter_json(stream: MarchStream) -> Iterator[bytes]:
     first = True
     for item in stream:
         if isinstance(item, Pause):
-            pauses.append({"at": item.at, "element": item.element, "background": item.background,
-                           "label": item.delay.label})
+            pauses.append(
+                {"at": item.at, "element": item.element, "background": item.background, "label": item.delay.label}
+            )
             continue
         piece = ",\n".join(
             f'["{op}",{int(addr, 16)},"0x{data}","0x{exp}",{item.element},{step},{item.background}]'
-            for op, addr, data, exp, step in _text_rows(item, lay))
+            for op, addr, data, exp, step in _text_rows(item, lay)
+        )
         yield (("\n" if first else ",\n") + piece).encode()
         first = False
     yield ("\n], " + json.dumps({"pauses": pauses})[1:] + "\n").encode()

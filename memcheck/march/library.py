@@ -81,81 +81,152 @@ class MarchAlgorithm:
         return f"{self.length}n" + (f" + {d} delay{'s' if d > 1 else ''}" if d else "")
 
 
-_VDG_BOOK = Source("A.J. van de Goor", "Testing Semiconductor Memories: Theory and Practice", "John Wiley & Sons",
-                   1991)
-_SUK_REDDY = Source("D.S. Suk and S.M. Reddy",
-                    "A March Test for Functional Faults in Semiconductor Random Access Memories",
-                    "IEEE Transactions on Computers C-30(12)", 1981)
+_VDG_BOOK = Source("A.J. van de Goor", "Testing Semiconductor Memories: Theory and Practice", "John Wiley & Sons", 1991)
+_SUK_REDDY = Source(
+    "D.S. Suk and S.M. Reddy",
+    "A March Test for Functional Faults in Semiconductor Random Access Memories",
+    "IEEE Transactions on Computers C-30(12)",
+    1981,
+)
 
 ALGORITHMS: tuple[MarchAlgorithm, ...] = (
     MarchAlgorithm(
-        "MATS", "{⇕(w0); ⇕(r0,w1); ⇕(r1)}", 4,
-        Source("R. Nair", "Comments on 'An Optimal Algorithm for Testing Stuck-at Faults in Random Access "
-               "Memories'", "IEEE Transactions on Computers C-28(3)", 1979),
-        ("SAF",), "Also some address decoder faults, depending on the decoder technology."),
+        "MATS",
+        "{⇕(w0); ⇕(r0,w1); ⇕(r1)}",
+        4,
+        Source(
+            "R. Nair",
+            "Comments on 'An Optimal Algorithm for Testing Stuck-at Faults in Random Access Memories'",
+            "IEEE Transactions on Computers C-28(3)",
+            1979,
+        ),
+        ("SAF",),
+        "Also some address decoder faults, depending on the decoder technology.",
+    ),
     MarchAlgorithm(
-        "MATS+", "{⇕(w0); ⇑(r0,w1); ⇓(r1,w0)}", 5,
-        Source("M.S. Abadir and H.K. Reghbati", "Functional Testing of Semiconductor Random Access Memories",
-               "ACM Computing Surveys 15(3)", 1983),
-        ("SAF", "AF"), aliases=("mats-plus",)),
+        "MATS+",
+        "{⇕(w0); ⇑(r0,w1); ⇓(r1,w0)}",
+        5,
+        Source(
+            "M.S. Abadir and H.K. Reghbati",
+            "Functional Testing of Semiconductor Random Access Memories",
+            "ACM Computing Surveys 15(3)",
+            1983,
+        ),
+        ("SAF", "AF"),
+        aliases=("mats-plus",),
+    ),
     MarchAlgorithm(
-        "MATS++", "{⇕(w0); ⇑(r0,w1); ⇓(r1,w0,r0)}", 6, _VDG_BOOK,
-        ("SAF", "AF", "TF"), aliases=("mats-plus-plus",)),
+        "MATS++", "{⇕(w0); ⇑(r0,w1); ⇓(r1,w0,r0)}", 6, _VDG_BOOK, ("SAF", "AF", "TF"), aliases=("mats-plus-plus",)
+    ),
+    MarchAlgorithm("March X", "{⇕(w0); ⇑(r0,w1); ⇓(r1,w0); ⇕(r0)}", 6, _VDG_BOOK, ("SAF", "AF", "TF", "CFin")),
     MarchAlgorithm(
-        "March X", "{⇕(w0); ⇑(r0,w1); ⇓(r1,w0); ⇕(r0)}", 6, _VDG_BOOK,
-        ("SAF", "AF", "TF", "CFin")),
+        "March Y",
+        "{⇕(w0); ⇑(r0,w1,r1); ⇓(r1,w0,r0); ⇕(r0)}",
+        8,
+        _VDG_BOOK,
+        ("SAF", "AF", "TF", "CFin"),
+        "Also transition faults linked with inversion coupling faults.",
+    ),
     MarchAlgorithm(
-        "March Y", "{⇕(w0); ⇑(r0,w1,r1); ⇓(r1,w0,r0); ⇕(r0)}", 8, _VDG_BOOK,
-        ("SAF", "AF", "TF", "CFin"), "Also transition faults linked with inversion coupling faults."),
+        "March C",
+        "{⇕(w0); ⇑(r0,w1); ⇑(r1,w0); ⇕(r0); ⇓(r0,w1); ⇓(r1,w0); ⇕(r0)}",
+        11,
+        Source(
+            "M. Marinescu",
+            "Simple and Efficient Algorithms for Functional RAM Testing",
+            "Proc. IEEE International Test Conference",
+            1982,
+        ),
+        ("SAF", "AF", "TF", "CFin", "CFid", "CFst"),
+        "Unlinked coupling faults.",
+    ),
     MarchAlgorithm(
-        "March C", "{⇕(w0); ⇑(r0,w1); ⇑(r1,w0); ⇕(r0); ⇓(r0,w1); ⇓(r1,w0); ⇕(r0)}", 11,
-        Source("M. Marinescu", "Simple and Efficient Algorithms for Functional RAM Testing",
-               "Proc. IEEE International Test Conference", 1982),
-        ("SAF", "AF", "TF", "CFin", "CFid", "CFst"), "Unlinked coupling faults."),
-    MarchAlgorithm(
-        "March C-", "{⇕(w0); ⇑(r0,w1); ⇑(r1,w0); ⇓(r0,w1); ⇓(r1,w0); ⇕(r0)}", 10,
+        "March C-",
+        "{⇕(w0); ⇑(r0,w1); ⇑(r1,w0); ⇓(r0,w1); ⇓(r1,w0); ⇕(r0)}",
+        10,
         Source("A.J. van de Goor", "Using March Tests to Test SRAMs", "IEEE Design & Test of Computers 10(1)", 1993),
         ("SAF", "AF", "TF", "CFin", "CFid", "CFst"),
         "March C with its redundant middle read element removed; unlinked coupling faults.",
-        aliases=("march-c-minus", "marchc-")),
+        aliases=("march-c-minus", "marchc-"),
+    ),
     MarchAlgorithm(
-        "March A", "{⇕(w0); ⇑(r0,w1,w0,w1); ⇑(r1,w0,w1); ⇓(r1,w0,w1,w0); ⇓(r0,w1,w0)}", 15, _SUK_REDDY,
-        ("SAF", "AF", "TF", "CFin", "CFid"), "Including linked idempotent coupling faults."),
-    MarchAlgorithm(
-        "March B", "{⇕(w0); ⇑(r0,w1,r1,w0,r0,w1); ⇑(r1,w0,w1); ⇓(r1,w0,w1,w0); ⇓(r0,w1,w0)}", 17, _SUK_REDDY,
+        "March A",
+        "{⇕(w0); ⇑(r0,w1,w0,w1); ⇑(r1,w0,w1); ⇓(r1,w0,w1,w0); ⇓(r0,w1,w0)}",
+        15,
+        _SUK_REDDY,
         ("SAF", "AF", "TF", "CFin", "CFid"),
-        "March A extended so transition faults linked with coupling faults are detected too."),
+        "Including linked idempotent coupling faults.",
+    ),
     MarchAlgorithm(
-        "March U", "{⇕(w0); ⇑(r0,w1,r1,w0); ⇑(r0,w1); ⇓(r1,w0,r0,w1); ⇓(r1,w0)}", 13,
-        Source("A.J. van de Goor and G.N. Gaydadjiev", "March U: a Test for Unlinked Memory Faults",
-               "IEE Proceedings - Circuits, Devices and Systems 144(3)", 1997),
-        ("SAF", "AF", "TF", "SOF", "CFin", "CFid", "CFst"), "Unlinked faults, plus some linked faults."),
+        "March B",
+        "{⇕(w0); ⇑(r0,w1,r1,w0,r0,w1); ⇑(r1,w0,w1); ⇓(r1,w0,w1,w0); ⇓(r0,w1,w0)}",
+        17,
+        _SUK_REDDY,
+        ("SAF", "AF", "TF", "CFin", "CFid"),
+        "March A extended so transition faults linked with coupling faults are detected too.",
+    ),
     MarchAlgorithm(
-        "March LR", "{⇕(w0); ⇓(r0,w1); ⇑(r1,w0,r0,w1); ⇑(r1,w0); ⇑(r0,w1,r1,w0); ⇑(r0)}", 14,
-        Source("A.J. van de Goor, G.N. Gaydadjiev, V.N. Mikitjuk and V.N. Yarmolik",
-               "March LR: a Test for Realistic Linked Faults", "Proc. IEEE VLSI Test Symposium", 1996),
-        ("SAF", "AF", "TF", "SOF", "CFin", "CFid", "CFst"), "Realistic linked faults among these classes."),
+        "March U",
+        "{⇕(w0); ⇑(r0,w1,r1,w0); ⇑(r0,w1); ⇓(r1,w0,r0,w1); ⇓(r1,w0)}",
+        13,
+        Source(
+            "A.J. van de Goor and G.N. Gaydadjiev",
+            "March U: a Test for Unlinked Memory Faults",
+            "IEE Proceedings - Circuits, Devices and Systems 144(3)",
+            1997,
+        ),
+        ("SAF", "AF", "TF", "SOF", "CFin", "CFid", "CFst"),
+        "Unlinked faults, plus some linked faults.",
+    ),
     MarchAlgorithm(
-        "March SR", "{⇓(w0); ⇑(r0,w1,r1,w0); ⇑(r0,r0); ⇑(w1); ⇓(r1,w0,r0,w1); ⇓(r1,r1)}", 14,
-        Source("S. Hamdioui and A.J. van de Goor",
-               "An Experimental Analysis of Spot Defects in SRAMs: Realistic Fault Models and Tests",
-               "Proc. IEEE Asian Test Symposium", 2000),
+        "March LR",
+        "{⇕(w0); ⇓(r0,w1); ⇑(r1,w0,r0,w1); ⇑(r1,w0); ⇑(r0,w1,r1,w0); ⇑(r0)}",
+        14,
+        Source(
+            "A.J. van de Goor, G.N. Gaydadjiev, V.N. Mikitjuk and V.N. Yarmolik",
+            "March LR: a Test for Realistic Linked Faults",
+            "Proc. IEEE VLSI Test Symposium",
+            1996,
+        ),
+        ("SAF", "AF", "TF", "SOF", "CFin", "CFid", "CFst"),
+        "Realistic linked faults among these classes.",
+    ),
+    MarchAlgorithm(
+        "March SR",
+        "{⇓(w0); ⇑(r0,w1,r1,w0); ⇑(r0,r0); ⇑(w1); ⇓(r1,w0,r0,w1); ⇓(r1,r1)}",
+        14,
+        Source(
+            "S. Hamdioui and A.J. van de Goor",
+            "An Experimental Analysis of Spot Defects in SRAMs: Realistic Fault Models and Tests",
+            "Proc. IEEE Asian Test Symposium",
+            2000,
+        ),
         ("SAF", "TF", "SOF", "IRF", "RDF", "DRDF", "CFst", "CFds", "CFtr", "CFrd", "CFdrd", "CFir"),
-        "The realistic faults of the authors' spot-defect analysis."),
+        "The realistic faults of the authors' spot-defect analysis.",
+    ),
     MarchAlgorithm(
         "March SS",
-        "{⇕(w0); ⇑(r0,r0,w0,r0,w1); ⇑(r1,r1,w1,r1,w0); ⇓(r0,r0,w0,r0,w1); ⇓(r1,r1,w1,r1,w0); ⇕(r0)}", 22,
-        Source("S. Hamdioui, A.J. van de Goor and M. Rodgers", "March SS: a Test for All Static Simple RAM Faults",
-               "Proc. IEEE International Workshop on Memory Technology, Design and Testing", 2002),
+        "{⇕(w0); ⇑(r0,r0,w0,r0,w1); ⇑(r1,r1,w1,r1,w0); ⇓(r0,r0,w0,r0,w1); ⇓(r1,r1,w1,r1,w0); ⇕(r0)}",
+        22,
+        Source(
+            "S. Hamdioui, A.J. van de Goor and M. Rodgers",
+            "March SS: a Test for All Static Simple RAM Faults",
+            "Proc. IEEE International Workshop on Memory Technology, Design and Testing",
+            2002,
+        ),
         ("SAF", "TF", "WDF", "RDF", "DRDF", "IRF", "CFst", "CFds", "CFtr", "CFwd", "CFrd", "CFdrd", "CFir"),
-        "All static simple (unlinked) single-cell and two-cell faults."),
+        "All static simple (unlinked) single-cell and two-cell faults.",
+    ),
     MarchAlgorithm(
         "March G",
-        "{⇕(w0); ⇑(r0,w1,r1,w0,r0,w1); ⇑(r1,w0,w1); ⇓(r1,w0,w1,w0); ⇓(r0,w1,w0); Del; ⇕(r0,w1,r1); Del; "
-        "⇕(r1,w0,r0)}", 23, _VDG_BOOK,
+        "{⇕(w0); ⇑(r0,w1,r1,w0,r0,w1); ⇑(r1,w0,w1); ⇓(r1,w0,w1,w0); ⇓(r0,w1,w0); Del; ⇕(r0,w1,r1); Del; ⇕(r1,w0,r0)}",
+        23,
+        _VDG_BOOK,
         ("SAF", "AF", "TF", "SOF", "CFin", "CFid", "CFst", "DRF"),
         "March B plus stuck-open and data-retention elements; each Del is a pause long enough for a weak "
-        "cell to lose its value."),
+        "cell to lose its value.",
+    ),
 )
 
 
@@ -178,7 +249,8 @@ def get_algorithm(name: str) -> MarchAlgorithm:
     hint = f" Did you mean {' or '.join(close)}?" if close else ""
     raise UnknownAlgorithm(
         f"{name!r} is not a March algorithm in the library ({', '.join(algorithm_names())}) and not March "
-        f"notation.{hint}")
+        f"notation.{hint}"
+    )
 
 
 def resolve_test(name_or_notation: str) -> MarchTest:

@@ -32,7 +32,13 @@ ORDERS: tuple[Order, ...] = ("up", "down", "any")
 
 UNICODE_ARROW: dict[str, str] = {"up": "⇑", "down": "⇓", "any": "⇕"}
 _ARROWS: dict[str, Order] = {
-    "⇑": "up", "↑": "up", "⇓": "down", "↓": "down", "⇕": "any", "↕": "any", "⇳": "any",
+    "⇑": "up",
+    "↑": "up",
+    "⇓": "down",
+    "↓": "down",
+    "⇕": "any",
+    "↕": "any",
+    "⇳": "any",
 }
 _WORDS: dict[str, Order] = {"up": "up", "down": "down", "any": "any"}
 _LABEL_RE = re.compile(r"[A-Za-z0-9_.+\-]*")
@@ -90,8 +96,7 @@ class Delay:
 
     def __post_init__(self) -> None:
         if not isinstance(self.label, str) or _LABEL_RE.fullmatch(self.label) is None:
-            raise NotationError(
-                f"a delay label may use only letters, digits and _ . + - (got {self.label!r})")
+            raise NotationError(f"a delay label may use only letters, digits and _ . + - (got {self.label!r})")
 
     def _suffix(self) -> str:
         return f"({self.label})" if self.label else ""
@@ -155,8 +160,9 @@ class _Parser:
     def fail(self, expected: str, pos: int | None = None) -> NotationError:
         at = self.pos if pos is None else pos
         found = "end of text" if at >= len(self.text) else repr(self.text[at])
-        return NotationError(f"bad March notation at character {at + 1}: expected {expected}, found {found}",
-                             self.text, at)
+        return NotationError(
+            f"bad March notation at character {at + 1}: expected {expected}, found {found}", self.text, at
+        )
 
     def skip_ws(self) -> None:
         while self.pos < len(self.text) and self.text[self.pos].isspace():
@@ -175,7 +181,7 @@ class _Parser:
         start = self.pos
         while self.pos < len(self.text) and self.text[self.pos].isascii() and self.text[self.pos].isalpha():
             self.pos += 1
-        return self.text[start:self.pos]
+        return self.text[start : self.pos]
 
     # --- grammar -------------------------------------------------------------------------------
     def parse(self) -> MarchTest:
@@ -200,8 +206,9 @@ class _Parser:
         if self.pos < len(self.text):
             raise self.fail("end of text" if braced else "';' or end of text")
         if not any(isinstance(e, MarchElement) for e in elements):
-            raise NotationError("a March test needs at least one element with operations, not only delays",
-                                self.text, 0)
+            raise NotationError(
+                "a March test needs at least one element with operations, not only delays", self.text, 0
+            )
         return MarchTest(tuple(elements))
 
     def element(self) -> MarchElement | Delay:

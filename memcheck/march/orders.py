@@ -44,11 +44,37 @@ IntArray = npt.NDArray[np.int64]
 # P. Alfke, "Efficient Shift Registers, LFSR Counters, and Long Pseudo-Random Sequence Generators",
 # Xilinx XAPP052, 1996 (table values from memory; tests prove each polynomial primitive).
 LFSR_TAPS: dict[int, tuple[int, ...]] = {
-    2: (2, 1), 3: (3, 2), 4: (4, 3), 5: (5, 3), 6: (6, 5), 7: (7, 6), 8: (8, 6, 5, 4), 9: (9, 5),
-    10: (10, 7), 11: (11, 9), 12: (12, 6, 4, 1), 13: (13, 4, 3, 1), 14: (14, 5, 3, 1), 15: (15, 14),
-    16: (16, 15, 13, 4), 17: (17, 14), 18: (18, 11), 19: (19, 6, 2, 1), 20: (20, 17), 21: (21, 19),
-    22: (22, 21), 23: (23, 18), 24: (24, 23, 22, 17), 25: (25, 22), 26: (26, 6, 2, 1),
-    27: (27, 5, 2, 1), 28: (28, 25), 29: (29, 27), 30: (30, 6, 4, 1), 31: (31, 28), 32: (32, 22, 2, 1),
+    2: (2, 1),
+    3: (3, 2),
+    4: (4, 3),
+    5: (5, 3),
+    6: (6, 5),
+    7: (7, 6),
+    8: (8, 6, 5, 4),
+    9: (9, 5),
+    10: (10, 7),
+    11: (11, 9),
+    12: (12, 6, 4, 1),
+    13: (13, 4, 3, 1),
+    14: (14, 5, 3, 1),
+    15: (15, 14),
+    16: (16, 15, 13, 4),
+    17: (17, 14),
+    18: (18, 11),
+    19: (19, 6, 2, 1),
+    20: (20, 17),
+    21: (21, 19),
+    22: (22, 21),
+    23: (23, 18),
+    24: (24, 23, 22, 17),
+    25: (25, 22),
+    26: (26, 6, 2, 1),
+    27: (27, 5, 2, 1),
+    28: (28, 25),
+    29: (29, 27),
+    30: (30, 6, 4, 1),
+    31: (31, 28),
+    32: (32, 22, 2, 1),
 }
 
 
@@ -79,7 +105,8 @@ def check_geometry(words: int, layout: tuple[int, int] | None) -> None:
         if rows * cols != words:
             raise NotationError(
                 f"layout {rows}x{cols} holds {rows * cols} words but the memory has {words}; "
-                "rows x cols (column multiplexing) must equal the word count")
+                "rows x cols (column multiplexing) must equal the word count"
+            )
 
 
 def lfsr_sequence(bits: int, start: int = 1) -> IntArray:
@@ -112,7 +139,7 @@ def lfsr_sequence(bits: int, start: int = 1) -> IntArray:
         nxt = np.zeros(take, dtype=np.int64)
         for i, col in enumerate(columns):
             nxt ^= ((src >> i) & 1) * col
-        out[filled:filled + take] = nxt
+        out[filled : filled + take] = nxt
         filled += take
         columns = [_apply(columns, c) for c in columns]  # map^filled -> map^(2*filled)
     return out
@@ -212,8 +239,7 @@ class AddressOrder:
         raise ValueError(f"direction must be up or down, not {direction!r}")
 
 
-def address_order(kind: str, words: int, *, layout: tuple[int, int] | None = None,
-                  seed: int | None = None) -> IntArray:
+def address_order(kind: str, words: int, *, layout: tuple[int, int] | None = None, seed: int | None = None) -> IntArray:
     """The ⇑ order of ``kind`` for ``words`` words as an int64 permutation; ⇓ is its reverse."""
     return AddressOrder(kind, words, layout, seed).up()
 

@@ -47,8 +47,9 @@ def report_dict(result: CheckResult) -> dict[str, Any]:
             "trace": f.trace.to_json(),
             "rows": [r.to_json() for r in f.checked.rows],
             "ports": [p.name for p in c.ports],
-            "violated": None if ex is None else {"rule": ex.rule, "detail": ex.detail, "key": ex.key,
-                                                 "cycle": ex.cycle, "port": ex.port},
+            "violated": None
+            if ex is None
+            else {"rule": ex.rule, "detail": ex.detail, "key": ex.key, "cycle": ex.cycle, "port": ex.port},
             "note": f.note,
             "replay_file": None if result.replay_file is None else str(result.replay_file),
             "replay_command": result.replay_command,
@@ -60,9 +61,19 @@ def report_dict(result: CheckResult) -> dict[str, Any]:
 
 def error_dict(contract: str | None, message: str, seed: int | None = None) -> dict[str, Any]:
     """The JSON report when the check could not run (bad input or tool failure)."""
-    return {"verdict": "error", "tool": "memcheck", "version": __version__, "contract": contract, "seed": seed,
-            "phases": [], "operations": 0, "cycles": 0, "minimal_trace": None, "error": message,
-            "note": DISCLAIMER}
+    return {
+        "verdict": "error",
+        "tool": "memcheck",
+        "version": __version__,
+        "contract": contract,
+        "seed": seed,
+        "phases": [],
+        "operations": 0,
+        "cycles": 0,
+        "minimal_trace": None,
+        "error": message,
+        "note": DISCLAIMER,
+    }
 
 
 def write_json(path: str | Path, report: dict[str, Any]) -> Path:
@@ -81,8 +92,13 @@ def junit_xml(report: dict[str, Any], details: str = "") -> str:
         err.text = str(report.get("error") or "")
         errors = 1
     for p in phases:
-        case = ET.SubElement(suite, "testcase", classname=f"memcheck.{Path(str(name)).stem}", name=p["name"],
-                             time=f"{p.get('seconds', 0):.3f}")
+        case = ET.SubElement(
+            suite,
+            "testcase",
+            classname=f"memcheck.{Path(str(name)).stem}",
+            name=p["name"],
+            time=f"{p.get('seconds', 0):.3f}",
+        )
         if p["verdict"] == "fail":
             fail = ET.SubElement(case, "failure", message=p.get("detail") or "read data differs from the contract")
             fail.text = details
@@ -108,8 +124,13 @@ def write_junit(path: str | Path, report: dict[str, Any], details: str = "") -> 
     return write_text_atomic(path, junit_xml(report, details))
 
 
-def write_reports(result: CheckResult, *, json_file: str | Path | None = None,
-                  junit_file: str | Path | None = None, text_file: str | Path | None = None) -> None:
+def write_reports(
+    result: CheckResult,
+    *,
+    json_file: str | Path | None = None,
+    junit_file: str | Path | None = None,
+    text_file: str | Path | None = None,
+) -> None:
     """Write the requested reports of a check, each atomically."""
     rep = report_dict(result)
     text = render_report(result)

@@ -16,8 +16,10 @@ from memcheck.sim.layout import Observed
 if TYPE_CHECKING:
     from memcheck.sim.api import CheckResult
 
-DISCLAIMER = ("Verdicts cover the behaviour modelled by the contract only (behaviours it leaves unknown "
-              "are not checked); this is a verification aid, not sign-off.")
+DISCLAIMER = (
+    "Verdicts cover the behaviour modelled by the contract only (behaviours it leaves unknown "
+    "are not checked); this is a verification aid, not sign-off."
+)
 _BINARY_MAX = 64
 _TABLE_MAX_ROWS = 40
 
@@ -104,8 +106,9 @@ def render_table(contract: Contract, checked: CheckedTrace) -> str:
                 e_txt = hex_known(exp.value, exp.known, width)
                 a_txt = hex_known(obs.value, obs.defined, width)
             d = r.diff[p]
-            lines.append((str(r.cycle), spec.name, kind, addr, data, lanes, e_txt, a_txt,
-                          f"<< {_bits_text(d)}" if d else ""))
+            lines.append(
+                (str(r.cycle), spec.name, kind, addr, data, lanes, e_txt, a_txt, f"<< {_bits_text(d)}" if d else "")
+            )
             if d and obs is not None and len(details) < 4:
                 if width <= _BINARY_MAX:
                     pad = " " * len(f"cycle {r.cycle} port {spec.name}: ")
@@ -115,8 +118,10 @@ def render_table(contract: Contract, checked: CheckedTrace) -> str:
                         f"{pad}differs  {_marks(d, width)}"
                     )
                 else:
-                    details.append(f"cycle {r.cycle} port {spec.name}: differing bits "
-                                   f"{', '.join(str(b) for b in range(width - 1, -1, -1) if d >> b & 1)}")
+                    details.append(
+                        f"cycle {r.cycle} port {spec.name}: differing bits "
+                        f"{', '.join(str(b) for b in range(width - 1, -1, -1) if d >> b & 1)}"
+                    )
     widths = [max(len(h), *(len(x[i]) for x in lines)) if lines else len(h) for i, h in enumerate(header)]
 
     def fmt(cells: tuple[str, ...]) -> str:
@@ -126,8 +131,10 @@ def render_table(contract: Contract, checked: CheckedTrace) -> str:
     if skipped:
         out.append(f"... {skipped} earlier cycles not shown ...")
     out += [fmt(x) for x in lines]
-    legend = ["expected/actual in hex: x = unknown (model) or X/Z (pins), ? = partly unknown nibble; "
-              "idle* = port disabled with other values on its pins."]
+    legend = [
+        "expected/actual in hex: x = unknown (model) or X/Z (pins), ? = partly unknown nibble; "
+        "idle* = port disabled with other values on its pins."
+    ]
     if m.read_latency:
         legend.append(f"Read data is shown in the cycle it is due (read_latency = {m.read_latency}).")
     return "\n".join(out + [""] + details + ([""] if details else []) + legend)
@@ -151,18 +158,35 @@ def start_description(preamble: tuple[str, ...], start: str, contract: Contract 
     """How the trace starts, in words."""
     has_reset = contract is None or contract.reset is not None
     if tuple(preamble) == ("reset", "fill", "flush"):
-        first = "the reset sequence, then " if has_reset and contract is not None else (
-            "the reset sequence (if any), then " if contract is None else "")
-        return (f"Starts from: {first}every address written with a fixed pattern and a short flush (not "
-                "checked); the model knows nothing at the start, so only what the trace itself writes is checked.")
-    names = {"reset": "the reset sequence", "fill": "every address written with a fixed pattern",
-             "flush": "a short flush", "smoke": "the smoke sequence"}
-    steps = [names.get(s, f"sweep {s.split(':', 1)[1]}" if s.startswith("sweep:") else s) for s in preamble
-             if s != "reset" or has_reset]
-    model = {"power-up": "the model at power-up", "reset": "the model right after reset",
-             "unknown": "a model that knows nothing"}[start]
-    return (f"Starts from: {', then '.join(steps) or 'power-up'} (not checked), then the trace below is checked "
-            f"against {model}.")
+        first = (
+            "the reset sequence, then "
+            if has_reset and contract is not None
+            else ("the reset sequence (if any), then " if contract is None else "")
+        )
+        return (
+            f"Starts from: {first}every address written with a fixed pattern and a short flush (not "
+            "checked); the model knows nothing at the start, so only what the trace itself writes is checked."
+        )
+    names = {
+        "reset": "the reset sequence",
+        "fill": "every address written with a fixed pattern",
+        "flush": "a short flush",
+        "smoke": "the smoke sequence",
+    }
+    steps = [
+        names.get(s, f"sweep {s.split(':', 1)[1]}" if s.startswith("sweep:") else s)
+        for s in preamble
+        if s != "reset" or has_reset
+    ]
+    model = {
+        "power-up": "the model at power-up",
+        "reset": "the model right after reset",
+        "unknown": "a model that knows nothing",
+    }[start]
+    return (
+        f"Starts from: {', then '.join(steps) or 'power-up'} (not checked), then the trace below is checked "
+        f"against {model}."
+    )
 
 
 def render_report(result: CheckResult) -> str:
@@ -170,24 +194,32 @@ def render_report(result: CheckResult) -> str:
     parts = [result.summary()]
     if result.failure is not None:
         f = result.failure
-        parts.append(render_failure(result.contract, f.checked,
-                                    start_text=start_description(f.preamble, f.checked.start, result.contract)))
+        parts.append(
+            render_failure(
+                result.contract, f.checked, start_text=start_description(f.preamble, f.checked.start, result.contract)
+            )
+        )
         files = []
         if result.replay_file:
             files.append(f"replay file: {result.replay_file}")
         if result.waveform_file:
             files.append(f"waveform of the trace alone: {result.waveform_file}")
         if result.reproduced is False:
-            files.append("note: a fresh replay showed a different mismatch than the check run (the RTL keeps "
-                         "state the canonical start does not reset); the replay file records the check run.")
+            files.append(
+                "note: a fresh replay showed a different mismatch than the check run (the RTL keeps "
+                "state the canonical start does not reset); the replay file records the check run."
+            )
         if files:
             parts.append("\n".join(files))
     unchecked = result.unchecked
     if unchecked:
-        parts.append("Not checked, because the contract leaves them unknown:\n"
-                     + "\n".join(f"  - {u}" for u in unchecked))
+        parts.append(
+            "Not checked, because the contract leaves them unknown:\n" + "\n".join(f"  - {u}" for u in unchecked)
+        )
     if result.unconnected_inputs:
-        parts.append("Inputs of the top module that the contract does not name were left unconnected: "
-                     + ", ".join(result.unconnected_inputs))
+        parts.append(
+            "Inputs of the top module that the contract does not name were left unconnected: "
+            + ", ".join(result.unconnected_inputs)
+        )
     parts.append(DISCLAIMER)
     return "\n\n".join(parts)

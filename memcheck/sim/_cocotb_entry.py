@@ -64,8 +64,9 @@ class HarnessBackend:
         value, defined = self.run_columns(cols, reset=reset, dump=dump)
         return observations_from_arrays(contract, value, defined)
 
-    def run_columns(self, cols: Columns, *, reset: bool | np.ndarray = False,
-                    dump: bool = False) -> tuple[np.ndarray, np.ndarray]:
+    def run_columns(
+        self, cols: Columns, *, reset: bool | np.ndarray = False, dump: bool = False
+    ) -> tuple[np.ndarray, np.ndarray]:
         """Run a trace given as columns; returns the captured ``(value, defined)`` arrays."""
         values: list[np.ndarray] = []
         defined: list[np.ndarray] = []
@@ -143,16 +144,21 @@ def _session(dut: Any, job: dict[str, Any]) -> dict[str, Any]:
         spec = job["march"]
         with open(spec["stream_pickle"], "rb") as fh:
             stream = pickle.load(fh)
-        march = MarchJob(int(spec["writer"]), int(spec["reader"]), int(spec["pause_cycles"]), spec["start"],
-                         int(spec["window"]))
+        march = MarchJob(
+            int(spec["writer"]), int(spec["reader"]), int(spec["pause_cycles"]), spec["start"], int(spec["window"])
+        )
         result = RunResult(seed=options.seed, extra={"march": run_march_job(engine, stream, march)})
     else:
         result = engine.run()
     out = result.to_json()
-    out["extra"] = {**out["extra"], "sim_seconds": round(time.perf_counter() - t0, 3),
-                    "cycles_simulated": backend.sim_cycles, "batches": backend.batches,
-                    "seconds_batches": round(backend.batch_seconds, 4),
-                    "seconds_codec": round(backend.codec_seconds, 4)}
+    out["extra"] = {
+        **out["extra"],
+        "sim_seconds": round(time.perf_counter() - t0, 3),
+        "cycles_simulated": backend.sim_cycles,
+        "batches": backend.batches,
+        "seconds_batches": round(backend.batch_seconds, 4),
+        "seconds_codec": round(backend.codec_seconds, 4),
+    }
     progress({"phase": "done"})
     return out
 
@@ -167,8 +173,7 @@ async def memcheck_session(dut: Any) -> None:
         out = await bridge(_session)(dut, job)
         out["status"] = "ok"
     except MemcheckError as exc:
-        out = {"status": "error", "error": str(exc), "kind": type(exc).__name__,
-               "traceback": traceback.format_exc()}
+        out = {"status": "error", "error": str(exc), "kind": type(exc).__name__, "traceback": traceback.format_exc()}
     except Exception as exc:
         err = SimulationError(f"internal error in the simulation side ({type(exc).__name__}: {exc})")
         out = {"status": "error", "error": str(err), "kind": "internal", "traceback": traceback.format_exc()}

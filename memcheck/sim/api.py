@@ -101,15 +101,21 @@ class CheckResult:
         if self.error:
             lines.append(self.error)
         if self.phases:
-            lines.append("phases: " + "; ".join(
-                f"{p.name} {p.verdict}" + (f" ({p.operations} operations)" if p.verdict != "skipped" else "")
-                for p in self.phases))
+            lines.append(
+                "phases: "
+                + "; ".join(
+                    f"{p.name} {p.verdict}" + (f" ({p.operations} operations)" if p.verdict != "skipped" else "")
+                    for p in self.phases
+                )
+            )
         lines.append(f"seed {self.seed}; {self.seconds:.1f} s (build {self.build_seconds:.1f} s)")
         if self.failure is not None:
             f = self.failure
             first = f.checked.first_mismatch
-            lines.append(f"minimal trace: {len(f.trace)} cycles (first difference at cycle {first}), found in the "
-                         f"{f.phase} phase" + (f"; {f.note}" if f.note else ""))
+            lines.append(
+                f"minimal trace: {len(f.trace)} cycles (first difference at cycle {first}), found in the "
+                f"{f.phase} phase" + (f"; {f.note}" if f.note else "")
+            )
         if self.replay_command:
             lines.append(f"replay: {self.replay_command}")
         return "\n".join(lines)
@@ -173,11 +179,23 @@ def check_contract(
 
     b = build(c, cache)
     build_seconds = time.perf_counter() - t0
-    run_opts = RunOptions(phases=tuple(opts.phases), examples=opts.examples, seed=seed, march=opts.march,
-                          backgrounds=opts.backgrounds, sweep_max_ops=opts.sweep_max_ops,
-                          max_blocks=opts.max_blocks, bulk_examples=opts.bulk_examples)
-    res = run_job(b, {"mode": "check", "options": run_opts.to_json()}, out / "run",
-                  stall_seconds=opts.stall_seconds, on_progress=on_progress)
+    run_opts = RunOptions(
+        phases=tuple(opts.phases),
+        examples=opts.examples,
+        seed=seed,
+        march=opts.march,
+        backgrounds=opts.backgrounds,
+        sweep_max_ops=opts.sweep_max_ops,
+        max_blocks=opts.max_blocks,
+        bulk_examples=opts.bulk_examples,
+    )
+    res = run_job(
+        b,
+        {"mode": "check", "options": run_opts.to_json()},
+        out / "run",
+        stall_seconds=opts.stall_seconds,
+        on_progress=on_progress,
+    )
     failure = res.failure
     replay_path = wave = None
     reproduced = None
@@ -218,13 +236,26 @@ def _check_march(c: Contract, opts: CheckOptions) -> None:
     expand(opts.march, c.memory.words, c.memory.width, backgrounds=opts.backgrounds)  # raises on bad names
 
 
-def _replay_run(b: Build, failure: Failure, seed: int, out: Path, stall_seconds: float, waveform: bool,
-                on_progress: ProgressCallback | None) -> tuple[CheckedTrace, Path | None]:
+def _replay_run(
+    b: Build,
+    failure: Failure,
+    seed: int,
+    out: Path,
+    stall_seconds: float,
+    waveform: bool,
+    on_progress: ProgressCallback | None,
+) -> tuple[CheckedTrace, Path | None]:
     """Run a failure again in a fresh simulator (dumping the trace alone); returns what it showed."""
     work = out / "replay"
     opts = RunOptions(seed=seed)
-    res = run_job(b, {"mode": "replay", "options": opts.to_json(), "failure": failure.to_json(),
-                      "dump": waveform}, work, stall_seconds=stall_seconds, on_progress=on_progress, vcd=waveform)
+    res = run_job(
+        b,
+        {"mode": "replay", "options": opts.to_json(), "failure": failure.to_json(), "dump": waveform},
+        work,
+        stall_seconds=stall_seconds,
+        on_progress=on_progress,
+        vcd=waveform,
+    )
     assert res.replayed is not None
     wave = None
     if waveform and (work / WAVE_FILE).is_file():
@@ -258,9 +289,15 @@ def _validate_trace(c: Contract, failure: Failure, where: Path) -> None:
             raise ReplayError(f"{where}: cycle {k} of the trace does not fit the contract: {exc}.") from None
 
 
-def replay_file(path: str | Path, *, out_dir: Path | None = None, build_dir: Path | None = None,
-                waveform: bool = True, stall_seconds: float = DEFAULT_STALL_SECONDS,
-                on_progress: ProgressCallback | None = None) -> ReplayResult:
+def replay_file(
+    path: str | Path,
+    *,
+    out_dir: Path | None = None,
+    build_dir: Path | None = None,
+    waveform: bool = True,
+    stall_seconds: float = DEFAULT_STALL_SECONDS,
+    on_progress: ProgressCallback | None = None,
+) -> ReplayResult:
     """Re-run the trace of a replay file against the contract's current RTL."""
     rf = read_replay(path)
     if not rf.contract_path.is_file():
@@ -273,4 +310,3 @@ def replay_file(path: str | Path, *, out_dir: Path | None = None, build_dir: Pat
     checked, wave = _replay_run(b, rf.failure, rf.seed, out, stall_seconds, waveform, on_progress)
     changed = bool(rf.contract_digest) and rf.contract_digest != file_digest(rf.contract_path)
     return ReplayResult(rf, c, checked, checked.signature() == rf.failure.checked.signature(), wave, changed)
-

@@ -102,8 +102,7 @@ def _locked(folder: Path) -> Iterator[None]:
             fcntl.flock(fh, fcntl.LOCK_UN)
 
 
-def _compile(rtl: RtlSpec, sources: list[Path], top: str, build_dir: Path, log: Path,
-             *, parameters: bool) -> None:
+def _compile(rtl: RtlSpec, sources: list[Path], top: str, build_dir: Path, log: Path, *, parameters: bool) -> None:
     from memcheck.sim.icarus import CommandFailed, QuietIcarus
 
     runner = QuietIcarus()
@@ -144,8 +143,7 @@ def build(contract: Contract, cache_root: Path) -> Build:
         harness = folder / f"{HARNESS_TOP}.v"
         if not harness.is_file() or harness.read_text(encoding="utf-8") != text:
             harness.write_text(text, encoding="utf-8")
-        _compile(rtl, [*rtl.sources, harness], HARNESS_TOP, folder / "sim", folder / "build.log",
-                 parameters=False)
+        _compile(rtl, [*rtl.sources, harness], HARNESS_TOP, folder / "sim", folder / "build.log", parameters=False)
     return Build(contract=contract, folder=folder, layout=layout, pins=pins)
 
 

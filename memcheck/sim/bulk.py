@@ -134,7 +134,7 @@ def decode(contract: Contract, spec: BulkSpec, *, drain: bool = True) -> Columns
     lat = m.read_latency
     if n == 0:
         return Columns.quiet(contract, lat if drain else 0)
-    raw = raw[:n * size].reshape(n, size).astype(np.int64)
+    raw = raw[: n * size].reshape(n, size).astype(np.int64)
     head = raw[:, 0]
     op_byte = raw[:, 1::2]  # (n, ports)
     data_byte = raw[:, 2::2]
@@ -155,16 +155,24 @@ def decode(contract: Contract, spec: BulkSpec, *, drain: bool = True) -> Columns
     limit = 1 << abits
     asel = op_byte >> 3
     pool = np.array(spec.pool or (0,), dtype=np.int64) % limit
-    anywhere = (mix64((np.arange(n)[:, None] * 8 + np.arange(n_ports)[None, :]).astype(np.uint64) + np.uint64(77))
-                % np.uint64(limit)).astype(np.int64)
+    anywhere = (
+        mix64((np.arange(n)[:, None] * 8 + np.arange(n_ports)[None, :]).astype(np.uint64) + np.uint64(77))
+        % np.uint64(limit)
+    ).astype(np.int64)
     addr_rec = np.where(asel < _POOL_SLOTS, pool[asel % len(pool)], anywhere)
 
     kind = kind_rec[rec]
     addr = addr_rec[rec]
     jj = j[:, None]
     flip = np.int64(1) << ((np.maximum(jj - 1, 0)) % abits)
-    addr = np.select([step[:, None] == 1, step[:, None] == 2, (step[:, None] == 3) & (jj > 0)],
-                     [addr + jj, addr - jj, addr ^ flip], addr) % limit
+    addr = (
+        np.select(
+            [step[:, None] == 1, step[:, None] == 2, (step[:, None] == 3) & (jj > 0)],
+            [addr + jj, addr - jj, addr ^ flip],
+            addr,
+        )
+        % limit
+    )
     # Alternation 3: every port uses the address of the first port that writes (else port 0's).
     shared = alt == 3
     if shared.any() and n_ports > 1:

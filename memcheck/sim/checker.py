@@ -115,8 +115,12 @@ class CheckedTrace:
         return cls(start=start, rows=tuple(CycleRow.from_json(r) for r in obj["rows"]))
 
 
-def compare(expected: Sequence[tuple[Expected, ...]], observed: Sequence[tuple[Observed | None, ...]],
-            cycles: Sequence[Cycle], start: ModelStart) -> CheckedTrace:
+def compare(
+    expected: Sequence[tuple[Expected, ...]],
+    observed: Sequence[tuple[Observed | None, ...]],
+    cycles: Sequence[Cycle],
+    start: ModelStart,
+) -> CheckedTrace:
     """Pair up expectations and observations of a trace."""
     rows = []
     for k, (ops, exp, obs) in enumerate(zip(cycles, expected, observed, strict=True)):
@@ -147,8 +151,9 @@ def expected_for(contract: Contract, start: ModelStart, cycles: Sequence[Cycle])
     return start_model(contract, start).run(cycles)
 
 
-def check(contract: Contract, start: ModelStart, cycles: Sequence[Cycle],
-          observed: Sequence[tuple[Observed | None, ...]]) -> CheckedTrace:
+def check(
+    contract: Contract, start: ModelStart, cycles: Sequence[Cycle], observed: Sequence[tuple[Observed | None, ...]]
+) -> CheckedTrace:
     """Run the model from ``start`` over ``cycles`` and compare with ``observed``."""
     return compare(expected_for(contract, start, cycles), observed, cycles, start)
 
@@ -200,9 +205,14 @@ class ArrayCheck:
         return CheckedTrace(self.start, tuple(rows))
 
 
-def check_arrays(contract: Contract, cols: Columns, value: np.ndarray, defined: np.ndarray,
-                 start: ModelStart = "unknown",
-                 model: tuple[np.ndarray, np.ndarray] | None = None) -> ArrayCheck:
+def check_arrays(
+    contract: Contract,
+    cols: Columns,
+    value: np.ndarray,
+    defined: np.ndarray,
+    start: ModelStart = "unknown",
+    model: tuple[np.ndarray, np.ndarray] | None = None,
+) -> ArrayCheck:
     """Compare captured read data (arrays, as :meth:`Layout.decode_arrays`) with the vectorised model;
     ``model`` is its ``(value, known)`` when already computed (see :func:`expected_arrays`)."""
     ev, ek = model if model is not None else expected_arrays(contract, cols, start)

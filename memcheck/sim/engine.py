@@ -67,8 +67,9 @@ def observations_from_arrays(contract: Contract, value: np.ndarray, defined: np.
         if port.read_data is None:
             cols.append(None)
             continue
-        cols.append([Observed(v, d) for v, d in zip(limbs_to_ints(value[:, i]), limbs_to_ints(defined[:, i]),
-                                                    strict=True)])
+        cols.append(
+            [Observed(v, d) for v, d in zip(limbs_to_ints(value[:, i]), limbs_to_ints(defined[:, i]), strict=True)]
+        )
     return [tuple(None if col is None else col[k] for col in cols) for k in range(n)]
 
 
@@ -111,16 +112,31 @@ class RunOptions:
     bulk_shrink_runs: int = BULK_SHRINK_RUNS
 
     def to_json(self) -> dict[str, Any]:
-        return {"phases": list(self.phases), "examples": self.examples, "seed": self.seed, "march": self.march,
-                "backgrounds": self.backgrounds, "sweep_max_ops": self.sweep_max_ops,
-                "max_blocks": self.max_blocks, "bulk_examples": self.bulk_examples,
-                "bulk_shrink_runs": self.bulk_shrink_runs}
+        return {
+            "phases": list(self.phases),
+            "examples": self.examples,
+            "seed": self.seed,
+            "march": self.march,
+            "backgrounds": self.backgrounds,
+            "sweep_max_ops": self.sweep_max_ops,
+            "max_blocks": self.max_blocks,
+            "bulk_examples": self.bulk_examples,
+            "bulk_shrink_runs": self.bulk_shrink_runs,
+        }
 
     @classmethod
     def from_json(cls, obj: dict[str, Any]) -> RunOptions:
-        return cls(tuple(obj["phases"]), int(obj["examples"]), int(obj["seed"]), str(obj["march"]),
-                   str(obj["backgrounds"]), int(obj["sweep_max_ops"]), int(obj["max_blocks"]),
-                   int(obj.get("bulk_examples", 0)), int(obj.get("bulk_shrink_runs", BULK_SHRINK_RUNS)))
+        return cls(
+            tuple(obj["phases"]),
+            int(obj["examples"]),
+            int(obj["seed"]),
+            str(obj["march"]),
+            str(obj["backgrounds"]),
+            int(obj["sweep_max_ops"]),
+            int(obj["max_blocks"]),
+            int(obj.get("bulk_examples", 0)),
+            int(obj.get("bulk_shrink_runs", BULK_SHRINK_RUNS)),
+        )
 
 
 class _Mismatch(Exception):
@@ -160,8 +176,13 @@ def _ops(cycles: Sequence[Cycle]) -> int:
 class Engine:
     """Runs phases on a backend and keeps the RTL's canonical state for independent examples."""
 
-    def __init__(self, contract: Contract, backend: Backend, options: RunOptions | None = None,
-                 progress: Callable[[dict[str, Any]], None] | None = None) -> None:
+    def __init__(
+        self,
+        contract: Contract,
+        backend: Backend,
+        options: RunOptions | None = None,
+        progress: Callable[[dict[str, Any]], None] | None = None,
+    ) -> None:
         self.contract = contract
         self.backend = backend
         self.options = options or RunOptions()
@@ -174,11 +195,21 @@ class Engine:
         self.where: dict[str, Any] = {"phase": "start"}
         self.examples_run = 0
         # Where example time goes (for bench/): running cycles on the RTL, and the model + comparison.
-        self.timing: dict[str, float] = {"example_rtl": 0.0, "example_model": 0.0, "bulk_phase": 0.0,
-                                         "bulk_shrink": 0.0, "bulk_generate": 0.0, "bulk_decode": 0.0}
+        self.timing: dict[str, float] = {
+            "example_rtl": 0.0,
+            "example_model": 0.0,
+            "bulk_phase": 0.0,
+            "bulk_shrink": 0.0,
+            "bulk_generate": 0.0,
+            "bulk_decode": 0.0,
+        }
         self._pool: ThreadPoolExecutor | None = None  # set while bulk examples run
-        self.counts: dict[str, int] = {"bulk_examples": 0, "bulk_operations": 0, "bulk_cycles": 0,
-                                       "bulk_shrink_runs": 0}
+        self.counts: dict[str, int] = {
+            "bulk_examples": 0,
+            "bulk_operations": 0,
+            "bulk_cycles": 0,
+            "bulk_shrink_runs": 0,
+        }
 
     # -- running cycles --------------------------------------------------------------------
 
@@ -238,7 +269,7 @@ class Engine:
         t1 = time.perf_counter()
         self._dirty = seq.written_addresses(cycles)
         self.examples_run += 1
-        checked = check(c, "unknown", list(cycles), obs[len(pre):])
+        checked = check(c, "unknown", list(cycles), obs[len(pre) :])
         self.timing["example_rtl"] += t1 - t0
         self.timing["example_model"] += time.perf_counter() - t1
         return checked
@@ -274,8 +305,9 @@ class Engine:
         t1 = time.perf_counter()
         self._dirty = set(cols.written_addresses().tolist())
         self.examples_run += 1
-        checked = check_arrays(c, cols, value[len(pre):], defined[len(pre):], "unknown",
-                               model.result() if model is not None else None)
+        checked = check_arrays(
+            c, cols, value[len(pre) :], defined[len(pre) :], "unknown", model.result() if model is not None else None
+        )
         self.timing["example_rtl"] += t1 - t0
         self.timing["example_model"] += time.perf_counter() - t1
         return checked
@@ -286,6 +318,7 @@ class Engine:
             if key not in cache:
                 cache[key] = self.run_example(cycles)
             return not cache[key].ok
+
         return fails
 
     def minimise(self, cycles: Sequence[Cycle]) -> CheckedTrace:
@@ -309,7 +342,7 @@ class Engine:
         fails = self._fails(cache)
         w = 1
         while w <= min(failing + 1, _WINDOW_MAX):
-            window = list(recent[failing - w + 1:failing + 1])
+            window = list(recent[failing - w + 1 : failing + 1])
             if fails(window):
                 return self.minimise(window)
             if w == failing + 1:
@@ -337,8 +370,12 @@ class Engine:
         k = checked.first_mismatch
         assert k is not None
         failure = self._shrink_phase_failure("smoke", cycles, k, checked, before + (["reset"] if c.reset else []))
-        return (PhaseResult("smoke", "fail", len(cycles), ops, time.perf_counter() - t0,
-                            f"read data differs at smoke cycle {k}"), failure)
+        return (
+            PhaseResult(
+                "smoke", "fail", len(cycles), ops, time.perf_counter() - t0, f"read data differs at smoke cycle {k}"
+            ),
+            failure,
+        )
 
     def _plans(self) -> list[seq.SweepPlan]:
         return seq.sweep_plans(self.contract, self.options.march, self.options.backgrounds)
@@ -351,8 +388,11 @@ class Engine:
         if not plans:
             return PhaseResult("sweep", "skipped", detail="no port both writes and reads"), None
         if total > self.options.sweep_max_ops:
-            return PhaseResult("sweep", "skipped", detail=(
-                f"{total} operations exceed the sweep budget of {self.options.sweep_max_ops}")), None
+            return PhaseResult(
+                "sweep",
+                "skipped",
+                detail=(f"{total} operations exceed the sweep budget of {self.options.sweep_max_ops}"),
+            ), None
         cycles_run = 0
         ops = 0
         for k, plan in enumerate(plans):
@@ -370,49 +410,75 @@ class Engine:
                 checked = compare(model.run(segment.cycles), obs, segment.cycles, "unknown")
                 cycles_run += len(segment)
                 ops += _ops(segment.cycles)
-                recent = (recent + list(segment.cycles))[-(_WINDOW_MAX + len(segment)):]
+                recent = (recent + list(segment.cycles))[-(_WINDOW_MAX + len(segment)) :]
                 if checked.ok:
                     continue
                 j = checked.first_mismatch
                 assert j is not None
                 base = cycles_run - len(segment)
                 failure = self._shrink_sweep_failure(
-                    plan, recent, len(recent) - len(segment) + j, before + (["reset"] if c.reset else []),
-                    base + j, [replace(r, cycle=base + r.cycle) for r in checked.rows[max(0, j - 63):j + 1]])
-                return (PhaseResult("sweep", "fail", cycles_run, ops, time.perf_counter() - t0,
-                                    f"{plan.describe(c)}: read data differs at sweep cycle {base + j}"),
-                        failure)
+                    plan,
+                    recent,
+                    len(recent) - len(segment) + j,
+                    before + (["reset"] if c.reset else []),
+                    base + j,
+                    [replace(r, cycle=base + r.cycle) for r in checked.rows[max(0, j - 63) : j + 1]],
+                )
+                return (
+                    PhaseResult(
+                        "sweep",
+                        "fail",
+                        cycles_run,
+                        ops,
+                        time.perf_counter() - t0,
+                        f"{plan.describe(c)}: read data differs at sweep cycle {base + j}",
+                    ),
+                    failure,
+                )
             self.history.append(f"sweep:{k}")
         detail = "; ".join(p.describe(c) for p in plans)
         return PhaseResult("sweep", "pass", cycles_run, ops, time.perf_counter() - t0, detail), None
 
-    def _shrink_phase_failure(self, phase: str, cycles: list[Cycle], k: int, checked: CheckedTrace,
-                              preamble: list[str]) -> Failure:
+    def _shrink_phase_failure(
+        self, phase: str, cycles: list[Cycle], k: int, checked: CheckedTrace, preamble: list[str]
+    ) -> Failure:
         self.where = {"phase": phase, "what": "shrinking the failure"}
-        small = self.shrink_window(cycles[:k + 1], k)
+        small = self.shrink_window(cycles[: k + 1], k)
         if small is not None and not small.ok:
-            return Failure(phase, EXAMPLE_PREAMBLE, small,
-                           f"shrunk from a failure at cycle {k} of the {phase} phase")
-        return Failure(phase, tuple(preamble), CheckedTrace(checked.start, checked.rows[:k + 1]),
-                       f"the {phase} sequence up to its first difference (it does not fail as a short "
-                       "independent example)")
+            return Failure(phase, EXAMPLE_PREAMBLE, small, f"shrunk from a failure at cycle {k} of the {phase} phase")
+        return Failure(
+            phase,
+            tuple(preamble),
+            CheckedTrace(checked.start, checked.rows[: k + 1]),
+            f"the {phase} sequence up to its first difference (it does not fail as a short independent example)",
+        )
 
-    def _shrink_sweep_failure(self, plan: seq.SweepPlan, recent: list[Cycle], failing: int,
-                              preamble: list[str], at: int, rows: list[CycleRow]) -> Failure:
+    def _shrink_sweep_failure(
+        self, plan: seq.SweepPlan, recent: list[Cycle], failing: int, preamble: list[str], at: int, rows: list[CycleRow]
+    ) -> Failure:
         self.where = {"phase": "sweep", "what": "shrinking the failure"}
         small = self.shrink_window(recent, failing)
         if small is not None and not small.ok:
-            return Failure("sweep", EXAMPLE_PREAMBLE, small,
-                           f"shrunk from a failure at cycle {at} of {plan.describe(self.contract)}")
+            return Failure(
+                "sweep",
+                EXAMPLE_PREAMBLE,
+                small,
+                f"shrunk from a failure at cycle {at} of {plan.describe(self.contract)}",
+            )
         # Not reproducible as a short example: the sweep from its start is the trace (a replay reruns it).
         prefix: list[Cycle] = []
         for s in seq.sweep_segments(self.contract, plan, self.backend.batch_limit):
             prefix.extend(s.cycles)
             if len(prefix) > at:
                 break
-        return Failure("sweep", tuple(preamble), CheckedTrace("unknown", tuple(rows)),
-                       f"the sweep ({plan.describe(self.contract)}) up to its first difference, at cycle {at}; "
-                       "it does not fail as a short independent example", Trace(tuple(prefix[:at + 1])))
+        return Failure(
+            "sweep",
+            tuple(preamble),
+            CheckedTrace("unknown", tuple(rows)),
+            f"the sweep ({plan.describe(self.contract)}) up to its first difference, at cycle {at}; "
+            "it does not fail as a short independent example",
+            Trace(tuple(prefix[: at + 1])),
+        )
 
     def _hypothesis_settings(self, n: int, seed: int) -> Callable[[Callable[..., None]], Callable[[], None]]:
         from hypothesis import HealthCheck, Phase, Verbosity, settings
@@ -420,9 +486,15 @@ class Engine:
 
         def wrap(test: Callable[..., None]) -> Callable[[], None]:
             test = settings(
-                max_examples=n, deadline=None, database=None, derandomize=False, print_blob=False,
-                suppress_health_check=list(HealthCheck), report_multiple_bugs=False,
-                phases=[Phase.explicit, Phase.generate, Phase.shrink], verbosity=Verbosity.quiet,
+                max_examples=n,
+                deadline=None,
+                database=None,
+                derandomize=False,
+                print_blob=False,
+                suppress_health_check=list(HealthCheck),
+                report_multiple_bugs=False,
+                phases=[Phase.explicit, Phase.generate, Phase.shrink],
+                verbosity=Verbosity.quiet,
             )(test)
             return hyp_seed(seed)(test)  # type: ignore[no-any-return]
 
@@ -432,10 +504,11 @@ class Engine:
         t0 = time.perf_counter()
         n, nb = self.options.examples, self.options.bulk_examples
         if n < 1 and nb < 1:
-            return PhaseResult("property", "skipped",
-                               detail="no examples asked for (--examples 0 --bulk-examples 0)"), None
+            return PhaseResult(
+                "property", "skipped", detail="no examples asked for (--examples 0 --bulk-examples 0)"
+            ), None
         stats = {"examples": 0, "ops": 0, "cycles": 0}
-        found, note = (self._short_examples(stats) if n > 0 else (None, ""))
+        found, note = self._short_examples(stats) if n > 0 else (None, "")
         if found is None and nb > 0:
             found, note = self._bulk_examples(stats)
         seconds = time.perf_counter() - t0
@@ -444,8 +517,7 @@ class Engine:
         if n > 0:
             parts.append(f"{min(stats['examples'], n)} examples")
         if nb > 0:
-            parts.append(f"{self.counts['bulk_examples']} bulk examples "
-                         f"({self.counts['bulk_operations']} operations)")
+            parts.append(f"{self.counts['bulk_examples']} bulk examples ({self.counts['bulk_operations']} operations)")
         detail = " + ".join(parts)
         if found is None:
             return PhaseResult("property", "pass", cycles_run, ops, seconds, detail), None
@@ -454,26 +526,39 @@ class Engine:
         assert k is not None
         if len(found.rows) > 64:
             # A long (bulk) trace: the shortest window ending at the difference that fails on its own.
-            cycles = found.trace.cycles[:k + 1]
+            cycles = found.trace.cycles[: k + 1]
             small = self.shrink_window(cycles, k)
             if small is None or small.ok:
                 # Only the example's long history shows it: report the example up to the difference
                 # (a replay reruns it from the canonical state), as a sweep failure is reported.
-                note = note or (f"the bulk example up to its first difference, at cycle {k}; it does not fail "
-                                f"as a window of up to {_WINDOW_MAX} cycles on its own")
-                return (PhaseResult("property", "fail", cycles_run, ops, time.perf_counter() - t0,
-                                    f"{detail} (including shrinking)"),
-                        Failure("property", EXAMPLE_PREAMBLE, CheckedTrace("unknown", found.rows[max(0, k - 63):k + 1]),
-                                note, Trace(tuple(cycles))))
+                note = note or (
+                    f"the bulk example up to its first difference, at cycle {k}; it does not fail "
+                    f"as a window of up to {_WINDOW_MAX} cycles on its own"
+                )
+                return (
+                    PhaseResult(
+                        "property", "fail", cycles_run, ops, time.perf_counter() - t0, f"{detail} (including shrinking)"
+                    ),
+                    Failure(
+                        "property",
+                        EXAMPLE_PREAMBLE,
+                        CheckedTrace("unknown", found.rows[max(0, k - 63) : k + 1]),
+                        note,
+                        Trace(tuple(cycles)),
+                    ),
+                )
             final = small
         else:
             final = self.minimise(found.trace.cycles)
         if final.ok:  # pragma: no cover - the canonical state did not reproduce it
             final = found
             note = note or "the failure did not reproduce from the canonical state"
-        return (PhaseResult("property", "fail", cycles_run, ops, time.perf_counter() - t0,
-                            f"{detail} (including shrinking)"),
-                Failure("property", EXAMPLE_PREAMBLE, final, note))
+        return (
+            PhaseResult(
+                "property", "fail", cycles_run, ops, time.perf_counter() - t0, f"{detail} (including shrinking)"
+            ),
+            Failure("property", EXAMPLE_PREAMBLE, final, note),
+        )
 
     def _short_examples(self, stats: dict[str, int]) -> tuple[CheckedTrace | None, str]:
         """Hypothesis examples of a handful of operations: readable minimal traces for most bugs."""
@@ -495,7 +580,8 @@ class Engine:
                 raise _Mismatch(checked)
 
         test = self._hypothesis_settings(n, self.options.seed)(
-            given(traces(self.contract, max_blocks=self.options.max_blocks))(prop))
+            given(traces(self.contract, max_blocks=self.options.max_blocks))(prop)
+        )
         try:
             test()
         except _Mismatch as exc:
@@ -504,8 +590,9 @@ class Engine:
             inner = [e for e in getattr(exc, "exceptions", ()) if isinstance(e, _Mismatch)]
             if not inner:
                 raise
-            return inner[0].checked, ("Hypothesis saw this example pass once and fail once (state left by "
-                                      "earlier examples)")
+            return inner[0].checked, (
+                "Hypothesis saw this example pass once and fail once (state left by earlier examples)"
+            )
         return None, ""
 
     def _bulk_examples(self, stats: dict[str, int]) -> tuple[CheckedTrace | None, str]:
@@ -548,8 +635,10 @@ class Engine:
                 raise _BulkMismatch(known)
 
         def _run(spec: Any) -> ArrayCheck | None:
-            if shrink and (self.counts["bulk_shrink_runs"] >= self.options.bulk_shrink_runs
-                           or time.perf_counter() - shrink["t0"] > BULK_SHRINK_SECONDS):
+            if shrink and (
+                self.counts["bulk_shrink_runs"] >= self.options.bulk_shrink_runs
+                or time.perf_counter() - shrink["t0"] > BULK_SHRINK_SECONDS
+            ):
                 raise _ShrinkBudgetSpent
             t_in = time.perf_counter()
             cols = decode(c, spec)
@@ -580,8 +669,7 @@ class Engine:
                 best[:] = [checked]
             return checked
 
-        test = self._hypothesis_settings(nb, (self.options.seed + 1) & ((1 << 64) - 1))(
-            given(bulk_specs(c))(prop))
+        test = self._hypothesis_settings(nb, (self.options.seed + 1) & ((1 << 64) - 1))(given(bulk_specs(c))(prop))
         found: ArrayCheck | None = None
         note = ""
         try:
@@ -623,10 +711,17 @@ class Engine:
                 continue
             phase_result, failure = getattr(self, name)()
             results.append(phase_result)
-        return RunResult(phases=tuple(results), failure=failure, seed=self.options.seed,
-                         extra={"cycles_simulated": self.cycles, "examples_run": self.examples_run,
-                                **self.counts,
-                                **{f"seconds_{k}": round(v, 4) for k, v in self.timing.items()}})
+        return RunResult(
+            phases=tuple(results),
+            failure=failure,
+            seed=self.options.seed,
+            extra={
+                "cycles_simulated": self.cycles,
+                "examples_run": self.examples_run,
+                **self.counts,
+                **{f"seconds_{k}": round(v, 4) for k, v in self.timing.items()},
+            },
+        )
 
     # -- replay --------------------------------------------------------------------------------
 

@@ -82,8 +82,12 @@ class Watch:
 
     def run(self, cmd: Sequence[str], cwd: Path, env: dict[str, str], stdout: IO[str] | None) -> None:
         proc = subprocess.Popen(
-            list(cmd), cwd=cwd, env=env, stdout=stdout if stdout is not None else subprocess.DEVNULL,
-            stderr=subprocess.STDOUT, start_new_session=True,
+            list(cmd),
+            cwd=cwd,
+            env=env,
+            stdout=stdout if stdout is not None else subprocess.DEVNULL,
+            stderr=subprocess.STDOUT,
+            start_new_session=True,
         )
         last_change = time.monotonic()
         try:
@@ -99,8 +103,7 @@ class Watch:
                     if rc != 0:
                         raise CommandFailed(rc)
                     return
-                limit = self.stall_seconds if self.last is not None else max(self.stall_seconds,
-                                                                             self.startup_seconds)
+                limit = self.stall_seconds if self.last is not None else max(self.stall_seconds, self.startup_seconds)
                 if time.monotonic() - last_change > limit:
                     _kill(proc)
                     raise Stalled(limit, self.last)
@@ -144,8 +147,12 @@ class QuietIcarus(Icarus):  # type: ignore[misc]
                 self.watch.run(cmd, Path(cwd), self.env, stdout)
                 continue
             result = subprocess.run(
-                list(cmd), cwd=cwd, env=self.env, check=False,
-                stdout=stdout if stdout is not None else subprocess.DEVNULL, stderr=subprocess.STDOUT,
+                list(cmd),
+                cwd=cwd,
+                env=self.env,
+                check=False,
+                stdout=stdout if stdout is not None else subprocess.DEVNULL,
+                stderr=subprocess.STDOUT,
             )
             if result.returncode != 0:
                 raise CommandFailed(result.returncode)

@@ -32,8 +32,9 @@ def _picklable(contract: Contract) -> Contract:
     rtl = contract.rtl
     if rtl is None:
         return contract
-    return dataclasses.replace(contract, rtl=dataclasses.replace(
-        rtl, parameters=dict(rtl.parameters), defines=dict(rtl.defines)))
+    return dataclasses.replace(
+        contract, rtl=dataclasses.replace(rtl, parameters=dict(rtl.parameters), defines=dict(rtl.defines))
+    )
 
 
 def _exchange_dir(fallback: Path) -> Path:
@@ -54,8 +55,9 @@ def _log_tail(log: Path, n: int = 8) -> str:
     if not log.is_file():
         return "  (no simulator log)"
     # cocotb's start-up chatter (INFO lines) says nothing about why a run ended.
-    lines = [ln for ln in log.read_text(encoding="utf-8", errors="replace").splitlines()
-             if ln.strip() and " INFO " not in ln]
+    lines = [
+        ln for ln in log.read_text(encoding="utf-8", errors="replace").splitlines() if ln.strip() and " INFO " not in ln
+    ]
     return "\n".join(f"  {ln}" for ln in lines[-n:]) or "  (empty simulator log)"
 
 
@@ -70,14 +72,22 @@ def _where(last: Mapping[str, Any] | None) -> str:
     text += ")" if what else ""
     if "batch" in last:
         start = int(last.get("cycle", 0))
-        text += (f", in a batch of {last['batch']} cycles starting at cycle {start} "
-                 f"(simulated time {start * PERIOD_NS} ns onwards)")
+        text += (
+            f", in a batch of {last['batch']} cycles starting at cycle {start} "
+            f"(simulated time {start * PERIOD_NS} ns onwards)"
+        )
     return text
 
 
-def run_job(build: Build, job: Mapping[str, Any], workdir: Path, *,
-            stall_seconds: float = DEFAULT_STALL_SECONDS, on_progress: ProgressCallback | None = None,
-            vcd: bool = False) -> RunResult:
+def run_job(
+    build: Build,
+    job: Mapping[str, Any],
+    workdir: Path,
+    *,
+    stall_seconds: float = DEFAULT_STALL_SECONDS,
+    on_progress: ProgressCallback | None = None,
+    vcd: bool = False,
+) -> RunResult:
     """Run ``job`` (mode, options, failure to replay) in a fresh simulator; returns its result."""
     workdir = Path(workdir).resolve()
     workdir.mkdir(parents=True, exist_ok=True)
@@ -88,8 +98,13 @@ def run_job(build: Build, job: Mapping[str, Any], workdir: Path, *,
     progress_file = workdir / "progress.jsonl"
     for f in (result_file, progress_file):
         f.unlink(missing_ok=True)
-    full = {**job, "contract_pickle": str(pickle_file), "widths": dict(build.pins.widths),
-            "result_file": str(result_file), "progress_file": str(progress_file)}
+    full = {
+        **job,
+        "contract_pickle": str(pickle_file),
+        "widths": dict(build.pins.widths),
+        "result_file": str(result_file),
+        "progress_file": str(progress_file),
+    }
     job_file = workdir / "job.json"
     job_file.write_text(json.dumps(full), encoding="utf-8")
 

@@ -35,8 +35,7 @@ class Observed:
     def render(self, width: int) -> str:
         """Binary, MSB first, with 'x' for X/Z bits."""
         return "".join(
-            ("1" if self.value >> b & 1 else "0") if self.defined >> b & 1 else "x"
-            for b in range(width - 1, -1, -1)
+            ("1" if self.value >> b & 1 else "0") if self.defined >> b & 1 else "x" for b in range(width - 1, -1, -1)
         )
 
 
@@ -67,8 +66,11 @@ class PortFields:
     read_data: Field | None = None
 
     def inputs(self) -> tuple[Field, ...]:
-        return tuple(f for f in (self.enable, self.write_enable, self.address, self.write_data,
-                                 self.lane_enable) if f is not None)
+        return tuple(
+            f
+            for f in (self.enable, self.write_enable, self.address, self.write_data, self.lane_enable)
+            if f is not None
+        )
 
 
 @dataclass(frozen=True)
@@ -191,7 +193,7 @@ class Layout:
             b = _limb_bits(value, f.width)
             if f.active_low:
                 b ^= 1
-            bits[:, f.offset:f.offset + f.width] = b
+            bits[:, f.offset : f.offset + f.width] = b
 
         if self.reset is not None:
             put(self.reset, np.broadcast_to(np.asarray(reset, dtype=bool), (n,)))
@@ -237,7 +239,7 @@ class Layout:
             if f is None or count == 0:
                 continue
             hi = self.cap_width - f.offset
-            cols = arr[:, hi - f.width:hi][:, ::-1]  # least significant bit first
+            cols = arr[:, hi - f.width : hi][:, ::-1]  # least significant bit first
             ones = cols == ord("1")
             value[:, i] = _pack_limbs(ones, limbs)
             defined[:, i] = _pack_limbs(ones | (cols == ord("0")), limbs)
@@ -251,11 +253,15 @@ class Layout:
         blocks, rest = divmod(count, 16)
         block = _ICARUS_COMMENT + 16 * width
         if count and blocks < 1 << 28 and arr.size == blocks * block + (rest and _ICARUS_COMMENT + rest * width):
-            full = arr[:blocks * block].reshape(blocks, block)
-            tail = arr[blocks * block:]
-            rows = np.concatenate([full[:, _ICARUS_COMMENT:].reshape(-1, width),
-                                   tail[_ICARUS_COMMENT:].reshape(-1, width)]) if rest else \
-                full[:, _ICARUS_COMMENT:].reshape(-1, width)
+            full = arr[: blocks * block].reshape(blocks, block)
+            tail = arr[blocks * block :]
+            rows = (
+                np.concatenate(
+                    [full[:, _ICARUS_COMMENT:].reshape(-1, width), tail[_ICARUS_COMMENT:].reshape(-1, width)]
+                )
+                if rest
+                else full[:, _ICARUS_COMMENT:].reshape(-1, width)
+            )
             heads = np.concatenate([full[:, 0], tail[:1]]) if rest else full[:, 0]
             if np.all(rows[:, -1] == ord("\n")) and np.all(heads == ord("/")):
                 return rows[:, :-1]
@@ -275,7 +281,6 @@ class Layout:
             raise ValueError(f"capture file has {len(lines)} lines of the wrong shape; expected {count}")
         return np.frombuffer(b"".join(lines), dtype=np.uint8).reshape(count, self.cap_width)
 
-
     def decode(self, data: bytes, count: int) -> list[tuple[Observed | None, ...]]:
         """Parse ``$writememb`` output: per cycle, per port, the observed read data (None: no read data)."""
         body = _COMMENT.sub(b"", data)
@@ -292,7 +297,7 @@ class Layout:
                 per_port.append(None)
                 continue
             hi = self.cap_width - f.offset
-            cols = arr[:, hi - f.width:hi]  # MSB first
+            cols = arr[:, hi - f.width : hi]  # MSB first
             ones = _to_ints(cols == ord("1"))
             defined = _to_ints((cols == ord("0")) | (cols == ord("1")))
             per_port.append([Observed(v, d) for v, d in zip(ones, defined, strict=True)])

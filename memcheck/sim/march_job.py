@@ -57,8 +57,7 @@ class MarchJob:
     vectorised: bool = True  # False: memcheck.model.Model steps through every cycle (slower; same answers)
 
 
-def march_pieces(contract: Contract, stream: Any, job: MarchJob,
-                  written: np.ndarray) -> Any:
+def march_pieces(contract: Contract, stream: Any, job: MarchJob, written: np.ndarray) -> Any:
     """Yield (columns, read due cycles, expected limbs, read op index) per stream item; ``written``
     (per word) is updated as writes go by, so a read is March-checked only after its word was written."""
     from memcheck.march.expand import OP_WRITE, Pause
@@ -234,23 +233,26 @@ def run_march_job(engine: Engine, stream: Any, job: MarchJob) -> dict[str, Any]:
             march_reads += len(d_due)
             keep = min(job.window, n)
             prev = tail
-            cycles = cols[n - keep:].to_cycles()
-            exp = expected_rows(ev_all[n - keep:], ek_all[n - keep:])
+            cycles = cols[n - keep :].to_cycles()
+            exp = expected_rows(ev_all[n - keep :], ek_all[n - keep :])
             if prev is not None and keep < job.window:
                 more = job.window - keep
-                tail = (prev[0][-more:] + cycles, prev[1][-more:] + exp,
-                        np.concatenate([prev[2][-more:], value[n - keep:]]),
-                        np.concatenate([prev[3][-more:], defined[n - keep:]]))
+                tail = (
+                    prev[0][-more:] + cycles,
+                    prev[1][-more:] + exp,
+                    np.concatenate([prev[2][-more:], value[n - keep :]]),
+                    np.concatenate([prev[3][-more:], defined[n - keep :]]),
+                )
             else:
-                tail = (cycles, exp, value[n - keep:], defined[n - keep:])
+                tail = (cycles, exp, value[n - keep :], defined[n - keep :])
             done += n
             return None
         k = min(x for x in (model_first, march_first) if x is not None)
         # The window: the last `window` cycles up to k, from the previous batches' tail and this one.
         lo = max(0, k - job.window + 1)
-        w_cycles = cols[lo:k + 1].to_cycles()
-        w_exp = expected_rows(ev_all[lo:k + 1], ek_all[lo:k + 1])
-        w_val, w_def = value[lo:k + 1], defined[lo:k + 1]
+        w_cycles = cols[lo : k + 1].to_cycles()
+        w_exp = expected_rows(ev_all[lo : k + 1], ek_all[lo : k + 1])
+        w_val, w_def = value[lo : k + 1], defined[lo : k + 1]
         if tail is not None and len(w_cycles) < job.window:
             more = min(job.window - len(w_cycles), len(tail[0]))
             if more:
@@ -265,8 +267,11 @@ def run_march_job(engine: Engine, stream: Any, job: MarchJob) -> dict[str, Any]:
         march = None
         if len(at):
             j = int(at[0])
-            march = {"expected": hex(limbs_to_ints(d_exp[j:j + 1])[0]),
-                     "diff": hex(limbs_to_ints(mdiff[j:j + 1])[0]), "operation": int(d_op[j])}
+            march = {
+                "expected": hex(limbs_to_ints(d_exp[j : j + 1])[0]),
+                "diff": hex(limbs_to_ints(mdiff[j : j + 1])[0]),
+                "operation": int(d_op[j]),
+            }
         march_reads += int(np.count_nonzero(d_due <= k))
         done += k + 1
         return {"cycle": done - 1, "window": CheckedTrace(job.start, rows).to_json(), "march": march}

@@ -135,8 +135,10 @@ def choose_ports(contract: Contract, spec: str | None = None) -> tuple[int, int]
         readers = [i for i, p in enumerate(ports) if p.can_read]
         if not writers or not readers:
             lack = "writes" if not writers else "reads"
-            raise InvalidOperation(f"a March test needs a port that writes and one that reads, but no port "
-                                   f"of this contract {lack}; its ports are: {names}.")
+            raise InvalidOperation(
+                f"a March test needs a port that writes and one that reads, but no port "
+                f"of this contract {lack}; its ports are: {names}."
+            )
         return writers[0], readers[0]
     parts = [s.strip() for s in spec.split(",")]
     if len(parts) == 1:
@@ -146,17 +148,16 @@ def choose_ports(contract: Contract, spec: str | None = None) -> tuple[int, int]
             other = "write" if p.can_read else "read"
             raise InvalidOperation(
                 f"port {p.name!r} is a {p.role} port and cannot {other}, but a March test both writes and "
-                f"reads; name a writing and a reading port as --port WRITER,READER (ports: {names}).")
+                f"reads; name a writing and a reading port as --port WRITER,READER (ports: {names})."
+            )
         return i, i
     if len(parts) != 2 or not all(parts):
         raise InvalidOperation(f"--port takes NAME or WRITER,READER, not {spec!r} (ports: {names}).")
     w, r = find(parts[0]), find(parts[1])
     if not ports[w].can_write:
-        raise InvalidOperation(f"port {ports[w].name!r} is a {ports[w].role} port and cannot write "
-                               f"(ports: {names}).")
+        raise InvalidOperation(f"port {ports[w].name!r} is a {ports[w].role} port and cannot write (ports: {names}).")
     if not ports[r].can_read:
-        raise InvalidOperation(f"port {ports[r].name!r} is a {ports[r].role} port and cannot read "
-                               f"(ports: {names}).")
+        raise InvalidOperation(f"port {ports[r].name!r} is a {ports[r].role} port and cannot read (ports: {names}).")
     return w, r
 
 
@@ -242,10 +243,22 @@ class MarchProgram:
                 i = index - ch.start
                 addr = int(ch.address[i])
                 if ch.op[i] == OP_WRITE:
-                    return MarchStep(index, ch.element, int(ch.step[i]), ch.background,
-                                     PortOp("write", addr, limbs_to_int(ch.data[i])), None)
-                return MarchStep(index, ch.element, int(ch.step[i]), ch.background, PortOp("read", addr),
-                                 limbs_to_int(ch.expected[i]))
+                    return MarchStep(
+                        index,
+                        ch.element,
+                        int(ch.step[i]),
+                        ch.background,
+                        PortOp("write", addr, limbs_to_int(ch.data[i])),
+                        None,
+                    )
+                return MarchStep(
+                    index,
+                    ch.element,
+                    int(ch.step[i]),
+                    ch.background,
+                    PortOp("read", addr),
+                    limbs_to_int(ch.expected[i]),
+                )
         raise IndexError(index)
 
     def pause_at(self, cycle: int) -> PauseSpan | None:
@@ -264,13 +277,15 @@ class MarchProgram:
         return k if k >= 0 else None
 
 
-def plan_cycles(contract: Contract, stream: MarchStream, writer: int, reader: int,
-                pause_cycles: int = DEFAULT_PAUSE_CYCLES) -> MarchProgram:
+def plan_cycles(
+    contract: Contract, stream: MarchStream, writer: int, reader: int, pause_cycles: int = DEFAULT_PAUSE_CYCLES
+) -> MarchProgram:
     """Lay ``stream`` out as cycles: one operation per cycle, back to back (see module doc)."""
     m = contract.memory
     if stream.words != m.words or stream.width != m.width:
-        raise NotationError(f"the stream is for {stream.words} x {stream.width} but the contract's memory is "
-                            f"{m.words} x {m.width}")
+        raise NotationError(
+            f"the stream is for {stream.words} x {stream.width} but the contract's memory is {m.words} x {m.width}"
+        )
     quiet = drain_cycle(contract)
     cycles: list[Cycle] = []
     n = stream.total_ops
@@ -288,7 +303,7 @@ def plan_cycles(contract: Contract, stream: MarchStream, writer: int, reader: in
             continue
         base = len(cycles)
         k = len(item)
-        op_cycle[item.start:item.start + k] = np.arange(base, base + k)
+        op_cycle[item.start : item.start + k] = np.arange(base, base + k)
         for i in range(k):
             cyc = list(quiet)
             addr = int(item.address[i])
@@ -304,19 +319,31 @@ def plan_cycles(contract: Contract, stream: MarchStream, writer: int, reader: in
     cycles.extend(quiet for _ in range(m.read_latency))
     cycle_op = np.full(len(cycles), -1, dtype=np.int64)
     cycle_op[op_cycle] = np.arange(n, dtype=np.int64)
-    return MarchProgram(stream, tuple(cycles), writer, reader, pause_cycles, op_cycle, cycle_op,
-                        np.array(read_ops, dtype=np.int64), tuple(read_expected),
-                        np.array(read_checked, dtype=bool), tuple(pauses))
+    return MarchProgram(
+        stream,
+        tuple(cycles),
+        writer,
+        reader,
+        pause_cycles,
+        op_cycle,
+        cycle_op,
+        np.array(read_ops, dtype=np.int64),
+        tuple(read_expected),
+        np.array(read_checked, dtype=bool),
+        tuple(pauses),
+    )
 
 
-def plan_light(contract: Contract, stream: MarchStream, writer: int, reader: int,
-               pause_cycles: int = DEFAULT_PAUSE_CYCLES) -> MarchProgram:
+def plan_light(
+    contract: Contract, stream: MarchStream, writer: int, reader: int, pause_cycles: int = DEFAULT_PAUSE_CYCLES
+) -> MarchProgram:
     """The layout of :func:`plan_cycles` without building it: pauses and sizes only (what a run and
     its report need), in memory that grows with the number of delay elements, not operations."""
     m = contract.memory
     if stream.words != m.words or stream.width != m.width:
-        raise NotationError(f"the stream is for {stream.words} x {stream.width} but the contract's memory is "
-                            f"{m.words} x {m.width}")
+        raise NotationError(
+            f"the stream is for {stream.words} x {stream.width} but the contract's memory is {m.words} x {m.width}"
+        )
     pauses = []
     quiet = 0
     for b in range(len(stream.backgrounds)):
@@ -326,9 +353,22 @@ def plan_light(contract: Contract, stream: MarchStream, writer: int, reader: int
                 pauses.append(PauseSpan(at, at + pause_cycles, Pause(e, b, el, stream.element_start(b, e))))
                 quiet += pause_cycles
     none = np.zeros(0, dtype=np.int64)
-    return MarchProgram(stream, (), writer, reader, pause_cycles, none, none, none, (), np.zeros(0, dtype=bool),
-                        tuple(pauses), light=True, light_cycles=stream.total_ops + quiet + m.read_latency,
-                        quiet=drain_cycle(contract))
+    return MarchProgram(
+        stream,
+        (),
+        writer,
+        reader,
+        pause_cycles,
+        none,
+        none,
+        none,
+        (),
+        np.zeros(0, dtype=bool),
+        tuple(pauses),
+        light=True,
+        light_cycles=stream.total_ops + quiet + m.read_latency,
+        quiet=drain_cycle(contract),
+    )
 
 
 # -- the first failure -------------------------------------------------------------------------
@@ -424,8 +464,9 @@ def _activity(program: MarchProgram, port: int, issued: int) -> tuple[Activity, 
     return "quiet", program.last_op_before(issued)
 
 
-def _describe(program: MarchProgram, contract: Contract, port: int, cycle: int, issued: int,
-              activity: Activity, op: int | None) -> tuple[MarchStep | None, str]:
+def _describe(
+    program: MarchProgram, contract: Contract, port: int, cycle: int, issued: int, activity: Activity, op: int | None
+) -> tuple[MarchStep | None, str]:
     stream = program.stream
     lat = contract.memory.read_latency
     pname = contract.ports[port].name
@@ -435,17 +476,24 @@ def _describe(program: MarchProgram, contract: Contract, port: int, cycle: int, 
     if activity == "read":
         return step, f"{where}; the read was issued at cycle {issued} on port {pname}{due}"
     if activity == "write":
-        return step, (f"{where}; port {pname} wrote at cycle {issued}: its read data in a cycle that writes "
-                      f"(read_during_write){due}")
+        return step, (
+            f"{where}; port {pname} wrote at cycle {issued}: its read data in a cycle that writes "
+            f"(read_during_write){due}"
+        )
     quiet_op = program.cycle_at(issued)[port] if 0 <= issued < program.total_cycles else None
-    doing = ("read address 0 (a port without an enable reads when the test does not use it)"
-             if quiet_op is not None and quiet_op.kind == "read" else "issued no read (idle_read_data)")
+    doing = (
+        "read address 0 (a port without an enable reads when the test does not use it)"
+        if quiet_op is not None and quiet_op.kind == "read"
+        else "issued no read (idle_read_data)"
+    )
     span = program.pause_at(issued)
     if span is not None:
         el = span.pause.element
-        text = (f"port {pname} {doing} at cycle {issued}, during the pause of element {el} "
-                f"{stream.test.elements[el].to_unicode()} ({program.pause_cycles} quiet cycles, "
-                f"background {stream.backgrounds[span.pause.background].name}){due}")
+        text = (
+            f"port {pname} {doing} at cycle {issued}, during the pause of element {el} "
+            f"{stream.test.elements[el].to_unicode()} ({program.pause_cycles} quiet cycles, "
+            f"background {stream.backgrounds[span.pause.background].name}){due}"
+        )
     elif issued < 0:
         text = f"port {pname} read data at cycle {cycle}, before the first operation"
     else:
@@ -496,12 +544,13 @@ def first_failure(contract: Contract, program: MarchProgram, checked: CheckedTra
             jr = int(np.searchsorted(program.read_ops, op))
             if jr < len(program.read_ops) and program.read_ops[jr] == op and program.read_checked[jr]:
                 march_expected = program.read_expected[jr]
-    window = CheckedTrace(checked.start, rows[max(0, cycle - WINDOW + 1):cycle + 1])
+    window = CheckedTrace(checked.start, rows[max(0, cycle - WINDOW + 1) : cycle + 1])
     return _make_failure(contract, program, window, march_expected, march_diff)
 
 
-def _make_failure(contract: Contract, program: MarchProgram, window: CheckedTrace, march_expected: int | None,
-                  march_diff: int) -> MarchFailure:
+def _make_failure(
+    contract: Contract, program: MarchProgram, window: CheckedTrace, march_expected: int | None, march_diff: int
+) -> MarchFailure:
     """Name the failure at the last row of ``window`` (the first failing cycle). ``march_expected`` is
     the March expectation of the read the reader's data answers there (None: none applies)."""
     row = window.rows[-1]
@@ -516,8 +565,20 @@ def _make_failure(contract: Contract, program: MarchProgram, window: CheckedTrac
     obs = row.observed[port]
     assert obs is not None
     shown = CheckedTrace(window.start if cycle < WINDOW else "unknown", window.rows[-WINDOW:])
-    return MarchFailure(cycle, contract.ports[port].name, issued, activity, step, text, march_expected,
-                        row.expected[port], obs, march_diff, row.diff[port], shown)
+    return MarchFailure(
+        cycle,
+        contract.ports[port].name,
+        issued,
+        activity,
+        step,
+        text,
+        march_expected,
+        row.expected[port],
+        obs,
+        march_diff,
+        row.diff[port],
+        shown,
+    )
 
 
 def failure_from_job(contract: Contract, program: MarchProgram, info: dict[str, Any]) -> MarchFailure | None:
@@ -528,8 +589,13 @@ def failure_from_job(contract: Contract, program: MarchProgram, info: dict[str, 
         return None
     window = CheckedTrace.from_json(f["window"])
     march = f.get("march")
-    return _make_failure(contract, program, window, None if march is None else int(march["expected"], 16),
-                         0 if march is None else int(march["diff"], 16))
+    return _make_failure(
+        contract,
+        program,
+        window,
+        None if march is None else int(march["expected"], 16),
+        0 if march is None else int(march["diff"], 16),
+    )
 
 
 # -- the run -------------------------------------------------------------------------------------
@@ -575,17 +641,22 @@ class MarchRunResult:
 
     @property
     def ports_text(self) -> str:
-        return f"port {self.writer}" if self.writer == self.reader else \
-            f"write port {self.writer}, read port {self.reader}"
+        return (
+            f"port {self.writer}"
+            if self.writer == self.reader
+            else f"write port {self.writer}, read port {self.reader}"
+        )
 
     def headline(self) -> str:
         m = self.contract.memory
         name = str(self.contract_path) if self.contract_path else "contract"
         order = self.order + (f" (seed {self.seed})" if self.seed is not None else "")
         lay = f", layout {self.layout[0]}x{self.layout[1]}" if self.layout else ""
-        return (f"{name}: {self.test_name} {self.test.to_unicode()}\n"
-                f"{m.words} words x {m.width} bits{lay}, order {order}, backgrounds {', '.join(self.backgrounds)}, "
-                f"{self.ports_text}; {self.operations} operations in {self.cycles} cycles")
+        return (
+            f"{name}: {self.test_name} {self.test.to_unicode()}\n"
+            f"{m.words} words x {m.width} bits{lay}, order {order}, backgrounds {', '.join(self.backgrounds)}, "
+            f"{self.ports_text}; {self.operations} operations in {self.cycles} cycles"
+        )
 
     def summary(self) -> str:
         """A few lines: what ran, the verdict and the first failing operation."""
@@ -610,8 +681,10 @@ class MarchRunResult:
             parts.append(render_failure(self.contract, f.window))
             files = []
             if self.replay_file is not None:
-                files.append(f"replay file (the run up to cycle {f.cycle}): {self.replay_file}; "
-                             f"re-run with: memcheck replay {self.replay_file}")
+                files.append(
+                    f"replay file (the run up to cycle {f.cycle}): {self.replay_file}; "
+                    f"re-run with: memcheck replay {self.replay_file}"
+                )
             if self.waveform_file is not None:
                 files.append(f"waveform: {self.waveform_file}")
             if files:
@@ -619,11 +692,15 @@ class MarchRunResult:
         if self.notes:
             parts.append("\n".join(f"note: {n}" for n in self.notes))
         if self.unchecked:
-            parts.append("Not checked, because the contract leaves them unknown:\n"
-                         + "\n".join(f"  - {u}" for u in self.unchecked))
+            parts.append(
+                "Not checked, because the contract leaves them unknown:\n"
+                + "\n".join(f"  - {u}" for u in self.unchecked)
+            )
         if self.unconnected_inputs:
-            parts.append("Inputs of the top module that the contract does not name were left unconnected: "
-                         + ", ".join(self.unconnected_inputs))
+            parts.append(
+                "Inputs of the top module that the contract does not name were left unconnected: "
+                + ", ".join(self.unconnected_inputs)
+            )
         parts.append(DISCLAIMER)
         return "\n\n".join(parts)
 
@@ -637,8 +714,12 @@ class MarchRunResult:
             "tool": "memcheck",
             "version": __version__,
             "contract": None if self.contract_path is None else str(self.contract_path),
-            "test": {"name": self.test_name, "notation": self.test.to_unicode(), "ascii": self.test.to_ascii(),
-                     "length": self.test.length},
+            "test": {
+                "name": self.test_name,
+                "notation": self.test.to_unicode(),
+                "ascii": self.test.to_ascii(),
+                "length": self.test.length,
+            },
             "words": m.words,
             "width": m.width,
             "layout": None if self.layout is None else list(self.layout),
@@ -692,9 +773,12 @@ def _value_lines(f: MarchFailure, width: int) -> str:
         out.append(f"  differing bits: {', '.join(map(str, bits[:32]))}" + (" ..." if len(bits) > 32 else ""))
     note = None
     if f.failed_checks == ("contract model",):
-        note = ("The March expectation holds here; the contract model does not." if f.march_expected is not None
-                else "Only the contract model judges this read data (it does not answer a March read of an "
-                     "address the test had already written).")
+        note = (
+            "The March expectation holds here; the contract model does not."
+            if f.march_expected is not None
+            else "Only the contract model judges this read data (it does not answer a March read of an "
+            "address the test had already written)."
+        )
     elif f.failed_checks == ("March expectation",):
         note = "The contract model accepts these bits (it does not promise them); the March expectation does not."
     return "\n".join(out + ([note] if note else []))
@@ -706,8 +790,9 @@ def _resolve_contract(contract: Contract | str | Path) -> tuple[Contract, Path |
     return load_contract(contract), Path(contract)
 
 
-def prepare(contract: Contract, test: MarchTest | str, opts: MarchRunOptions, *,
-            light: bool = False) -> tuple[MarchProgram, str, int | None]:
+def prepare(
+    contract: Contract, test: MarchTest | str, opts: MarchRunOptions, *, light: bool = False
+) -> tuple[MarchProgram, str, int | None]:
     """Check the request and lay the test out as cycles: (program, test name, seed used); ``light``:
     a :func:`plan_light` program (what a run in the simulator's March job needs).
 
@@ -723,8 +808,16 @@ def prepare(contract: Contract, test: MarchTest | str, opts: MarchRunOptions, *,
     seed = opts.seed
     if opts.order == "lfsr" and seed is None:
         seed = random.SystemRandom().randrange(1 << 32)
-    stream = expand(t, m.words, m.width, layout=opts.layout, order=opts.order, backgrounds=opts.backgrounds,
-                    any_order=opts.any_order, seed=seed if opts.order == "lfsr" else None)
+    stream = expand(
+        t,
+        m.words,
+        m.width,
+        layout=opts.layout,
+        order=opts.order,
+        backgrounds=opts.backgrounds,
+        any_order=opts.any_order,
+        seed=seed if opts.order == "lfsr" else None,
+    )
     try:
         from memcheck.faults.geometry import check_consistent
 
@@ -736,14 +829,21 @@ def prepare(contract: Contract, test: MarchTest | str, opts: MarchRunOptions, *,
             f"{t.name or 'the test'} is {stream.total_ops} operations here ({t.length} x {m.words} words x "
             f"{len(stream.backgrounds)} backgrounds), more than the limit of {opts.max_ops}; raise it with "
             "--max-ops (a safety limit on run time: RTL simulation runs some 10 to 100 thousand operations a "
-            "second) or use fewer backgrounds.")
+            "second) or use fewer backgrounds."
+        )
     plan = plan_light if light else plan_cycles
     program = plan(contract, stream, writer, reader, opts.pause_cycles)
     return program, t.name or "custom test", seed if opts.order == "lfsr" else None
 
 
-def run_march(contract: Contract | str | Path, test: MarchTest | str, options: MarchRunOptions | None = None,
-              *, on_progress: ProgressCallback | None = None, **overrides: Any) -> MarchRunResult:
+def run_march(
+    contract: Contract | str | Path,
+    test: MarchTest | str,
+    options: MarchRunOptions | None = None,
+    *,
+    on_progress: ProgressCallback | None = None,
+    **overrides: Any,
+) -> MarchRunResult:
     """Run ``test`` (library name, notation or MarchTest) alone on the contract's RTL under Icarus.
 
     Returns a :class:`MarchRunResult`: verdict "pass", or "fail" with ``failure`` naming the first
@@ -766,8 +866,11 @@ def run_march(contract: Contract | str | Path, test: MarchTest | str, options: M
     program, name, seed = prepare(c, test, opts, light=opts.sim_job == "march")
     base = default_out_dir(c, path)
     out = Path(opts.out_dir) if opts.out_dir is not None else base / "march"
-    cache = Path(opts.build_dir) if opts.build_dir is not None else (
-        out / "build" if opts.out_dir is not None else base / "build")
+    cache = (
+        Path(opts.build_dir)
+        if opts.build_dir is not None
+        else (out / "build" if opts.out_dir is not None else base / "build")
+    )
 
     b = build(c, cache)
     build_seconds = time.perf_counter() - t0
@@ -782,8 +885,10 @@ def run_march(contract: Contract | str | Path, test: MarchTest | str, options: M
     reproduced = None
     notes: list[str] = []
     if program.pauses:
-        notes.append(f"each delay element ran as {program.pause_cycles} quiet cycles; RTL simulation has no "
-                     "charge leakage, so this checks that the contents survive idle cycles, not retention")
+        notes.append(
+            f"each delay element ran as {program.pause_cycles} quiet cycles; RTL simulation has no "
+            "charge leakage, so this checks that the contents survive idle cycles, not retention"
+        )
     if failure is not None:
         from memcheck.sim.engine import RunOptions
         from memcheck.sim.launch import run_job
@@ -799,10 +904,14 @@ def run_march(contract: Contract | str | Path, test: MarchTest | str, options: M
             desc = f"{name} on RTL up to its first failing cycle ({k})"
             whole = Failure(_PHASE, preamble, CheckedTrace(start, ()), desc, prefix)
             work = out / "replay"
-            again = run_job(b, {"mode": "replay", "options": run_opts.to_json(), "failure": whole.to_json(),
-                                "dump": opts.waveform}, work,
-                            stall_seconds=opts.stall_seconds + _STALL_PER_CYCLE * (k + 1),
-                            on_progress=on_progress, vcd=opts.waveform)
+            again = run_job(
+                b,
+                {"mode": "replay", "options": run_opts.to_json(), "failure": whole.to_json(), "dump": opts.waveform},
+                work,
+                stall_seconds=opts.stall_seconds + _STALL_PER_CYCLE * (k + 1),
+                on_progress=on_progress,
+                vcd=opts.waveform,
+            )
             assert again.replayed is not None
             if failure.model_diff:
                 reproduced = again.replayed.signature() == failure.window.signature()
@@ -812,15 +921,19 @@ def run_march(contract: Contract | str | Path, test: MarchTest | str, options: M
 
                 replay_path = ReplayFile(path, recorded, seed or 0, file_digest(path)).write(out / "replay.json")
             if not failure.model_diff:
-                notes.append("the contract model accepts the failing read, so the replay file (which checks the "
-                             "contract model) shows no difference there")
+                notes.append(
+                    "the contract model accepts the failing read, so the replay file (which checks the "
+                    "contract model) shows no difference there"
+                )
             if opts.waveform and (work / WAVE_FILE).is_file():
                 wave = out / WAVE_FILE
                 with (work / WAVE_FILE).open("rb") as src, open_atomic(wave) as dst:
                     shutil.copyfileobj(src, dst)
         else:
-            notes.append(f"no replay file{' or waveform' if opts.waveform else ''}: the run up to the failure is "
-                         f"{k + 1} cycles (more than {REPLAY_MAX_CYCLES}); the report names the failing operation")
+            notes.append(
+                f"no replay file{' or waveform' if opts.waveform else ''}: the run up to the failure is "
+                f"{k + 1} cycles (more than {REPLAY_MAX_CYCLES}); the report names the failing operation"
+            )
     return MarchRunResult(
         verdict="fail" if failure is not None else "pass",
         contract=c,
@@ -850,9 +963,16 @@ def run_march(contract: Contract | str | Path, test: MarchTest | str, options: M
     )
 
 
-def _run_march_job(b: Build, c: Contract, program: MarchProgram, start: ModelStart, seed: int | None,
-                   work: Path, opts: MarchRunOptions, on_progress: ProgressCallback | None,
-                   ) -> tuple[MarchFailure | None, dict[str, object]]:
+def _run_march_job(
+    b: Build,
+    c: Contract,
+    program: MarchProgram,
+    start: ModelStart,
+    seed: int | None,
+    work: Path,
+    opts: MarchRunOptions,
+    on_progress: ProgressCallback | None,
+) -> tuple[MarchFailure | None, dict[str, object]]:
     """The stream runs and is checked inside the simulator, batch by batch; only counts and the first
     failure come back."""
     import pickle
@@ -864,20 +984,39 @@ def _run_march_job(b: Build, c: Contract, program: MarchProgram, start: ModelSta
     stream_file = work / "stream.pickle"
     with open_atomic(stream_file) as fh:
         pickle.dump(program.stream, fh)
-    spec = {"stream_pickle": str(stream_file.resolve()), "writer": program.writer, "reader": program.reader,
-            "pause_cycles": program.pause_cycles, "start": start, "window": WINDOW}
+    spec = {
+        "stream_pickle": str(stream_file.resolve()),
+        "writer": program.writer,
+        "reader": program.reader,
+        "pause_cycles": program.pause_cycles,
+        "start": start,
+        "window": WINDOW,
+    }
     stall = opts.stall_seconds + _STALL_PER_BATCH
-    res = run_job(b, {"mode": "march", "options": RunOptions(seed=seed or 0).to_json(), "march": spec}, work,
-                  stall_seconds=stall, on_progress=on_progress)
+    res = run_job(
+        b,
+        {"mode": "march", "options": RunOptions(seed=seed or 0).to_json(), "march": spec},
+        work,
+        stall_seconds=stall,
+        on_progress=on_progress,
+    )
     info = dict(res.extra.get("march", {}))
     extra = {k: v for k, v in res.extra.items() if k != "march"}
     extra.update({k: v for k, v in info.items() if k != "failure"})
     return failure_from_job(c, program, info), extra
 
 
-def _run_replay_job(b: Build, c: Contract, program: MarchProgram, start: ModelStart, preamble: tuple[str, ...],
-                    seed: int | None, work: Path, opts: MarchRunOptions, on_progress: ProgressCallback | None,
-                    ) -> tuple[MarchFailure | None, dict[str, object]]:
+def _run_replay_job(
+    b: Build,
+    c: Contract,
+    program: MarchProgram,
+    start: ModelStart,
+    preamble: tuple[str, ...],
+    seed: int | None,
+    work: Path,
+    opts: MarchRunOptions,
+    on_progress: ProgressCallback | None,
+) -> tuple[MarchFailure | None, dict[str, object]]:
     """The earlier way (``sim_job="replay"``): the replay job runs the whole program and sends every
     cycle's comparison back (about 3 KB per operation in each process); kept for comparison."""
     from memcheck.sim.engine import RunOptions
@@ -885,9 +1024,13 @@ def _run_replay_job(b: Build, c: Contract, program: MarchProgram, start: ModelSt
 
     stall = opts.stall_seconds + _STALL_PER_CYCLE * len(program.cycles)
     whole = Failure(_PHASE, preamble, CheckedTrace(start, ()), "March run", Trace(program.cycles))
-    res = run_job(b, {"mode": "replay", "options": RunOptions(seed=seed or 0).to_json(),
-                      "failure": whole.to_json(), "dump": False},
-                  work, stall_seconds=stall, on_progress=on_progress)
+    res = run_job(
+        b,
+        {"mode": "replay", "options": RunOptions(seed=seed or 0).to_json(), "failure": whole.to_json(), "dump": False},
+        work,
+        stall_seconds=stall,
+        on_progress=on_progress,
+    )
     assert res.replayed is not None
     return first_failure(c, program, res.replayed), dict(res.extra)
 
@@ -902,14 +1045,17 @@ def prefix_cycles(contract: Contract, program: MarchProgram, count: int) -> list
     parts: list[Cycle] = []
     written = np.zeros(contract.memory.words, dtype=bool)
     for cols, _, _, _ in march_pieces(contract, program.stream, job, written):
-        parts.extend(cols[:count - len(parts)].to_cycles())
+        parts.extend(cols[: count - len(parts)].to_cycles())
         if len(parts) >= count:
             break
     return parts
 
 
-def check_program(contract: Contract, program: MarchProgram, observed: Sequence[tuple[Observed | None, ...]],
-                  ) -> MarchFailure | None:
+def check_program(
+    contract: Contract,
+    program: MarchProgram,
+    observed: Sequence[tuple[Observed | None, ...]],
+) -> MarchFailure | None:
     """:func:`first_failure` for observations from anywhere (a Python stand-in of the RTL, a log):
     runs the model over the program from power-up, or right after reset, and compares."""
     start: ModelStart = "reset" if contract.reset is not None else "power-up"

@@ -99,13 +99,15 @@ def check_pins(contract: Contract, ports: Mapping[str, TopPort], top: str) -> Pi
     actual = "; ".join(p.describe() for p in ports.values()) or "(none)"
     widths: dict[str, int] = {}
     for pin, (direction, width, what) in expected_pins(contract).items():
-        want = f"{width} bit{'s' if width != 1 else ''}" if width is not None else (
-            f"at least {m.address_bits} bit{'s' if m.address_bits != 1 else ''} for {m.words} words")
+        want = (
+            f"{width} bit{'s' if width != 1 else ''}"
+            if width is not None
+            else (f"at least {m.address_bits} bit{'s' if m.address_bits != 1 else ''} for {m.words} words")
+        )
         port = ports.get(pin)
         if port is None:
             raise SimulationError(
-                f"the top module {top!r} has no pin {pin!r} ({what}, {direction}, {want}). "
-                f"Its ports are: {actual}."
+                f"the top module {top!r} has no pin {pin!r} ({what}, {direction}, {want}). Its ports are: {actual}."
             )
         if port.direction != direction and not (direction == "input" and port.direction == "inout"):
             raise SimulationError(

@@ -57,7 +57,7 @@ def read_replay(path: str | Path) -> ReplayFile:
     except (UnicodeDecodeError, ValueError) as exc:
         raise ReplayError(f"{p}: not a memcheck replay file (not JSON: {exc}).") from None
     if not isinstance(obj, dict) or obj.get("format") != FORMAT:
-        raise ReplayError(f"{p}: not a memcheck replay file (no \"format\": \"{FORMAT}\").")
+        raise ReplayError(f'{p}: not a memcheck replay file (no "format": "{FORMAT}").')
     if obj.get("version") != VERSION:
         raise ReplayError(f"{p}: replay file version {obj.get('version')!r}; this memcheck reads version {VERSION}.")
     try:

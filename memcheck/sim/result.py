@@ -28,13 +28,25 @@ class PhaseResult:
     detail: str = ""
 
     def to_json(self) -> dict[str, Any]:
-        return {"name": self.name, "verdict": self.verdict, "cycles": self.cycles,
-                "operations": self.operations, "seconds": round(self.seconds, 3), "detail": self.detail}
+        return {
+            "name": self.name,
+            "verdict": self.verdict,
+            "cycles": self.cycles,
+            "operations": self.operations,
+            "seconds": round(self.seconds, 3),
+            "detail": self.detail,
+        }
 
     @classmethod
     def from_json(cls, obj: dict[str, Any]) -> PhaseResult:
-        return cls(str(obj["name"]), obj["verdict"], int(obj.get("cycles", 0)), int(obj.get("operations", 0)),
-                   float(obj.get("seconds", 0.0)), str(obj.get("detail", "")))
+        return cls(
+            str(obj["name"]),
+            obj["verdict"],
+            int(obj.get("cycles", 0)),
+            int(obj.get("operations", 0)),
+            float(obj.get("seconds", 0.0)),
+            str(obj.get("detail", "")),
+        )
 
 
 @dataclass(frozen=True)
@@ -54,15 +66,24 @@ class Failure:
         return self.full_trace if self.full_trace is not None else self.checked.trace
 
     def to_json(self) -> dict[str, Any]:
-        return {"phase": self.phase, "preamble": list(self.preamble), "checked": self.checked.to_json(),
-                "note": self.note, "trace": None if self.full_trace is None else self.full_trace.to_json()}
+        return {
+            "phase": self.phase,
+            "preamble": list(self.preamble),
+            "checked": self.checked.to_json(),
+            "note": self.note,
+            "trace": None if self.full_trace is None else self.full_trace.to_json(),
+        }
 
     @classmethod
     def from_json(cls, obj: dict[str, Any]) -> Failure:
         full = obj.get("trace")
-        return cls(str(obj["phase"]), tuple(str(s) for s in obj.get("preamble", [])),
-                   CheckedTrace.from_json(obj["checked"]), str(obj.get("note", "")),
-                   None if full is None else Trace.from_json(full))
+        return cls(
+            str(obj["phase"]),
+            tuple(str(s) for s in obj.get("preamble", [])),
+            CheckedTrace.from_json(obj["checked"]),
+            str(obj.get("note", "")),
+            None if full is None else Trace.from_json(full),
+        )
 
 
 @dataclass(frozen=True)

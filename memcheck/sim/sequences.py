@@ -274,8 +274,7 @@ def sweep_segments(contract: Contract, plan: SweepPlan, chunk: int) -> Iterator[
     from memcheck.march import OP_WRITE, expand, limbs_to_int
 
     m = contract.memory
-    stream = expand(plan.algorithm, m.words, m.width, backgrounds=plan.backgrounds,
-                    chunk_ops=chunk)
+    stream = expand(plan.algorithm, m.words, m.width, backgrounds=plan.backgrounds, chunk_ops=chunk)
     q = quiet(contract)
     for ch in stream.chunks():
         cycles: list[Cycle] = []

@@ -20,7 +20,7 @@ def ddmin(items: Sequence[Cycle], fails: Callable[[list[Cycle]], bool], *, budge
     calls = 0
     while len(current) >= 2 and calls < budget:
         chunk = max(1, len(current) // n)
-        subsets = [current[i:i + chunk] for i in range(0, len(current), chunk)]
+        subsets = [current[i : i + chunk] for i in range(0, len(current), chunk)]
         reduced = False
         for i in range(len(subsets)):
             complement = [c for j, s in enumerate(subsets) if j != i for c in s]
