@@ -45,3 +45,8 @@ class SimulationError(MemcheckError):
 
 class ReplayError(MemcheckError):
     """A replay file that cannot be read or does not match its contract."""
+
+
+class SynthesisError(MemcheckError):
+    """A March-test synthesis request that cannot be searched (unknown or unsupported fault class, a
+    class set no March test can detect, a length bound below any possible test)."""

@@ -1,0 +1,263 @@
+"""``synthesize``: the shortest March test that detects every instance of the requested fault
+classes on a memory, with the proof of minimality (see docs/synthesis.md)."""
+
+from __future__ import annotations
+
+import difflib
+import itertools
+import time
+from collections.abc import Sequence
+from dataclasses import dataclass, replace
+from typing import Any
+
+from memcheck.errors import MemcheckError, SynthesisError
+from memcheck.faults import CLASSES, DISCLAIMER, CoverageReport, SimSetup, coverage
+from memcheck.march.library import ALGORITHMS
+from memcheck.march.notation import MarchTest
+from memcheck.synthesis.elements import DOWN, UP
+from memcheck.synthesis.evaluate import detects_all, to_test
+from memcheck.synthesis.rows import RowModel, build_model, builder_for, complement_closed, mirror_closed
+from memcheck.synthesis.search import Search, SearchOutcome, Step
+
+DEFAULT_WORDS = 64
+DEFAULT_MAX_LENGTH = 32
+MIN_LENGTH = 2  # a test that detects anything writes and reads
+_MAX_ANY_CHECK = 6  # ⇕ elements whose 2^k direction assignments are all confirmed with the engine
+
+
+@dataclass(frozen=True)
+class Proof:
+    """Why the answer is shortest. ``complete_below``: every length below it was searched
+    exhaustively and no test in the space detects every instance; ``space``: the space's rules."""
+
+    space: tuple[str, ...]
+    complete_below: int
+    states_per_length: tuple[int, ...]
+    exhausted: bool
+    timed_out: bool
+    seconds: float
+
+
+@dataclass(frozen=True)
+class SynthesisResult:
+    """The outcome: ``test`` (None when none was found), its coverage on the memory, the proof, and
+    for a search cut short the shortest library test that detects the classes (``fallback``)."""
+
+    classes: tuple[str, ...]
+    setup: SimSetup
+    max_length: int
+    test: MarchTest | None
+    report: CoverageReport | None
+    proof: Proof
+    fallback: MarchTest | None = None
+
+    @property
+    def length(self) -> int | None:
+        return None if self.test is None else self.test.length
+
+    @property
+    def minimal(self) -> bool:
+        return self.test is not None and not self.proof.timed_out
+
+    def to_json(self) -> dict[str, Any]:
+        s, p = self.setup, self.proof
+        return {
+            "classes": list(self.classes),
+            "words": s.words,
+            "width": s.width,
+            "order": s.order,
+            "backgrounds": s.background_spec if isinstance(s.background_spec, str) else list(s.background_spec),
+            "seed": s.seed,
+            "max_length": self.max_length,
+            "found": self.test is not None,
+            "notation": None if self.test is None else self.test.to_unicode(),
+            "ascii": None if self.test is None else self.test.to_ascii(),
+            "length": self.length,
+            "proof": {
+                "space": list(p.space),
+                "no_test_below": p.complete_below,
+                "states_per_length": list(p.states_per_length),
+                "exhausted": p.exhausted,
+                "timed_out": p.timed_out,
+                "seconds": round(p.seconds, 3),
+            },
+            "fallback": None
+            if self.fallback is None
+            else {"name": self.fallback.name, "notation": self.fallback.to_unicode(), "length": self.fallback.length},
+            "coverage": None if self.report is None else self.report.to_json(),
+            "note": DISCLAIMER,
+        }
+
+
+def parse_fault_classes(spec: str | Sequence[str]) -> tuple[str, ...]:
+    """Class names (comma-separated or a sequence), canonical spelling and order; unknown names get
+    a did-you-mean."""
+    names = [s.strip() for s in (spec.split(",") if isinstance(spec, str) else spec) if s.strip()]
+    if not names:
+        raise SynthesisError("no fault class given: pass --faults with classes such as SAF,AF,TF")
+    lookup = {c.lower(): c for c in CLASSES}
+    out = []
+    for n in names:
+        if n.lower() not in lookup:
+            close = difflib.get_close_matches(n.lower(), list(lookup), n=2, cutoff=0.5)
+            hint = f" Did you mean {' or '.join(lookup[c] for c in close)}?" if close else ""
+            raise SynthesisError(f"unknown fault class {n!r}.{hint} Known classes: {', '.join(CLASSES)}.")
+        out.append(lookup[n.lower()])
+        if builder_for(lookup[n.lower()]) is None:
+            raise SynthesisError(
+                f"fault class {lookup[n.lower()]} has no cell-level model for the synthesis search yet (its "
+                "behaviour depends on the neighbouring word's read, which the search does not track); leave it "
+                "out and check it afterwards with `memcheck coverage`."
+            )
+    return tuple(c for c in CLASSES if c in out)
+
+
+def _setup(words: int, width: int, order: str, backgrounds: str | None, seed: int | None) -> SimSetup:
+    setup = SimSetup(words, width, None, order, backgrounds, seed)
+    rs = setup.resolve()
+    if rs.nbg != 1:
+        raise SynthesisError(
+            f"the synthesis search runs the test over one data background, but {setup.background_spec!r} gives "
+            f"{rs.nbg} for {width}-bit words; pass --backgrounds with a single background (e.g. solid)."
+        )
+    return setup
+
+
+def _undetectable(model: RowModel) -> list[str]:
+    """Instances no March test in the space detects, found by exhausting each one's own space."""
+    bad = []
+    for i, inst in enumerate(model.instances):
+        sub = model.restrict(i)
+        out = Search(sub, allow_delay=True).run(64)
+        if out.exhausted and out.steps is None:
+            bad.append(inst.label)
+    return bad
+
+
+def _space(classes: Sequence[str], comp: bool, mirror: bool) -> tuple[str, ...]:
+    rules = [
+        "elements of r/w of 0/1, each read expecting the value a fault-free memory holds",
+        "every word's first operation is a write (reads before it compare nothing)",
+        "delay elements allowed (not counted in the length)" if "DRF" in classes else "no delay elements",
+    ]
+    if comp:
+        rules.append("first write is w0 (0/1 symmetry of the fault classes)")
+    if mirror:
+        rules.append("first element walks ⇑ (⇑/⇓ mirror symmetry of the fault universe)")
+    return tuple(rules)
+
+
+def _any_elements(model: RowModel, steps: tuple[Step, ...]) -> list[int]:
+    """Elements whose direction does not matter (every assignment still detects all), greedily."""
+    chosen: list[int] = []
+    for i, st in enumerate(steps):
+        if st.ops is None or len(chosen) >= _MAX_ANY_CHECK:
+            continue
+        trial = [*chosen, i]
+        ok = True
+        for dirs in itertools.product((UP, DOWN), repeat=len(trial)):
+            alt = list(steps)
+            for j, d in zip(trial, dirs, strict=True):
+                alt[j] = replace(alt[j], direction=d)
+            if not detects_all(model, alt):
+                ok = False
+                break
+        if ok:
+            chosen = trial
+    return chosen
+
+
+def _confirm(steps: tuple[Step, ...], anys: list[int], setup: SimSetup, classes: tuple[str, ...]) -> CoverageReport:
+    """Coverage of the test on the memory with the fault engine, for every walk of its ⇕ elements."""
+    report: CoverageReport | None = None
+    for dirs in itertools.product((UP, DOWN), repeat=len(anys)):
+        alt = list(steps)
+        for j, d in zip(anys, dirs, strict=True):
+            alt[j] = replace(alt[j], direction=d)
+        rep = coverage(to_test(alt), setup, classes=classes)
+        if any(c.detected != c.faults for c in rep.classes):
+            raise SynthesisError(
+                f"internal check failed: the fault engine does not confirm {to_test(alt).to_unicode()} for "
+                f"{','.join(classes)}; please report this with the command line"
+            )
+        report = report or rep
+    assert report is not None
+    test = to_test(steps, anys)
+    return coverage(test, setup, classes=classes)
+
+
+def _fallback(setup: SimSetup, classes: tuple[str, ...]) -> MarchTest | None:
+    """The shortest library test that detects every instance on the memory, if any."""
+    for alg in sorted(ALGORITHMS, key=lambda a: a.length):
+        if alg.test.delays and "DRF" not in classes:
+            continue
+        try:
+            rep = coverage(alg.test, setup, classes=classes)
+        except MemcheckError:
+            continue
+        if all(c.detected == c.faults for c in rep.classes):
+            return alg.test
+    return None
+
+
+def synthesize(
+    classes: str | Sequence[str],
+    *,
+    words: int = DEFAULT_WORDS,
+    width: int = 1,
+    order: str = "linear",
+    backgrounds: str | None = None,
+    seed: int | None = None,
+    max_length: int = DEFAULT_MAX_LENGTH,
+    time_limit: float | None = None,
+) -> SynthesisResult:
+    """The shortest March test (in the space of docs/synthesis.md) that detects every instance of
+    ``classes`` on a ``words`` x ``width`` memory, from every power-up state.
+
+    Raises:
+        SynthesisError: unknown or unsupported class, several data backgrounds, a length bound below
+            any possible test, or a class set no March test detects (the offending instances named).
+        FaultModelError: a geometry the fault engine cannot build.
+    """
+    t0 = time.monotonic()
+    cls = parse_fault_classes(classes)
+    if isinstance(max_length, bool) or not isinstance(max_length, int) or max_length < MIN_LENGTH:
+        raise SynthesisError(
+            f"--max-length {max_length!r} is below any possible test: a March test that detects a fault writes a "
+            f"value and reads it back, so it has at least {MIN_LENGTH} operations per word"
+        )
+    setup = _setup(words, width, order, backgrounds, seed)
+    model = build_model(cls, setup)
+    bad = _undetectable(model)
+    if bad:
+        shown = "; ".join(bad[:5]) + (f"; and {len(bad) - 5} more" if len(bad) > 5 else "")
+        raise SynthesisError(
+            f"no March test detects every instance of {','.join(cls)} on this {words} x {width} memory: the "
+            f"search exhausted every reachable state of these cases without detecting them: {shown}. Drop the "
+            "class, or change the geometry or data background."
+        )
+    comp, mirror = complement_closed(cls), mirror_closed(setup)
+    deadline = None if time_limit is None else t0 + time_limit
+    search = Search(
+        model,
+        allow_delay="DRF" in cls,
+        first_writes=(0,) if comp else (0, 1),
+        first_directions=(UP,) if mirror else (UP, DOWN),
+        deadline=deadline,
+    )
+    outcome: SearchOutcome = search.run(max_length)
+    proof = Proof(
+        _space(cls, comp, mirror),
+        outcome.complete_below,
+        outcome.stats.states_per_length,
+        outcome.exhausted,
+        outcome.timed_out,
+        time.monotonic() - t0,
+    )
+    if outcome.steps is None:
+        fb = _fallback(setup, cls) if outcome.timed_out else None
+        return SynthesisResult(cls, setup, max_length, None, None, proof, fb)
+    anys = _any_elements(model, outcome.steps)
+    report = _confirm(outcome.steps, anys, setup, cls)
+    proof = replace(proof, seconds=time.monotonic() - t0)
+    return SynthesisResult(cls, setup, max_length, report.test, report, proof)

@@ -1,0 +1,381 @@
+"""The cell-level row model the synthesis search runs on.
+
+The fast fault engine shows that a fault's behaviour under a March test depends only on its
+*relation* (one cell, two cells of one word, aggressor word first or second in the ⇑ order; for
+decoder faults: one word, or the two words in either order), the cells' signature codes and the
+fault model. A *row* is one such case together with one power-up state. Its state is a small
+integer (the faulty cell values, at most 8 values) or ``DET`` once a compared read has returned a
+wrong value; ``DET`` is absorbing (a fault detected early stays detected).
+
+Every row sees the operations of a March element on the word visited *first* in the ⇑ order and
+then on the word visited *second* (⇓: the other way round); a one-word row only has the first
+word. So a row is fully described by two tables ``first[op]`` and ``second[op]`` mapping state ->
+state for the four logical operations r0, r1, w0, w1, plus a ``pause`` table for delay elements.
+The tables are built from the same fault semantics the engines use
+(:mod:`memcheck.faults.primitives`) and the same per-step rules as the fast engine; a Hypothesis
+property test holds this model equal to the reference engine.
+
+A fault *instance* is detected when all its rows (its power-up states) reach ``DET``; a decoder
+fault on words of several bits when, for some bit, all its rows do (as both engines combine bits).
+Fault classes plug in by name through :data:`ROW_BUILDERS`.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Iterator, Sequence
+from dataclasses import dataclass
+
+import numpy as np
+import numpy.typing as npt
+
+from memcheck.faults import SimSetup
+from memcheck.faults.primitives import FaultModel, aggressor_op, models_of, pause, settle, victim_op
+from memcheck.faults.universe import cell_table, pair_table_all, word_pair_table
+
+U8 = npt.NDArray[np.uint8]
+IntArray = npt.NDArray[np.int64]
+BoolArray = npt.NDArray[np.bool_]
+
+NSTATE = 8  # row states 0..7
+DET = NSTATE  # the absorbing "detected" state
+WIDTH = NSTATE + 1
+OPS: tuple[tuple[str, int], ...] = (("r", 0), ("r", 1), ("w", 0), ("w", 1))  # op index -> (kind, logical value)
+UNWRITTEN = 2  # "good value" before the first write
+
+StepFn = Callable[[int, str, int], tuple[int, bool]]  # (state, kind, logical value) -> (state, detected)
+
+
+@dataclass(frozen=True)
+class RowSpec:
+    """One row: its power-up state and how an operation on its first / second word changes it."""
+
+    init: int
+    first: StepFn
+    second: StepFn | None
+    pause: Callable[[int], int] | None = None
+
+
+@dataclass(frozen=True)
+class Instance:
+    """Rows that must all be detected (one fault case, every power-up state); ``alternatives``
+    lists row groups of which one must be fully detected (bits of a decoder fault)."""
+
+    label: str
+    alternatives: tuple[tuple[int, ...], ...]
+
+
+# ---------------------------------------------------------------------------------------------------
+# Cell faults (the FP-based classes): state = aggressor value * 2 + victim value
+# ---------------------------------------------------------------------------------------------------
+
+
+def _victim_step(m: FaultModel, ca: int, cv: int, *, also_aggressor: bool) -> StepFn:
+    def step(s: int, kind: str, x: int) -> tuple[int, bool]:
+        a, v = s >> 1, s & 1
+        det = False
+        if kind == "r":
+            new_v, out = victim_op(m, a, v, "r", v)
+            det = out != (cv ^ x)
+        else:
+            new_v = victim_op(m, a, v, "w", cv ^ x)[0]
+        a_new = a
+        if also_aggressor:  # the aggressor bit shares the word: its disturbance comes second
+            if kind == "r":
+                new_v = aggressor_op(m, a, new_v, "r", a)
+            else:
+                new_v = aggressor_op(m, a, new_v, "w", ca ^ x)
+                a_new = ca ^ x
+        return a_new * 2 + settle(m, a_new, new_v), det
+
+    return step
+
+
+def _aggressor_step(m: FaultModel, ca: int) -> StepFn:
+    def step(s: int, kind: str, x: int) -> tuple[int, bool]:
+        a, v = s >> 1, s & 1
+        if kind == "r":
+            return a * 2 + settle(m, a, aggressor_op(m, a, v, "r", a)), False
+        d = ca ^ x
+        return d * 2 + settle(m, d, aggressor_op(m, a, v, "w", d)), False
+
+    return step
+
+
+def _cell_rows(m: FaultModel, relation: int, ca: int, cv: int) -> list[RowSpec]:
+    """relation: 0 one cell, 1 same word, 2 aggressor word first in ⇑, 3 victim word first."""
+    states = [(0, v) for v in (0, 1)] if relation == 0 else [(a, v) for a in (0, 1) for v in (0, 1)]
+    vstep = _victim_step(m, ca, cv, also_aggressor=relation == 1)
+    out = []
+    for a, v in states:
+        init = a * 2 + settle(m, a, v)
+        if relation <= 1:
+            p = (lambda s, m=m: settle(m, s >> 1, pause(m, s & 1))) if relation == 0 else None
+            out.append(RowSpec(init, vstep, None, p))
+        elif relation == 2:
+            out.append(RowSpec(init, _aggressor_step(m, ca), vstep))
+        else:
+            out.append(RowSpec(init, vstep, _aggressor_step(m, ca)))
+    return out
+
+
+# ---------------------------------------------------------------------------------------------------
+# Address-decoder faults (one data bit): state = cell x * 2 + cell y, the floating value is fixed
+# ---------------------------------------------------------------------------------------------------
+
+_REACH = {  # ((x reaches cell x, x reaches cell y), (y reaches cell x, y reaches cell y))
+    "no-cell": ((0, 0), (0, 1)),
+    "no-cell-shared": ((0, 0), (1, 1)),
+    "wrong-cell": ((0, 1), (0, 1)),
+    "extra-cell": ((1, 1), (0, 1)),
+}
+AF_VARIANTS: tuple[tuple[str, str | None], ...] = (
+    ("no-cell", None),
+    ("no-cell-shared", "and"),
+    ("no-cell-shared", "or"),
+    ("wrong-cell", None),
+    ("extra-cell", "and"),
+    ("extra-cell", "or"),
+)
+
+
+def _af_step(kind: str, wired: str | None, side: int, code: int, fl: int) -> StepFn:
+    hx, hy = _REACH[kind][side]
+
+    def step(s: int, op: str, x: int) -> tuple[int, bool]:
+        cx, cy = s >> 1, s & 1
+        if op == "w":
+            d = code ^ x
+            return (d if hx else cx) * 2 + (d if hy else cy), False
+        both = (cx & cy) if wired != "or" else (cx | cy)
+        out = both if hx and hy else (cx if hx else (cy if hy else fl))
+        return s, out != (code ^ x)
+
+    return step
+
+
+def _af_rows(variant: int, relation: int, cx: int, cy: int) -> list[RowSpec]:
+    """relation: 0 one word (x only), 1 x first in ⇑, 2 y first."""
+    kind, wired = AF_VARIANTS[variant]
+    out = []
+    for s in range(4 if relation == 0 else 8):
+        x, y, fl = (s >> 1) & 1, 0, s & 1
+        if relation:
+            x, y, fl = (s >> 2) & 1, (s >> 1) & 1, s & 1
+        sx, sy = _af_step(kind, wired, 0, cx, fl), _af_step(kind, wired, 1, cy, fl)
+        if relation == 0:
+            out.append(RowSpec(x * 2 + y, sx, None))
+        else:
+            out.append(RowSpec(x * 2 + y, sx, sy) if relation == 1 else RowSpec(x * 2 + y, sy, sx))
+    return out
+
+
+# ---------------------------------------------------------------------------------------------------
+# Builders: one per fault class (FP-based classes share one), registered by name
+# ---------------------------------------------------------------------------------------------------
+
+Built = list[tuple[str, list[list[RowSpec]]]]  # (label, alternatives of row lists)
+
+
+def fp_builder(cls: str, setup: SimSetup) -> Built:
+    """Rows of an FP-based class over the relations and codes present in ``setup``."""
+    rs = setup.resolve()
+    models = models_of(cls)
+    out: Built = []
+    if not models[0].two_cell:
+        for code in sorted(set(cell_table(rs).code.tolist())):
+            out += [(f"{m.name} code {code}", [_cell_rows(m, 0, 0, code)]) for m in models]
+        return out
+    if setup.cells < 2:
+        return out
+    pt = pair_table_all(rs)
+    keys = sorted({(int(r), int(a), int(v)) for r, a, v in zip(pt.relation, pt.code_a, pt.code_v, strict=True)})
+    for rel, ca, cv in keys:
+        out += [(f"{m.name} relation {rel} codes {ca}{cv}", [_cell_rows(m, rel, ca, cv)]) for m in models]
+    return out
+
+
+def af_builder(cls: str, setup: SimSetup) -> Built:
+    """Decoder-fault rows: per word pair class, one alternative per data bit."""
+    rs = setup.resolve()
+    codes = rs.class_codes()
+    per_class = np.bincount(rs.wclass, minlength=codes.shape[0])
+    groups: set[tuple[int, tuple[int, ...], tuple[int, ...]]] = set()
+    for c in np.flatnonzero(per_class).tolist():
+        groups.add((0, tuple(codes[c].tolist()), tuple(codes[c].tolist())))
+    wt = word_pair_table(rs, "all")
+    for r, x, y in zip(wt.relation.tolist(), wt.class_x.tolist(), wt.class_y.tolist(), strict=True):
+        groups.add((r, tuple(codes[x].tolist()), tuple(codes[y].tolist())))
+    out: Built = []
+    for rel, bx, by in sorted(groups):
+        for variant in (0,) if rel == 0 else range(1, 6):
+            bits = sorted(set(zip(bx, by, strict=True)))
+            label = f"AF {AF_VARIANTS[variant][0]} relation {rel}"
+            out.append((label, [_af_rows(variant, rel, cx, cy) for cx, cy in bits]))
+    return out
+
+
+Builder = Callable[[str, SimSetup], Built]
+ROW_BUILDERS: dict[str, Builder] = {"AF": af_builder}
+
+
+def builder_for(cls: str) -> Builder | None:
+    """The row builder of a class: registered by name, or the generic one for FP-based classes."""
+    if cls in ROW_BUILDERS:
+        return ROW_BUILDERS[cls]
+    return fp_builder if models_of(cls) else None
+
+
+# ---------------------------------------------------------------------------------------------------
+# The model: tables over all rows, duplicates merged
+# ---------------------------------------------------------------------------------------------------
+
+
+@dataclass(frozen=True, eq=False)
+class RowModel:
+    """Tables ``first[op, row, state]``, ``second[...]`` and ``pause[row, state]`` (``DET`` maps to
+    itself), the power-up state of every row and the instances that must be detected."""
+
+    classes: tuple[str, ...]
+    init: U8
+    first: U8
+    second: U8
+    pause: U8
+    instances: tuple[Instance, ...]
+
+    @property
+    def rows(self) -> int:
+        return int(self.init.size)
+
+    def restrict(self, index: int) -> RowModel:
+        """The model of instance ``index`` alone (its rows renumbered)."""
+        inst = self.instances[index]
+        rows = sorted({r for alt in inst.alternatives for r in alt})
+        new = {r: i for i, r in enumerate(rows)}
+        alts = tuple(tuple(new[r] for r in alt) for alt in inst.alternatives)
+        sel = np.array(rows, np.int64)
+        return RowModel(
+            self.classes,
+            self.init[sel],
+            np.ascontiguousarray(self.first[:, sel]),
+            np.ascontiguousarray(self.second[:, sel]),
+            self.pause[sel],
+            (Instance(inst.label, alts),),
+        )
+
+    def complete(self, states: U8) -> BoolArray:
+        """Which of ``states`` (n, rows) detect every instance."""
+        done = states == DET
+        ok = np.ones(states.shape[0], bool)
+        for inst in self.instances:
+            any_alt = np.zeros(states.shape[0], bool)
+            for alt in inst.alternatives:
+                any_alt |= done[:, list(alt)].all(axis=1)
+            ok &= any_alt
+            if not ok.any():
+                break
+        return ok
+
+
+def _table(step: StepFn | None) -> U8:
+    t = np.empty((4, WIDTH), np.uint8)
+    for o, (kind, x) in enumerate(OPS):
+        for s in range(NSTATE):
+            if step is None:
+                t[o, s] = s
+                continue
+            ns, det = step(s & 3, kind, x)
+            t[o, s] = DET if det else ns
+        t[o, DET] = DET
+    return t
+
+
+def _iter_specs(built: Built) -> Iterator[tuple[str, list[list[RowSpec]]]]:
+    yield from built
+
+
+def build_model(classes: Sequence[str], setup: SimSetup) -> RowModel:
+    """The row model of ``classes`` on ``setup`` (one data background). Classes without a builder
+    raise KeyError (the caller reports it)."""
+    rows: dict[bytes, int] = {}
+    firsts: list[U8] = []
+    seconds: list[U8] = []
+    pauses: list[U8] = []
+    inits: list[int] = []
+    instances: list[Instance] = []
+    for cls in classes:
+        builder = builder_for(cls)
+        if builder is None:
+            raise KeyError(cls)
+        for label, alternatives in _iter_specs(builder(cls, setup)):
+            alts = []
+            for specs in alternatives:
+                ids = []
+                for spec in specs:
+                    f, s = _table(spec.first), _table(spec.second)
+                    p = np.arange(WIDTH, dtype=np.uint8)
+                    if spec.pause is not None:
+                        p[:NSTATE] = [spec.pause(x & 3) for x in range(NSTATE)]
+                    key = bytes([spec.init]) + f.tobytes() + s.tobytes() + p.tobytes()
+                    if key not in rows:
+                        rows[key] = len(inits)
+                        inits.append(spec.init)
+                        firsts.append(f)
+                        seconds.append(s)
+                        pauses.append(p)
+                    ids.append(rows[key])
+                alts.append(tuple(sorted(set(ids))))
+            instances.append(Instance(f"{cls}: {label}", tuple(alts)))
+    return RowModel(
+        tuple(classes),
+        np.array(inits, np.uint8),
+        np.ascontiguousarray(np.stack(firsts, axis=1)),
+        np.ascontiguousarray(np.stack(seconds, axis=1)),
+        np.stack(pauses),
+        tuple(instances),
+    )
+
+
+# ---------------------------------------------------------------------------------------------------
+# Symmetries the search may use (each checked, never assumed)
+# ---------------------------------------------------------------------------------------------------
+
+_FLIP = str.maketrans("01", "10")
+
+
+def _complement(m: FaultModel) -> frozenset[str]:
+    return frozenset(p.notation.translate(_FLIP) for p in m.primitives)
+
+
+def complement_closed(classes: Sequence[str]) -> bool:
+    """True when swapping 0 and 1 in every fault of ``classes`` gives faults of the same classes, so
+    a test and its 0/1 complement detect the same instances (AF: wired-AND and wired-OR and both
+    floating values are all in the universe, so AF is closed)."""
+    for cls in classes:
+        if cls == "AF":
+            continue
+        if cls in ROW_BUILDERS:
+            return False
+        mine = {frozenset(p.notation for p in m.primitives) for m in models_of(cls)}
+        if any(_complement(m) not in mine for m in models_of(cls)):
+            return False
+    return True
+
+
+def mirror_closed(setup: SimSetup) -> bool:
+    """True when reversing every element's direction maps the fault universe onto itself: for each
+    cell pair with the aggressor's word first in ⇑ there is one with the same codes and the victim's
+    word first, and likewise for decoder word pairs."""
+    rs = setup.resolve()
+    pt = pair_table_all(rs) if setup.cells >= 2 else None
+    if pt is not None:
+        keys = {(int(r), int(a), int(v)) for r, a, v in zip(pt.relation, pt.code_a, pt.code_v, strict=True)}
+        swap = {2: 3, 3: 2}
+        if keys != {(swap.get(r, r), a, v) for r, a, v in keys}:
+            return False
+    codes = rs.class_codes()
+    wt = word_pair_table(rs, "all")
+    groups = {
+        (int(r), codes[x].tobytes(), codes[y].tobytes())
+        for r, x, y in zip(wt.relation, wt.class_x, wt.class_y, strict=True)
+    }
+    return groups == {(3 - r, bx, by) for r, bx, by in groups}
