@@ -29,6 +29,7 @@ import numpy as np
 import numpy.typing as npt
 
 from memcheck.faults import SimSetup
+from memcheck.faults.engine import AF_VARIANTS  # the fast engine's decoder variants, in its order
 from memcheck.faults.primitives import FaultModel, aggressor_op, models_of, pause, settle, victim_op
 from memcheck.faults.universe import cell_table, pair_table_all, word_pair_table
 
@@ -128,14 +129,6 @@ _REACH = {  # ((x reaches cell x, x reaches cell y), (y reaches cell x, y reache
     "wrong-cell": ((0, 1), (0, 1)),
     "extra-cell": ((1, 1), (0, 1)),
 }
-AF_VARIANTS: tuple[tuple[str, str | None], ...] = (
-    ("no-cell", None),
-    ("no-cell-shared", "and"),
-    ("no-cell-shared", "or"),
-    ("wrong-cell", None),
-    ("extra-cell", "and"),
-    ("extra-cell", "or"),
-)
 
 
 def _af_step(kind: str, wired: str | None, side: int, code: int, fl: int) -> StepFn:
@@ -173,7 +166,9 @@ def _af_rows(variant: int, relation: int, cx: int, cy: int) -> list[RowSpec]:
 # Builders: one per fault class (FP-based classes share one), registered by name
 # ---------------------------------------------------------------------------------------------------
 
-Built = list[tuple[str, list[list[RowSpec]]]]  # (label, alternatives of row lists)
+Built = list[tuple[str, list[list[RowSpec]]]]
+_RELATION_NAMES = ("one cell", "same word", "aggressor's word first in ⇑", "victim's word first in ⇑")
+_AF_RELATION_NAMES = ("", "x first in ⇑", "y first in ⇑")  # (label, alternatives of row lists)
 
 
 def fp_builder(cls: str, setup: SimSetup) -> Built:
@@ -183,14 +178,15 @@ def fp_builder(cls: str, setup: SimSetup) -> Built:
     out: Built = []
     if not models[0].two_cell:
         for code in sorted(set(cell_table(rs).code.tolist())):
-            out += [(f"{m.name} code {code}", [_cell_rows(m, 0, 0, code)]) for m in models]
+            out += [(m.name + (f" (code {code})" if code else ""), [_cell_rows(m, 0, 0, code)]) for m in models]
         return out
     if setup.cells < 2:
         return out
     pt = pair_table_all(rs)
     keys = sorted({(int(r), int(a), int(v)) for r, a, v in zip(pt.relation, pt.code_a, pt.code_v, strict=True)})
     for rel, ca, cv in keys:
-        out += [(f"{m.name} relation {rel} codes {ca}{cv}", [_cell_rows(m, rel, ca, cv)]) for m in models]
+        where = _RELATION_NAMES[rel] + (f", codes {ca}{cv}" if ca or cv else "")
+        out += [(f"{m.name} ({where})", [_cell_rows(m, rel, ca, cv)]) for m in models]
     return out
 
 
@@ -209,7 +205,8 @@ def af_builder(cls: str, setup: SimSetup) -> Built:
     for rel, bx, by in sorted(groups):
         for variant in (0,) if rel == 0 else range(1, 6):
             bits = sorted(set(zip(bx, by, strict=True)))
-            label = f"AF {AF_VARIANTS[variant][0]} relation {rel}"
+            kind, wired = AF_VARIANTS[variant]
+            label = kind + (f" ({wired})" if wired else "") + ("" if rel == 0 else f", {_AF_RELATION_NAMES[rel]}")
             out.append((label, [_af_rows(variant, rel, cx, cy) for cx, cy in bits]))
     return out
 

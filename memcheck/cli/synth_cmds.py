@@ -1,0 +1,117 @@
+"""``memcheck march synthesize``: the shortest March test for chosen fault classes, with its proof."""
+
+from __future__ import annotations
+
+import json
+
+import click
+from rich.console import Console
+from rich.table import Table
+
+from memcheck._atomic import write_text_atomic
+from memcheck.cli import EXIT_FAIL, EXIT_OK
+from memcheck.cli._options import address_order_options, resolve_seed, seed_option
+from memcheck.cli.march_cmds import march_group
+from memcheck.faults import DISCLAIMER
+from memcheck.synthesis import DEFAULT_MAX_LENGTH, DEFAULT_WORDS, SynthesisResult, synthesize
+
+
+def _coverage_table(result: SynthesisResult) -> Table:
+    t = Table(title="coverage on the memory (guaranteed detection, every power-up state)")
+    for col in ("class", "instances", "detected", "coverage %"):
+        t.add_column(col, justify="left" if col == "class" else "right")
+    assert result.report is not None
+    for c in result.report.classes:
+        t.add_row(c.cls, f"{c.faults:,}", f"{c.detected:,}", f"{100 * c.coverage:.1f}")
+    return t
+
+
+def _proof_lines(result: SynthesisResult) -> list[str]:
+    p = result.proof
+    counts = ", ".join(f"{n}:{c}" for n, c in enumerate(p.states_per_length, start=1))
+    lines = ["search space: " + "; ".join(p.space) + "."]
+    if p.complete_below > 1:
+        lines.append(
+            f"proof: every length 1..{p.complete_below - 1} was searched exhaustively and no test in this space "
+            "detects every instance."
+        )
+    lines.append(f"distinct states first reached per length: {counts or 'none'}; {p.seconds:.2f} s.")
+    return lines
+
+
+def _report(result: SynthesisResult, max_length: int) -> int:
+    classes = ",".join(result.classes)
+    if result.test is not None:
+        t = result.test
+        click.echo(f"shortest test for {classes}: {t.length}n" + (f" + {t.delays} delay(s)" if t.delays else ""))
+        click.echo(f"  {t.to_unicode()}")
+        click.echo(f"  {t.to_ascii()}")
+        click.echo("⇕ elements were confirmed in both address directions.")
+        Console().print(_coverage_table(result))
+        for line in _proof_lines(result):
+            click.echo(line)
+        click.echo(DISCLAIMER)
+        return EXIT_OK
+    p = result.proof
+    if p.timed_out:
+        click.echo(
+            f"the time limit cut the search: no test of length ≤ {p.complete_below - 1} detects every instance of "
+            f"{classes}; longer lengths were not searched to the end, so no shortest test is proven."
+        )
+        if result.fallback is not None:
+            fb = result.fallback
+            click.echo(f"shortest library test that detects them here: {fb.name} ({fb.length}n) {fb.to_unicode()}")
+    else:
+        click.echo(f"no test of length ≤ {max_length} detects every instance of {classes} (searched exhaustively).")
+    for line in _proof_lines(result):
+        click.echo(line)
+    return EXIT_FAIL
+
+
+@march_group.command("synthesize")
+@click.option("--faults", "classes", required=True, help="Fault classes, comma-separated (e.g. SAF,AF,TF,CFin).")
+@click.option("--words", type=int, default=DEFAULT_WORDS, show_default=True, help="Words in the memory.")
+@click.option("--width", type=int, default=1, show_default=True, help="Bits per word (1 = bit-oriented).")
+@address_order_options
+@click.option("--backgrounds", default=None, help="One data background (default: solid).")
+@click.option("--max-length", type=int, default=DEFAULT_MAX_LENGTH, show_default=True, help="Longest test tried.")
+@click.option("--time-limit", type=float, default=None, help="Stop the search after S seconds.")
+@seed_option
+@click.option("--json", "json_path", type=click.Path(dir_okay=False), help="Write the result as JSON (atomically).")
+def synthesize_cmd(
+    classes: str,
+    words: int,
+    width: int,
+    order: str,
+    any_order: str,
+    backgrounds: str | None,
+    max_length: int,
+    time_limit: float | None,
+    seed: int | None,
+    json_path: str | None,
+) -> int:
+    """Search the shortest March test that detects every instance of the fault classes on the memory.
+
+    Exit codes: 0 a shortest test was found (minimal within the search space), 1 none of length up to
+    --max-length (or the time limit cut the search), 2 bad input.
+    """
+    used_seed = resolve_seed(seed)
+    click.echo(
+        f"synthesizing for {classes} on {words} x {width}, order {order}, seed {used_seed} (⇕ elements are "
+        f"checked walking both ways, so --any-order {any_order} does not change the answer)"
+    )
+    result = synthesize(
+        classes,
+        words=words,
+        width=width,
+        order=order,
+        backgrounds=backgrounds if backgrounds is not None else ("solid" if width > 1 else None),
+        seed=used_seed,
+        max_length=max_length,
+        time_limit=time_limit,
+    )
+    code = _report(result, max_length)
+    if json_path:
+        write_text_atomic(json_path, json.dumps(result.to_json(), indent=2, ensure_ascii=False) + "\n")
+        click.echo(f"JSON written to {json_path}")
+    return code
