@@ -1,0 +1,184 @@
+"""March-test synthesis: known minimal lengths, re-verification by the reference engine, pruning
+against brute force, the row model against the reference engine, bad input."""
+
+from __future__ import annotations
+
+import itertools
+import json
+from pathlib import Path
+
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from memcheck.cli import main
+from memcheck.errors import SynthesisError
+from memcheck.faults import SimSetup, enumerate_class, models_of, simulate_naive
+from memcheck.march.notation import MarchTest
+from memcheck.synthesis import build_model, detects_all, steps_of, synthesize, to_test
+from memcheck.synthesis.elements import DOWN, UP
+from memcheck.synthesis.evaluate import instance_detected
+from memcheck.synthesis.search import Step
+
+# (classes, known minimal length, the published test of that length and its source). The lengths are
+# the published tests' lengths; that no shorter March test exists for these classes is the
+# literature's claim (van de Goor, "Testing Semiconductor Memories", 1991, ch. 9) -- value written
+# from memory; the search's own exhaustive proof is what these tests check against it.
+KNOWN = [
+    ("SAF", 4, "MATS: R. Nair, IEEE Trans. Computers C-28(3), 1979"),
+    ("SAF,AF", 5, "MATS+: M.S. Abadir, H.K. Reghbati, ACM Computing Surveys 15(3), 1983"),
+    ("SAF,AF,TF", 6, "MATS++: A.J. van de Goor, Testing Semiconductor Memories, 1991"),
+    ("SAF,AF,TF,CFin", 6, "March X: A.J. van de Goor, Testing Semiconductor Memories, 1991"),
+]
+
+
+def _reference_all_detected(test: MarchTest, classes: str, setup: SimSetup) -> bool:
+    """Every instance of every class detected by the reference engine, ⇕ walked both ways."""
+    for any_order in ("up", "down"):
+        t = to_test(steps_of(test, any_order))
+        for cls in classes.split(","):
+            results = simulate_naive(t, enumerate_class(cls, setup), setup)
+            if not all(r.verdict == "detected" for r in results):
+                return False
+    return True
+
+
+@pytest.mark.parametrize(("classes", "length", "source"), KNOWN)
+def test_known_minimal_lengths(classes: str, length: int, source: str) -> None:
+    result = synthesize(classes, words=64)
+    assert result.test is not None, source
+    assert result.length == length, source
+    assert result.proof.complete_below == length and not result.proof.timed_out
+    assert all(c.detected == c.faults for c in result.report.classes)  # type: ignore[union-attr]
+    assert _reference_all_detected(result.test, classes, SimSetup(5))
+
+
+def test_march_c_minus_length() -> None:
+    """Unlinked SAF/AF/TF/CFin/CFid/CFst: 10n, March C-'s length (A.J. van de Goor, "Using March Tests to
+    Test SRAMs", IEEE Design & Test 10(1), 1993; minimality: value written from memory)."""
+    classes = "SAF,AF,TF,CFin,CFid,CFst"
+    result = synthesize(classes, words=64)
+    assert result.length == 10
+    assert _reference_all_detected(result.test, classes, SimSetup(4))  # type: ignore[arg-type]
+
+
+def test_delays_only_for_drf() -> None:
+    result = synthesize("SAF,DRF", words=16)
+    assert result.test is not None and result.test.delays >= 1
+    assert _reference_all_detected(result.test, "SAF,DRF", SimSetup(4))
+    assert synthesize("SAF,TF", words=16).test.delays == 0  # type: ignore[union-attr]
+
+
+# --- pruning against brute force --------------------------------------------------------------
+
+
+def _all_tests(length: int) -> list[tuple[Step, ...]]:
+    """Every test of exactly ``length`` ops in the space (first op a write, reads expecting the
+    fault-free value, any split into elements, each ⇑ or ⇓), no symmetry or state pruning."""
+    out = []
+    for ops in itertools.product(("r", "w0", "w1"), repeat=length):
+        if ops[0] == "r":
+            continue
+        idx, g = [], None
+        for o in ops:
+            if o == "r":
+                idx.append(g)
+            else:
+                g = int(o[1])
+                idx.append(2 + g)
+        for cuts in itertools.product((False, True), repeat=length - 1):
+            bounds = [0] + [i + 1 for i, c in enumerate(cuts) if c] + [length]
+            parts = [tuple(idx[a:b]) for a, b in itertools.pairwise(bounds)]
+            for dirs in itertools.product((UP, DOWN), repeat=len(parts)):
+                out.append(tuple(Step(p, d) for p, d in zip(parts, dirs, strict=True)))
+    return out
+
+
+@pytest.mark.parametrize("classes", ["SAF", "SAF,AF", "TF", "CFin", "SAF,AF,TF", "CFst"])
+def test_search_minimum_equals_brute_force(classes: str) -> None:
+    """Enumerate every test up to length 5 without pruning: its minimum equals the search's."""
+    setup = SimSetup(4)
+    model = build_model(classes.split(","), setup)
+    brute = next((n for n in range(1, 6) if any(detects_all(model, t) for t in _all_tests(n))), None)
+    result = synthesize(classes, words=4, max_length=5)
+    assert (result.length if result.test is not None else None) == brute
+    if brute is None:
+        assert result.proof.complete_below == 6
+
+
+# --- the row model against the reference engine -------------------------------------------------
+
+_ELEMENT = st.tuples(st.lists(st.sampled_from(("r", "w0", "w1")), min_size=1, max_size=4), st.sampled_from((UP, DOWN)))
+
+
+def _consistent(raw: list[tuple[list[str], int]]) -> tuple[Step, ...]:
+    steps, g = [], None
+    for ops, d in raw:
+        idx = []
+        for o in ops:
+            if o == "r" and g is None:
+                o = "w0"
+            if o == "r":
+                idx.append(g)
+            else:
+                g = int(o[1])
+                idx.append(2 + g)
+        steps.append(Step(tuple(idx), d))  # type: ignore[arg-type]
+    return tuple(steps)
+
+
+@settings(max_examples=60)
+@given(
+    raw=st.lists(_ELEMENT, min_size=1, max_size=4),
+    cls=st.sampled_from(["SAF", "TF", "WDF", "RDF", "DRDF", "IRF", "CFst", "CFds", "CFin", "CFid", "CFir", "AF"]),
+    words=st.integers(2, 3),
+    width=st.integers(1, 2),
+)
+def test_row_model_matches_reference_engine(raw: list[tuple[list[str], int]], cls: str, words: int, width: int) -> None:
+    """Per fault model: all its instances detected by the row model iff by the reference engine."""
+    steps = _consistent(raw)
+    setup = SimSetup(words, width, backgrounds="checkerboard" if width > 1 else "solid")
+    model = build_model([cls], setup)
+    test = to_test(steps)
+    results = simulate_naive(test, enumerate_class(cls, setup), setup)
+    assert detects_all(model, steps) == all(r.verdict == "detected" for r in results), test.to_unicode()
+    if cls == "AF":
+        return
+    found = instance_detected(model, steps)
+    for m in models_of(cls):
+        mine = [i for i, inst in enumerate(model.instances) if inst.label.split(": ", 1)[1].split(" (")[0] == m.name]
+        ref = all(r.verdict == "detected" for r in results if r.fault.name == m.name)
+        assert bool(found[mine].all()) == ref, (m.name, test.to_unicode())
+
+
+# --- bad input -----------------------------------------------------------------------------------
+
+
+@pytest.mark.parametrize(
+    ("kwargs", "needle"),
+    [
+        ({"classes": "SAF,CFx"}, "Did you mean"),
+        ({"classes": "SOF"}, "no cell-level model"),
+        ({"classes": "SAF", "max_length": 1}, "below any possible test"),
+        ({"classes": "CFst", "width": 2, "words": 4, "backgrounds": "solid"}, "no March test detects"),
+        ({"classes": "SAF", "width": 4, "backgrounds": "standard"}, "one data background"),
+    ],
+)
+def test_bad_input(kwargs: dict[str, object], needle: str) -> None:
+    classes = kwargs.pop("classes")
+    with pytest.raises(SynthesisError, match=needle):
+        synthesize(classes, **kwargs)  # type: ignore[arg-type]
+
+
+def test_cli_exit_codes(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
+    out = tmp_path / "s.json"
+    assert main(["march", "synthesize", "--faults", "SAF,AF", "--words", "16", "--json", str(out)]) == 0
+    text = capsys.readouterr().out
+    assert "5n" in text and "{any(w0)" in text.replace("up(", "any(") and "1..4" in text
+    data = json.loads(out.read_text())
+    assert data["length"] == 5 and data["proof"]["no_test_below"] == 5
+    assert main(["march", "synthesize", "--faults", "SAF,AF,TF", "--max-length", "5", "--words", "8"]) == 1
+    assert "no test of length ≤ 5" in capsys.readouterr().out
+    assert main(["march", "synthesize", "--faults", "SAF,XYZ"]) == 2
+    err = capsys.readouterr().err
+    assert "unknown fault class" in err and "Traceback" not in err
