@@ -1,0 +1,57 @@
+"""Search time of `memcheck march synthesize` for the known targets on a 64-word bit-oriented memory,
+and the all-static-faults search against March SS (22n).
+
+    .venv/bin/python bench/bench_synthesis.py [--static-limit SECONDS] [--skip-static]
+
+Targets: the 4n/5n/6n/6n cases <= 10 s each, the 10n case <= 10 minutes (2-core machine, shared).
+Prints figures; never a timed test.
+"""
+
+from __future__ import annotations
+
+import argparse
+import time
+
+from memcheck.synthesis import synthesize
+
+TARGETS = [
+    ("SAF", 4, "MATS"),
+    ("SAF,AF", 5, "MATS+"),
+    ("SAF,AF,TF", 6, "MATS++"),
+    ("SAF,AF,TF,CFin", 6, "March X"),
+    ("SAF,AF,TF,CFin,CFid,CFst", 10, "March C-"),
+]
+ALL_STATIC = "SAF,TF,WDF,RDF,DRDF,IRF,CFst,CFds,CFtr,CFwd,CFrd,CFdrd,CFir"
+
+
+def main() -> None:
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--static-limit", type=float, default=600.0, help="time limit of the all-static search (s)")
+    ap.add_argument("--skip-static", action="store_true")
+    args = ap.parse_args()
+    print(f"{'classes':<28} {'found':>6} {'known':>6}  {'seconds':>8}  test")
+    for classes, known, name in TARGETS:
+        t0 = time.perf_counter()
+        r = synthesize(classes, words=64)
+        dt = time.perf_counter() - t0
+        test = r.test.to_unicode() if r.test else "-"
+        print(f"{classes:<28} {r.length or '-':>5}n {known:>5}n  {dt:8.2f}  {test}   (known: {name})")
+    if args.skip_static:
+        return
+    t0 = time.perf_counter()
+    r = synthesize(ALL_STATIC, words=64, max_length=22, time_limit=args.static_limit)
+    dt = time.perf_counter() - t0
+    p = r.proof
+    print(f"\nall static single- and two-cell faults ({ALL_STATIC}), time limit {args.static_limit:.0f} s:")
+    if r.test is not None:
+        print(f"  shortest: {r.length}n {r.test.to_unicode()} in {dt:.1f} s (March SS: 22n)")
+    else:
+        why = "time limit" if p.timed_out else "max length 22"
+        print(f"  no test found before the {why}; no test of length <= {p.complete_below - 1} exists ({dt:.1f} s)")
+        if r.fallback is not None:
+            print(f"  shortest library test that detects them: {r.fallback.name} {r.fallback.length}n")
+    print(f"  distinct states per length: {list(p.states_per_length)}")
+
+
+if __name__ == "__main__":
+    main()
