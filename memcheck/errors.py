@@ -45,3 +45,8 @@ class SimulationError(MemcheckError):
 
 class ReplayError(MemcheckError):
     """A replay file that cannot be read or does not match its contract."""
+
+
+class BistError(MemcheckError):
+    """A BIST engine that cannot be built, attached, simulated or checked as asked (bad test, order,
+    background, geometry, port, or a missing tool)."""
