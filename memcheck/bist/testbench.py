@@ -196,10 +196,11 @@ def _unit(prefix: str, u: TbUnit) -> str:
 """
 
 
-def testbench_verilog(prefix: str, units: list[TbUnit], reset: str = "") -> str:
+def testbench_verilog(prefix: str, units: list[TbUnit], pre_cycles: int = 3) -> str:
     """A testbench module ``prefix`` (plus ``prefix_mem`` / ``prefix_check*`` helpers) running ``units``.
 
-    ``reset`` is Verilog run after ``rst_n`` is released and before ``start`` (a wrapper's own reset).
+    ``rst_n`` is held low for ``pre_cycles`` cycles (long enough for a wrapper's own reset, which the
+    unit's memory text drives from time 0); ``start`` is pulsed one cycle later.
     """
     layouts = sorted(
         {(lay.address_digits, lay.data_digits) for u in units if u.stream_file for lay in [hex_fields(u.plan)]}
@@ -217,9 +218,9 @@ def testbench_verilog(prefix: str, units: list[TbUnit], reset: str = "") -> str:
     initial begin
         rst_n = 1'b0;
         start = 1'b0;
-        repeat (3) @(negedge clk);
+        repeat ({pre_cycles}) @(negedge clk);
         rst_n = 1'b1;
-{reset}        @(negedge clk);
+        @(negedge clk);
         start = 1'b1;
         @(negedge clk);
         start = 1'b0;

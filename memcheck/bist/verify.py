@@ -16,9 +16,11 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from memcheck._atomic import write_text_atomic
+from memcheck.bist.adapter import adapter_verilog, wrapper_unit
 from memcheck.bist.microcode import EnginePlan
 from memcheck.bist.testbench import TbUnit, testbench_verilog
 from memcheck.bist.verilog import engine_verilog
+from memcheck.contract import Contract, PortSpec
 from memcheck.errors import BistError
 from memcheck.march import Pause, write_export
 
@@ -52,10 +54,19 @@ def _tool(name: str) -> str:
     return path
 
 
-def simulate(top: str, sources: Sequence[Path], work: Path, plusargs: Sequence[str] = (), timeout: float = 600) -> str:
-    """Compile ``sources`` with ``iverilog -g2005`` (top module ``top``) and run them; the simulator's output."""
+def simulate(
+    top: str,
+    sources: Sequence[Path],
+    work: Path,
+    plusargs: Sequence[str] = (),
+    *,
+    flags: Sequence[str] = (),
+    timeout: float = 600,
+) -> str:
+    """Compile ``sources`` with ``iverilog`` (top module ``top``, extra ``flags`` such as ``-DNAME=1``)
+    and run them; the simulator's output."""
     exe = work / "sim.vvp"
-    cmd = [_tool("iverilog"), "-g2005", "-s", top, "-o", str(exe), *map(str, sources)]
+    cmd = [_tool("iverilog"), "-g2005", "-s", top, "-o", str(exe), *flags, *map(str, sources)]
     comp = subprocess.run(cmd, capture_output=True, text=True, timeout=timeout)
     if comp.returncode != 0:
         raise BistError(f"iverilog could not compile the engine and testbench: {comp.stderr.strip()[:2000]}")
@@ -133,7 +144,7 @@ class VerifyResult:
 def describe_difference(plan: EnginePlan, unit: UnitResult) -> str:
     """One paragraph naming the first difference a checker reported."""
     if unit.verdict == "FAIL":
-        return f"the engine flagged a failure on a fault-free memory ({unit.detail})"
+        return f"the engine flagged a failure where none was expected ({unit.detail})"
     if unit.verdict != "DIFF" or "line" not in unit.values:
         return f"{unit.verdict}: {unit.detail}"
     line = int(unit.values["line"])
@@ -169,3 +180,25 @@ def verify_engine(plan: EnginePlan, work: Path | None = None) -> VerifyResult:
             return verify_engine(plan, Path(tmp))
     res = run_units([(plan, "engine")], work)
     return VerifyResult(plan, res["engine"])
+
+
+def run_on_wrapper(
+    plan: EnginePlan, contract: Contract, port: PortSpec, work: Path, *, with_stream: bool = True
+) -> UnitResult:
+    """Run the engine through the adapter on the contract's wrapper RTL (other ports idle)."""
+    if contract.rtl is None:
+        raise BistError(f"{contract.path or 'the contract'} names no RTL ([rtl] sources and top)")
+    work.mkdir(parents=True, exist_ok=True)
+    engine = write_text_atomic(work / f"{plan.module}.v", engine_verilog(plan))
+    adapter = write_text_atomic(work / f"{plan.module}_adapter.v", adapter_verilog(plan, contract, port))
+    stream_file = None
+    if with_stream:
+        write_export(plan.stream, work / "engine.hex", "hex")
+        stream_file = str(work / "engine.hex")
+    unit = TbUnit(plan, "engine", stream_file, wrapper_unit(plan, contract, port, "engine"))
+    pre = 3 if contract.reset is None else max(3, contract.reset.cycles + 1)
+    tb = write_text_atomic(work / "bist_tb.v", testbench_verilog("bist_tb", [unit], pre))
+    rtl = contract.rtl
+    flags = [f"-I{d}" for d in rtl.include_dirs] + [f"-D{k}={v}" for k, v in rtl.defines.items()]
+    out = simulate("bist_tb", [tb, engine, adapter, *rtl.sources], work, flags=flags)
+    return parse_results(out, ["engine"])["engine"]
