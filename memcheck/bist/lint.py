@@ -80,7 +80,9 @@ def run_verilator(path: Path, top: str, timeout: float = 300) -> tuple[str, ...]
         timeout=timeout,
     )
     found = tuple(
-        line.strip() for line in proc.stderr.splitlines() if line.startswith(("%Warning", "%Error")) and not line.startswith("%Error: Exiting due to")
+        line.strip()
+        for line in proc.stderr.splitlines()
+        if line.startswith(("%Warning", "%Error")) and not line.startswith("%Error: Exiting due to")
     )
     if proc.returncode != 0 and not found:
         return (f"%Error: verilator exited with {proc.returncode}: {proc.stderr.strip()[:500]}",)

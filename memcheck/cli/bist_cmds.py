@@ -42,7 +42,9 @@ def engine_options(f: _F) -> _F:
             show_default=True,
             help="Data backgrounds: solid, checkerboard, row-stripe, col-stripe, standard, stdK or 0x.. words.",
         ),
-        click.option("--layout", default=None, help="Physical ROWSxCOLS (COLS a power of two) for stripes/checkerboard."),
+        click.option(
+            "--layout", default=None, help="Physical ROWSxCOLS (COLS a power of two) for stripes/checkerboard."
+        ),
         click.option(
             "--pause-cycles", type=int, default=100, show_default=True, help="Quiet cycles per delay element."
         ),
@@ -127,7 +129,9 @@ def bist_generate(test: str, output: str | None, testbench: bool, **kw: Any) -> 
     unit = TbUnit(plan, "engine")
     pre = 3
     if contract is not None and port is not None:
-        files.append(write_text_atomic(out.with_name(f"{plan.module}_adapter.v"), adapter_verilog(plan, contract, port)))
+        files.append(
+            write_text_atomic(out.with_name(f"{plan.module}_adapter.v"), adapter_verilog(plan, contract, port))
+        )
         if testbench:
             unit = TbUnit(plan, "engine", None, wrapper_unit(plan, contract, port, "engine"))
             pre = 3 if contract.reset is None else max(3, contract.reset.cycles + 1)
@@ -139,15 +143,16 @@ def bist_generate(test: str, output: str | None, testbench: bool, **kw: Any) -> 
     if testbench:
         rtl = [str(s) for s in contract.rtl.sources] if contract is not None and contract.rtl is not None else []
         srcs = " ".join([str(f) for f in files[::-1]] + rtl)
-        click.echo(f"run: iverilog -g2005 -s {plan.module}_tb -o {plan.module}_tb.vvp {srcs} && vvp {plan.module}_tb.vvp")
+        click.echo(
+            f"run: iverilog -g2005 -s {plan.module}_tb -o {plan.module}_tb.vvp {srcs} && vvp {plan.module}_tb.vvp"
+        )
 
 
 @bist_group.command("verify")
 @click.argument("test")
 @engine_options
 @click.option("--keep", type=click.Path(file_okay=False), default=None, help="Keep the sources and stream here.")
-@click.pass_context
-def bist_verify(ctx: click.Context, test: str, keep: str | None, **kw: Any) -> None:
+def bist_verify(test: str, keep: str | None, **kw: Any) -> int:
     """Simulate the engine for TEST in Icarus and compare every memory operation, cycle by cycle, with
     the Python expansion (memcheck patterns). Exit 0 when equal, 1 at the first difference."""
     seed_text = _resolve_seed(kw)
@@ -164,16 +169,15 @@ def bist_verify(ctx: click.Context, test: str, keep: str | None, **kw: Any) -> N
         res = verify_engine(plan, Path(keep) if keep else None)
         text = res.render()
     click.echo(text.split("\n", 1)[1])
-    ctx.exit(EXIT_OK if res.equal else EXIT_FAIL)
+    return EXIT_OK if res.equal else EXIT_FAIL
 
 
 @bist_group.command("lint")
 @click.argument("file", type=click.Path(dir_okay=False))
 @click.option("--top", default=None, help="Top module (default: the first module in FILE).")
-@click.pass_context
-def bist_lint(ctx: click.Context, file: str, top: str | None) -> None:
+def bist_lint(file: str, top: str | None) -> int:
     """Lint FILE with verilator --lint-only -Wall and synthesise it with Yosys (synth, check -assert,
     stat): warnings, latches (none allowed) and cell count. Exit 0 when clean, 1 otherwise."""
     report = lint_file(file, top)
     click.echo(report.render())
-    ctx.exit(EXIT_OK if report.clean else EXIT_FAIL)
+    return EXIT_OK if report.clean else EXIT_FAIL
