@@ -210,6 +210,10 @@ def build_address_gen(order: AddressOrder) -> AddressGen:
         blocks = gray_blocks(n)
         return AddressGen("gray", n, aw, aw, blocks[0][0], blocks[-1][1], blocks=blocks)
     k = order.lfsr_bits
+    if n == 1 << k:  # every state is an address: no skips, no need to walk the period
+        first = order.lfsr_start
+        last = _apply(lfsr_step_columns(k, 1, inverse=True), first)
+        return AddressGen("lfsr", n, aw, k, 0, last, blocks=((first, first),), lfsr_mask=_lfsr_mask(k), skip=0)
     seq = lfsr_sequence(k, order.lfsr_start)
     valid = seq[seq < n]
     first, last = int(valid[0]), int(valid[-1])
