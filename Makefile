@@ -15,6 +15,7 @@ test: setup lint typecheck
 
 setup: $(VENV)/.installed
 	@tools/ensure-iverilog.sh
+	@tools/ensure-eda.sh
 
 $(VENV)/.installed: pyproject.toml
 	@$(PYTHON) -c 'import sys; sys.exit(0 if sys.version_info >= (3, 11) else "memcheck needs Python 3.11 or newer")'

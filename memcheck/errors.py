@@ -50,3 +50,8 @@ class ReplayError(MemcheckError):
 class SynthesisError(MemcheckError):
     """A March-test synthesis request that cannot be searched (unknown or unsupported fault class, a
     class set no March test can detect, a length bound below any possible test)."""
+
+
+class BistError(MemcheckError):
+    """A BIST engine that cannot be built, attached, simulated or checked as asked (bad test, order,
+    background, geometry, port, or a missing tool)."""
