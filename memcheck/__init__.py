@@ -24,7 +24,7 @@ from memcheck.errors import (
     SimulationError,
     UnknownAlgorithm,
 )
-from memcheck.faults import CoverageReport, SimSetup, coverage, parse_universe, plot_coverage
+from memcheck.faults import Arrangement, CoverageReport, coverage, parse_universe, plot_coverage
 from memcheck.march import (
     ALGORITHMS,
     MarchStream,
@@ -45,6 +45,7 @@ __all__ = [
     "ALGORITHMS",
     "IDLE",
     "UNKNOWN",
+    "Arrangement",
     "Contract",
     "ContractError",
     "CoverageReport",
@@ -63,7 +64,6 @@ __all__ = [
     "ReplayError",
     "ResetSpec",
     "RtlSpec",
-    "SimSetup",
     "SimulationError",
     "Trace",
     "UnknownAlgorithm",

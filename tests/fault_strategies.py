@@ -5,8 +5,8 @@ from __future__ import annotations
 
 from hypothesis import strategies as st
 
-from memcheck.faults.engine import AF_VARIANTS
-from memcheck.faults.geometry import SimSetup
+from memcheck.faults.fast import AF_VARIANTS
+from memcheck.faults.geometry import Arrangement
 from memcheck.faults.instances import (
     Cell,
     CellFault,
@@ -46,13 +46,13 @@ def march_tests(
     return MarchTest(tuple(elements))
 
 
-def valid_tests(setup: SimSetup, **kw: object) -> st.SearchStrategy[MarchTest]:
+def valid_tests(setup: Arrangement, **kw: object) -> st.SearchStrategy[MarchTest]:
     """Random tests valid on ``setup`` (leading reads only with a single background)."""
     return march_tests(leading_reads=setup.resolve().nbg == 1, **kw)  # type: ignore[arg-type]
 
 
 @st.composite
-def setups(draw: st.DrawFn, max_words: int = 6, max_width: int = 3) -> SimSetup:
+def setups(draw: st.DrawFn, max_words: int = 6, max_width: int = 3) -> Arrangement:
     words = draw(st.integers(1, max_words))
     width = draw(st.integers(1, max_width))
     divisors = [c for c in range(1, words + 1) if words % c == 0]
@@ -60,11 +60,11 @@ def setups(draw: st.DrawFn, max_words: int = 6, max_width: int = 3) -> SimSetup:
     layout = (words // cols, cols)
     order = draw(st.sampled_from(("linear", "gray", "complement", "lfsr", "row-fast", "col-fast")))
     bgs = draw(st.sampled_from((None, "solid", "checkerboard", "row-stripe", "col-stripe", "standard,checkerboard")))
-    return SimSetup(words, width, layout=layout, order=order, backgrounds=bgs, seed=draw(st.integers(0, 7)))
+    return Arrangement(words, width, layout=layout, order=order, backgrounds=bgs, seed=draw(st.integers(0, 7)))
 
 
 @st.composite
-def faults(draw: st.DrawFn, setup: SimSetup) -> FaultInstance:
+def faults(draw: st.DrawFn, setup: Arrangement) -> FaultInstance:
     cells = [Cell(w, b) for w in range(setup.words) for b in range(setup.width)]
     cell = st.sampled_from(cells)
     choices = ["cell", "sof"] + (["pair"] if len(cells) > 1 else []) + (["af"] if setup.words > 1 else [])

@@ -12,7 +12,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from memcheck.faults.coverage import CoverageReport, coverage
-from memcheck.faults.geometry import SimSetup
+from memcheck.faults.geometry import Arrangement
 from memcheck.march.notation import MarchElement, MarchOp, MarchTest
 from tests.fault_strategies import march_tests
 
@@ -21,7 +21,7 @@ STATIC_TWO_CELL = ("CFst", "CFds", "CFtr", "CFwd", "CFrd", "CFdrd", "CFir")
 
 
 def _report(test: str, words: int = 8, **kw: object) -> CoverageReport:
-    return coverage(test, SimSetup(words, **kw))  # type: ignore[arg-type]
+    return coverage(test, Arrangement(words, **kw))  # type: ignore[arg-type]
 
 
 def _full(report: CoverageReport, classes: tuple[str, ...]) -> dict[str, float]:
@@ -92,8 +92,8 @@ def test_word_oriented_backgrounds_expose_intra_word_coupling() -> None:
     # Memories into Tests for Word-Oriented Memories", IEEE Trans. Computers 52(10), 2003, from memory:
     # with one solid background the two bits of a word are always written alike, so half the intra-word
     # state and idempotent coupling faults escape; the log2(width)+1 standard backgrounds catch them.
-    solid = coverage("March C-", SimSetup(4, 4, backgrounds="solid"), classes="CFst,CFid")
-    standard = coverage("March C-", SimSetup(4, 4, backgrounds="standard"), classes="CFst,CFid")
+    solid = coverage("March C-", Arrangement(4, 4, backgrounds="solid"), classes="CFst,CFid")
+    standard = coverage("March C-", Arrangement(4, 4, backgrounds="standard"), classes="CFst,CFid")
     for cls in ("CFst", "CFid"):
         intra_solid = next(b for b in solid[cls].by_scope if b.label == "intra-word")
         intra_std = next(b for b in standard[cls].by_scope if b.label == "intra-word")
@@ -136,7 +136,7 @@ def test_sufficient_condition_for_address_decoder_faults(test: MarchTest, words:
     # van de Goor 1991 (as above), condition as we recall it: a March test containing ⇑(rx,…,w¬x) and
     # ⇓(r¬x,…,wx) detects all address-decoder faults, for any address order whose ⇓ is the reverse of ⇑
     # (with our read conventions: no cell reached -> a fixed unknown value; two cells -> wired AND/OR).
-    assert coverage(test, SimSetup(words, order=order), classes="AF")["AF"].coverage == 1.0
+    assert coverage(test, Arrangement(words, order=order), classes="AF")["AF"].coverage == 1.0
 
 
 @pytest.mark.parametrize("test", ["MATS+", "March C-", "March SS"])

@@ -11,7 +11,7 @@ from hypothesis import strategies as st
 
 from memcheck.errors import FaultModelError
 from memcheck.faults.coverage import coverage, wilson_interval
-from memcheck.faults.geometry import SimSetup
+from memcheck.faults.geometry import Arrangement
 from memcheck.faults.instances import Cell, CellFault, CouplingFault, DecoderFault, StuckOpenFault
 from memcheck.faults.primitives import (
     SINGLE_CELL_MODELS,
@@ -155,7 +155,7 @@ def test_bad_instances_are_rejected(bad) -> None:  # type: ignore[no-untyped-def
 
 
 def test_universe_sizes() -> None:
-    setup = SimSetup(6, 2, layout=(3, 2))
+    setup = Arrangement(6, 2, layout=(3, 2))
     n = 12
     assert class_size("SAF", setup) == 2 * n
     assert class_size("CFds", setup) == 12 * n * (n - 1)
@@ -171,16 +171,16 @@ def test_universe_sizes() -> None:
 
 
 def test_sample_is_seeded_and_without_replacement() -> None:
-    setup = SimSetup(32, 2)
+    setup = Arrangement(32, 2)
     a = sample_class("CFds", setup, 50, seed=7)
     assert a == sample_class("CFds", setup, 50, seed=7)
     assert a != sample_class("CFds", setup, 50, seed=8)
     assert len(set(a)) == 50
-    assert len(sample_class("AF", SimSetup(2), 100, seed=1)) == class_size("AF", SimSetup(2))  # all of them
+    assert len(sample_class("AF", Arrangement(2), 100, seed=1)) == class_size("AF", Arrangement(2))  # all of them
 
 
 def test_sample_universe_reports_wilson_interval() -> None:
-    report = coverage("MATS+", SimSetup(64), universe="sample:40", classes="TF,SAF", seed=3)
+    report = coverage("MATS+", Arrangement(64), universe="sample:40", classes="TF,SAF", seed=3)
     tf = report["TF"]
     assert tf.faults == 40 and tf.ci95 is not None
     assert tf.ci95 == wilson_interval(tf.detected, 40)
@@ -221,11 +221,11 @@ def test_parsers() -> None:
     with pytest.raises(FaultModelError, match="unknown fault class"):
         parse_classes("SAF,XYZ")
     with pytest.raises(FaultModelError, match="layout"):
-        coverage("MATS+", SimSetup(8), universe="neighbours")
+        coverage("MATS+", Arrangement(8), universe="neighbours")
 
 
 def test_json_has_the_documented_keys() -> None:
-    doc = coverage("March C-", SimSetup(4), classes="SAF,AF").to_json()
+    doc = coverage("March C-", Arrangement(4), classes="SAF,AF").to_json()
     assert {"test", "words", "width", "universe", "classes"} <= set(doc)
     assert set(doc["classes"]) == {"SAF", "AF"}
     for entry in doc["classes"].values():

@@ -14,7 +14,7 @@ from memcheck._atomic import write_text_atomic
 from memcheck.cli import cli
 from memcheck.errors import FaultModelError, MemcheckError
 from memcheck.faults.coverage import DISCLAIMER, CoverageReport, coverage
-from memcheck.faults.geometry import SimSetup
+from memcheck.faults.geometry import Arrangement
 from memcheck.faults.primitives import model_named
 from memcheck.faults.universe import CLASSES, DEFAULT_SEED, parse_classes, parse_universe
 from memcheck.march.orders import ORDER_KINDS, parse_layout
@@ -172,7 +172,7 @@ def coverage_cmd(
     except MemcheckError as exc:
         raise FaultModelError(str(exc)) from None
     used_seed = DEFAULT_SEED if seed is None else seed
-    setup = SimSetup(
+    setup = Arrangement(
         words, width, layout=lay, order=order, backgrounds=backgrounds, seed=used_seed if order == "lfsr" else None
     )
     classes = parse_classes(fault_classes)

@@ -20,7 +20,7 @@ import numpy as np
 import numpy.typing as npt
 
 from memcheck.errors import FaultModelError
-from memcheck.faults.engine import (
+from memcheck.faults.fast import (
     AF_RELATIONS,
     AF_VARIANTS,
     CELL_RELATIONS,
@@ -31,16 +31,16 @@ from memcheck.faults.engine import (
     simulate,
     sof_detection,
 )
-from memcheck.faults.geometry import SimSetup
+from memcheck.faults.geometry import Arrangement
 from memcheck.faults.instances import (
     Cell,
     CellFault,
     CouplingFault,
     DecoderFault,
+    Detection,
     FaultInstance,
     FaultResult,
     StuckOpenFault,
-    Verdict,
 )
 from memcheck.faults.primitives import FaultModel, models_of
 from memcheck.faults.universe import (
@@ -72,7 +72,7 @@ DISCLAIMER = (
 )
 Z95 = 1.959963984540054
 NO_SCOPE = "-"
-_VERDICTS: tuple[Verdict, ...] = ("detected", "partial", "escaped")
+_DETECTIONS: tuple[Detection, ...] = ("detected", "partial", "escaped")
 
 
 def wilson_interval(successes: int, trials: int, z: float = Z95) -> tuple[float, float]:
@@ -137,7 +137,7 @@ class EscapeGroup:
 class CoverageReport:
     test: MarchTest
     label: str
-    setup: SimSetup
+    setup: Arrangement
     backgrounds: tuple[str, ...]
     universe: Universe
     classes: tuple[ClassCoverage, ...]
@@ -218,7 +218,7 @@ class _Tally:
     """Counts per (class, model, scope) and one way to find an example per group and verdict."""
 
     counts: dict[tuple[str, str, str], list[int]] = field(default_factory=dict)
-    locators: dict[tuple[str, str, str], tuple[Verdict, tuple[Any, ...]]] = field(default_factory=dict)
+    locators: dict[tuple[str, str, str], tuple[Detection, tuple[Any, ...]]] = field(default_factory=dict)
     results: dict[tuple[str, str, str], FaultResult] = field(default_factory=dict)
 
     def add(
@@ -230,7 +230,7 @@ class _Tally:
         if locator is not None and verdict > 0:
             have = self.locators.get(group)
             if have is None or (have[0] == "partial" and verdict == 2):
-                self.locators[group] = (_VERDICTS[verdict], locator)
+                self.locators[group] = (_DETECTIONS[verdict], locator)
 
 
 def _tally_table(
@@ -408,7 +408,7 @@ def _model_order(cls: str) -> list[str]:
 
 def coverage(
     test: MarchTest | str,
-    setup: SimSetup,
+    setup: Arrangement,
     *,
     classes: str | Sequence[str] | None = None,
     universe: str | Universe = "all",
@@ -428,7 +428,7 @@ def coverage(
             inst = sample_class(cls, setup, uni.size, uni.seed)
             for r in simulate(t, inst, setup, plan):
                 g = _group_of(r)
-                v = _VERDICTS.index(r.verdict)
+                v = _DETECTIONS.index(r.verdict)
                 tally.add(g, v, 1)
                 if v and (g not in tally.results or (tally.results[g].verdict == "partial" and v == 2)):
                     tally.results[g] = r

@@ -1,7 +1,7 @@
 """How a March test meets one memory: geometry, address order and data backgrounds, resolved once
 into the small arrays the engines need.
 
-Both engines take a :class:`SimSetup`. The reference engine hands it to
+Both engines take an :class:`Arrangement`. The reference engine hands it to
 :func:`memcheck.march.expand.expand` and runs the whole stream; the fast engine only needs, per word,
 its position in the ⇑ order and which background bit each of its cells gets (its *signature*).
 """
@@ -24,7 +24,7 @@ ByteArray = npt.NDArray[np.uint8]
 
 
 @dataclass(frozen=True)
-class SimSetup:
+class Arrangement:
     """A memory of ``words`` x ``width`` bits, an optional physical ``layout`` (rows x mux columns of
     words, as in :mod:`memcheck.march.orders`), the address ``order`` kind and the data
     ``backgrounds`` (default: ``solid`` for 1-bit words, the ``standard`` set for wider words)."""
@@ -86,7 +86,7 @@ class Resolved:
     A cell's signature code packs, over the backgrounds, the bit that ``w0`` writes to it.
     """
 
-    setup: SimSetup
+    setup: Arrangement
     backgrounds: tuple[DataBackground, ...]
     up: IntArray
     pos: IntArray
