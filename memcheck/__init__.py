@@ -15,6 +15,7 @@ from memcheck.contract import (
     parse_contract,
 )
 from memcheck.errors import (
+    BudgetError,
     ContractError,
     FaultModelError,
     InvalidOperation,
@@ -23,6 +24,7 @@ from memcheck.errors import (
     ReplayError,
     SimulationError,
     UnknownAlgorithm,
+    UsageError,
 )
 from memcheck.faults import Arrangement, CoverageReport, coverage, parse_universe, plot_coverage
 from memcheck.march import (
@@ -46,6 +48,7 @@ __all__ = [
     "IDLE",
     "UNKNOWN",
     "Arrangement",
+    "BudgetError",
     "Contract",
     "ContractError",
     "CoverageReport",
@@ -67,6 +70,7 @@ __all__ = [
     "SimulationError",
     "Trace",
     "UnknownAlgorithm",
+    "UsageError",
     "__version__",
     "address_order",
     "coverage",

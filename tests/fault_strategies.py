@@ -60,7 +60,9 @@ def setups(draw: st.DrawFn, max_words: int = 6, max_width: int = 3) -> Arrangeme
     layout = (words // cols, cols)
     order = draw(st.sampled_from(("linear", "gray", "complement", "lfsr", "row-fast", "col-fast")))
     bgs = draw(st.sampled_from((None, "solid", "checkerboard", "row-stripe", "col-stripe", "standard,checkerboard")))
-    return Arrangement(words, width, layout=layout, order=order, backgrounds=bgs, seed=draw(st.integers(0, 7)))
+    any_order = draw(st.sampled_from(("up", "down")))
+    seed = draw(st.integers(0, 7))
+    return Arrangement(words, width, layout=layout, order=order, backgrounds=bgs, seed=seed, any_order=any_order)
 
 
 @st.composite

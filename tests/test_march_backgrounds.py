@@ -7,7 +7,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from memcheck.errors import NotationError
+from memcheck.errors import UsageError
 from memcheck.march import background_words, int_to_limbs, limbs_to_int, resolve_backgrounds, standard_set
 
 
@@ -71,8 +71,8 @@ def test_background_list_parsing() -> None:
     bgs = resolve_backgrounds("solid, checkerboard,0x5a,std2,standard", 8)
     assert [b.name for b in bgs] == ["solid", "checkerboard", "0x5a", "std2", "std1", "std3"]
     for bad in ("plaid", "0x1ff", "std9", "", "0xzz"):
-        with pytest.raises(NotationError):
+        with pytest.raises(UsageError):
             resolve_backgrounds(bad, 8)
     for width in (0, 1025):
-        with pytest.raises(NotationError):
+        with pytest.raises(UsageError):
             resolve_backgrounds("solid", width)

@@ -8,7 +8,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from memcheck.errors import NotationError, UnknownAlgorithm
+from memcheck.errors import BudgetError, NotationError, UnknownAlgorithm, UsageError
 from memcheck.march import (
     ALGORITHMS,
     OP_READ,
@@ -273,14 +273,14 @@ def test_any_order_down() -> None:
     [
         ({"test": "March Q"}, UnknownAlgorithm),
         ({"test": "{up(w0"}, NotationError),
-        ({"width": 0}, NotationError),
-        ({"width": 2000}, NotationError),
-        ({"words": 0}, NotationError),
-        ({"layout": (3, 3)}, NotationError),
-        ({"order": "row-fast"}, NotationError),
-        ({"backgrounds": "tartan"}, NotationError),
-        ({"any_order": "sideways"}, NotationError),
-        ({"chunk_ops": 0}, NotationError),
+        ({"width": 0}, UsageError),
+        ({"width": 2000}, UsageError),
+        ({"words": 0}, UsageError),
+        ({"layout": (3, 3)}, UsageError),
+        ({"order": "row-fast"}, UsageError),
+        ({"backgrounds": "tartan"}, UsageError),
+        ({"any_order": "sideways"}, UsageError),
+        ({"chunk_ops": 0}, UsageError),
     ],
 )
 def test_impossible_requests(kwargs: dict[str, object], error: type[Exception]) -> None:
@@ -291,7 +291,7 @@ def test_impossible_requests(kwargs: dict[str, object], error: type[Exception]) 
 
 
 def test_collect_refuses_huge_streams() -> None:
-    with pytest.raises(NotationError):
+    with pytest.raises(BudgetError, match="collect"):
         expand("March SS", 1 << 20, 8).collect(limit=1000)
 
 

@@ -11,7 +11,7 @@ from pathlib import Path
 
 import pytest
 
-from memcheck.errors import NotationError
+from memcheck.errors import UsageError
 from memcheck.march import OP_WRITE, MarchStream, Pause, expand, hex_layout, limbs_to_int, render, write_export
 
 
@@ -81,7 +81,7 @@ def test_write_export_is_atomic_and_complete(tmp_path: Path) -> None:
     out = write_export(s, tmp_path / "sub" / "c.hex", "hex")
     assert out.read_text() == render(s, "hex")
     assert [p.name for p in out.parent.iterdir()] == ["c.hex"]  # no temporary file left behind
-    with pytest.raises(NotationError):
+    with pytest.raises(UsageError, match="format"):
         write_export(s, tmp_path / "x.bin", "bin")
     assert not (tmp_path / "x.bin").exists()
 

@@ -56,6 +56,7 @@ from memcheck.faults.universe import (
     pair_table_neighbours,
     parse_classes,
     parse_universe,
+    require_layout,
     sample_class,
     sof_contexts,
     word_pair_key,
@@ -201,6 +202,7 @@ class CoverageReport:
             "notation": self.notation,
             "layout": None if s.layout is None else f"{s.layout[0]}x{s.layout[1]}",
             "order": s.order,
+            "any_order": s.any_order,
             "backgrounds": list(self.backgrounds),
             "seed": self.universe.seed,
             "escapes": escapes,
@@ -435,10 +437,7 @@ def coverage(
         examples = tally.results
     else:
         if uni.kind == "neighbours" and setup.layout is None:
-            raise FaultModelError(
-                "the neighbours universe needs the physical layout: give --layout ROWSxCOLS "
-                "(rows x column-mux words, rows*cols = words)"
-            )
+            require_layout(setup)
         _single_cell(plan, [c for c in cls_list if models_of(c) and not models_of(c)[0].two_cell], tally)
         _two_cell(plan, [c for c in cls_list if c in TWO_CELL_CLASSES], uni.kind, tally)
         if "SOF" in cls_list:

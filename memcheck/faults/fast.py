@@ -151,7 +151,7 @@ class Plan:
     def build(cls, test: MarchTest, setup: Arrangement) -> Plan:
         rs = setup.resolve()
         check_consistent(test, rs.nbg)
-        return cls(test, setup, rs, schedule(test, rs.nbg))
+        return cls(test, setup, rs, schedule(test, rs.nbg, setup.any_order))
 
     def stream(self, relation: str) -> Stream:
         if relation not in self._streams:

@@ -52,6 +52,7 @@ def _events(test: MarchTest, setup: Arrangement) -> list[_Event]:
         order=setup.order,
         backgrounds=setup.background_spec,
         seed=setup.seed,
+        any_order=setup.any_order,
     )
     out: list[_Event] = []
     for item in stream.steps():
