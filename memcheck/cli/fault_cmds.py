@@ -163,7 +163,6 @@ def coverage_cmd(
         )
     lay, words = layout_and_words(layout, words)
     used_seed = resolve_seed(seed)
-    click.echo(f"{click.get_current_context().command_path}: seed {used_seed}")
     setup = Arrangement(
         words,
         width,
@@ -175,6 +174,7 @@ def coverage_cmd(
     )
     classes = parse_classes(fault_classes)
     uni = parse_universe(universe, used_seed)
+    click.echo(f"{click.get_current_context().command_path}: seed {used_seed}")
     reports = [coverage(t, setup, classes=classes, universe=uni) for t in tests]
     console = Console(width=100)
     first = reports[0]

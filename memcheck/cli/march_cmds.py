@@ -134,8 +134,8 @@ def patterns(
         any_order=any_order,
         seed=seed,
     )
-    lay_h = hex_layout(stream)
     click.echo(f"{click.get_current_context().command_path}: seed {seed}", err=True)
+    lay_h = hex_layout(stream)
     summary = (
         f"{test.name or 'custom test'}: {stream.total_ops} operations = {test.length} x {words} words x "
         f"{len(stream.backgrounds)} background(s) [{', '.join(b.name for b in stream.backgrounds)}], "
