@@ -20,6 +20,7 @@ import time
 import tracemalloc
 from collections import Counter
 from collections.abc import Callable
+from functools import partial
 from typing import TypeVar
 
 from memcheck.faults.coverage import CoverageReport, coverage
@@ -90,7 +91,7 @@ def bench_b() -> None:
         ("4096 x 1, lfsr order", Arrangement(4096, order="lfsr", seed=1)),
         ("128 x 32, standard backgrounds", Arrangement(128, 32)),
     ):
-        rep, dt, mem = measured(lambda setup=setup: coverage("March SS", setup, classes=STATIC_TWO_CELL), repeat=3)
+        rep, dt, mem = measured(partial(coverage, "March SS", setup, classes=STATIC_TWO_CELL), repeat=3)
         cov = sum(c.detected for c in rep.classes) / total(rep)
         print(
             f"    {label:32s} {total(rep):>14,} faults {dt:8.3f} s   peak {mem:7.1f} MiB   "
@@ -104,7 +105,7 @@ def bench_c() -> None:
         ("1,048,576 x 1, layout 1024x1024", Arrangement(1 << 20, layout=(1024, 1024))),
         ("32,768 x 32, layout 1024x32", Arrangement(1 << 15, 32, layout=(1024, 32))),
     ):
-        rep, dt, mem = measured(lambda setup=setup: coverage("March SS", setup, universe="neighbours"))
+        rep, dt, mem = measured(partial(coverage, "March SS", setup, universe="neighbours"))
         print(
             f"    {label:32s} {total(rep):>14,} faults {dt:8.3f} s   peak {mem:7.1f} MiB   "
             f"({'meets' if dt < 30 else 'MISSES'} < 30 s)"

@@ -13,15 +13,15 @@ from hypothesis import strategies as st
 
 from memcheck.faults.coverage import CoverageReport, coverage
 from memcheck.faults.geometry import Arrangement
-from memcheck.march.notation import MarchElement, MarchOp, MarchTest
-from tests.fault_strategies import march_tests
+from memcheck.march.notation import Bit, MarchElement, MarchOp, MarchTest
+from tests.fault_strategies import BITS, ORDERS, flip, march_tests
 
 STATIC_SINGLE = ("SAF", "TF", "WDF", "RDF", "DRDF", "IRF")
 STATIC_TWO_CELL = ("CFst", "CFds", "CFtr", "CFwd", "CFrd", "CFdrd", "CFir")
 
 
-def _report(test: str, words: int = 8, **kw: object) -> CoverageReport:
-    return coverage(test, Arrangement(words, **kw))  # type: ignore[arg-type]
+def _report(test: str, words: int = 8, order: str = "linear") -> CoverageReport:
+    return coverage(test, Arrangement(words, order=order))
 
 
 def _full(report: CoverageReport, classes: tuple[str, ...]) -> dict[str, float]:
@@ -105,26 +105,26 @@ def test_word_oriented_backgrounds_expose_intra_word_coupling() -> None:
 @st.composite
 def _af_condition_tests(draw: st.DrawFn) -> MarchTest:
     """Tests holding ⇑(rx,…,w¬x) and ⇓(r¬x,…,wx) with the memory at x when the ⇑ element starts."""
-    x = draw(st.sampled_from((0, 1)))
+    x = draw(st.sampled_from(BITS))
     prefix = draw(march_tests(max_elements=2, max_ops=3, delays=False)).elements if draw(st.booleans()) else ()
 
-    def middle(start: int) -> list[MarchOp]:
+    def middle(start: Bit) -> list[MarchOp]:
         ops, state = [], start
         for _ in range(draw(st.integers(0, 3))):
             if draw(st.booleans()):
-                state = draw(st.sampled_from((0, 1)))
+                state = draw(st.sampled_from(BITS))
                 ops.append(MarchOp("w", state))
             else:
                 ops.append(MarchOp("r", state))
         return ops
 
-    up = MarchElement("up", (MarchOp("r", x), *middle(x), MarchOp("w", 1 - x)))
-    down = MarchElement("down", (MarchOp("r", 1 - x), *middle(1 - x), MarchOp("w", x)))
-    init = MarchElement(draw(st.sampled_from(("up", "down", "any"))), (MarchOp("w", x),))
-    between = (MarchElement("any", (MarchOp("r", 1 - x),)),) if draw(st.booleans()) else ()
+    up = MarchElement("up", (MarchOp("r", x), *middle(x), MarchOp("w", flip(x))))
+    down = MarchElement("down", (MarchOp("r", flip(x)), *middle(flip(x)), MarchOp("w", x)))
+    init = MarchElement(draw(st.sampled_from(ORDERS)), (MarchOp("w", x),))
+    between = (MarchElement("any", (MarchOp("r", flip(x)),)),) if draw(st.booleans()) else ()
     pair = (up, *between, down) if draw(st.booleans()) else (down, up)
     if pair[0] is down:  # start the ⇓ element from ¬x instead
-        init = MarchElement(init.order, (MarchOp("w", 1 - x),))
+        init = MarchElement(init.order, (MarchOp("w", flip(x)),))
     return MarchTest((*prefix, init, *pair))
 
 

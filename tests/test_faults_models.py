@@ -3,6 +3,8 @@
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
+from typing import cast
 
 import numpy as np
 import pytest
@@ -12,7 +14,7 @@ from hypothesis import strategies as st
 from memcheck.errors import FaultModelError
 from memcheck.faults.coverage import coverage, wilson_interval
 from memcheck.faults.geometry import Arrangement
-from memcheck.faults.instances import Cell, CellFault, CouplingFault, DecoderFault, StuckOpenFault
+from memcheck.faults.instances import Cell, CellFault, CouplingFault, DecoderFault, DecoderKind, StuckOpenFault
 from memcheck.faults.primitives import (
     SINGLE_CELL_MODELS,
     TWO_CELL_MODELS,
@@ -144,12 +146,12 @@ def test_instance_descriptions() -> None:
         lambda: DecoderFault("no-cell", 1, 2),
         lambda: DecoderFault("extra-cell", 1, 2),
         lambda: DecoderFault("wrong-cell", 1, 1),
-        lambda: DecoderFault("nowhere", 1),
+        lambda: DecoderFault(cast(DecoderKind, "nowhere"), 1),
         lambda: CouplingFault(model_named("CFst<0;0>"), Cell(1), Cell(1)),
         lambda: CellFault(model_named("CFst<0;0>"), Cell(1)),
     ],
 )
-def test_bad_instances_are_rejected(bad) -> None:  # type: ignore[no-untyped-def]
+def test_bad_instances_are_rejected(bad: Callable[[], object]) -> None:
     with pytest.raises(FaultModelError):
         bad()
 

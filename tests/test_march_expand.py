@@ -3,6 +3,8 @@ fault-free memory replay."""
 
 from __future__ import annotations
 
+from typing import Any
+
 import numpy as np
 import pytest
 from hypothesis import given, settings
@@ -284,10 +286,10 @@ def test_any_order_down() -> None:
     ],
 )
 def test_impossible_requests(kwargs: dict[str, object], error: type[Exception]) -> None:
-    args: dict[str, object] = {"test": "MATS+", "words": 16, "width": 8}
+    args: dict[str, Any] = {"test": "MATS+", "words": 16, "width": 8}
     args.update(kwargs)
     with pytest.raises(error):
-        expand(**args)  # type: ignore[arg-type]
+        expand(**args)
 
 
 def test_collect_refuses_huge_streams() -> None:

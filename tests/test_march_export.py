@@ -8,6 +8,7 @@ import json
 import shutil
 import subprocess
 from pathlib import Path
+from typing import Any
 
 import pytest
 
@@ -50,8 +51,8 @@ def _decode_hex(text: str, s: MarchStream) -> list[tuple[int, int, int, int]]:
         ("March SS", 300, 1024, {"backgrounds": "checkerboard", "order": "lfsr", "seed": 9}),
     ],
 )
-def test_hex_packing_round_trips(name: str, words: int, width: int, kw: dict[str, object]) -> None:
-    s = expand(name, words, width, chunk_ops=333, **kw)  # type: ignore[arg-type]
+def test_hex_packing_round_trips(name: str, words: int, width: int, kw: dict[str, Any]) -> None:
+    s = expand(name, words, width, chunk_ops=333, **kw)
     text = render(s, "hex")
     assert _decode_hex(text, s) == _expected_records(s)
     lay = hex_layout(s)
@@ -110,13 +111,13 @@ endmodule
     ],
 )
 def test_readmemh_in_icarus_reads_back_the_stream(
-    tmp_path: Path, name: str, words: int, width: int, kw: dict[str, object]
+    tmp_path: Path, name: str, words: int, width: int, kw: dict[str, Any]
 ) -> None:
     """IEEE Std 1364-2005 section 17.2.9: $readmemh loads one hex word per line and skips // comments."""
     iverilog, vvp = shutil.which("iverilog"), shutil.which("vvp")
     if not iverilog or not vvp:
         pytest.skip("Icarus Verilog not installed")
-    s = expand(name, words, width, **kw)  # type: ignore[arg-type]
+    s = expand(name, words, width, **kw)
     hex_path = write_export(s, tmp_path / "stream.hex", "hex")
     want = _expected_records(s)
     lay = hex_layout(s)

@@ -339,6 +339,30 @@ def _cell_results(plan: Plan, faults: Sequence[CellFault | CouplingFault]) -> li
 # ---------------------------------------------------------------------------------------------------
 
 
+def _last_writes(slots: Sequence[Slot]) -> list[int]:
+    """Per slot, the index of the last write slot before it (-1: none yet)."""
+    out: list[int] = []
+    lw = -1
+    for i, s in enumerate(slots):
+        out.append(lw)
+        if s.kind == "w":
+            lw = i
+    return out
+
+
+def _reading_visits(slots: Sequence[Slot]) -> list[tuple[Slot, list[int]]]:
+    """Each (background, element) pass that reads: its first slot and the indices of its read slots."""
+    visits: list[tuple[Slot, list[int]]] = []
+    for i, s in enumerate(slots):
+        if s.kind == "T":
+            continue
+        if not visits or (visits[-1][0].background, visits[-1][0].element) != (s.background, s.element):
+            visits.append((s, []))
+        if s.kind == "r":
+            visits[-1][1].append(i)
+    return [v for v in visits if v[1]]
+
+
 def sof_detection(plan: Plan, words: IntArray, bits: IntArray) -> tuple[BoolArray, BoolArray]:
     """Whether some compared read of each stuck-open cell differs, for data-out latch power-up 0 and 1.
 
@@ -350,12 +374,7 @@ def sof_detection(plan: Plan, words: IntArray, bits: IntArray) -> tuple[BoolArra
     rs, slots = plan.rs, plan.slots
     n = plan.setup.words
     up = rs.up
-    last_write: list[int] = []
-    lw = -1
-    for i, s in enumerate(slots):
-        last_write.append(lw)
-        if s.kind == "w":
-            lw = i
+    last_write = _last_writes(slots)
     codes_cls = rs.class_codes()
 
     def good_value(u: IntArray, t: int) -> IntArray:
@@ -365,15 +384,7 @@ def sof_detection(plan: Plan, words: IntArray, bits: IntArray) -> tuple[BoolArra
             return np.zeros(len(u), np.int64)
         return ((codes_cls[rs.wclass[u], bits] >> slots[w].background) & 1) ^ slots[w].value
 
-    visits: list[tuple[Slot, list[int]]] = []  # (first slot of the visit, read slot indices)
-    for i, s in enumerate(slots):
-        if s.kind == "T":
-            continue
-        if not visits or (visits[-1][0].background, visits[-1][0].element) != (s.background, s.element):
-            visits.append((s, []))
-        if s.kind == "r":
-            visits[-1][1].append(i)
-    visits = [v for v in visits if v[1]]
+    visits = _reading_visits(slots)
     p = rs.pos[words]
     det = [np.zeros(len(words), bool), np.zeros(len(words), bool)]
     for vi, (first, reads) in enumerate(visits):
