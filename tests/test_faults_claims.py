@@ -1,6 +1,9 @@
 """Published claims about March tests, reproduced by the fault simulator.
 
-Each check names its source. Where a claim is written from memory of the source, it says so.
+Each check names its source. None of the claims below was checked against a table, figure or page
+of its publication: each is flagged "value written from memory; table/page not checked", so a
+reader knows which to verify first. What the simulator itself computes is checked elsewhere against
+an independent second engine (tests/test_faults_engines.py).
 Memories are small (the claims are about every address, so 8 words already exercise every relative
 position) and bit-oriented unless stated.
 """
@@ -30,7 +33,7 @@ def _full(report: CoverageReport, classes: tuple[str, ...]) -> dict[str, float]:
 
 def test_mats_plus_detects_saf_and_af_not_all_tf() -> None:
     # A.J. van de Goor, "Testing Semiconductor Memories: Theory and Practice", Wiley, 1991 (MATS+ detects
-    # all SAFs and AFs; transition faults need MATS++).
+    # all SAFs and AFs; transition faults need MATS++). value written from memory; table/page not checked.
     r = _report("MATS+")
     assert _full(r, ("SAF", "AF")) == {"SAF": 1.0, "AF": 1.0}
     assert r["TF"].coverage < 1.0
@@ -39,13 +42,15 @@ def test_mats_plus_detects_saf_and_af_not_all_tf() -> None:
 
 
 def test_mats_plus_plus_adds_tf() -> None:
-    # van de Goor 1991 (as above): MATS++ detects all SAFs, AFs and TFs.
+    # van de Goor 1991 (as above): MATS++ detects all SAFs, AFs and TFs. value written from memory; table/page not
+    # checked.
     r = _report("MATS++")
     assert _full(r, ("SAF", "AF", "TF")) == {"SAF": 1.0, "AF": 1.0, "TF": 1.0}
 
 
 def test_march_x_adds_cfin() -> None:
-    # van de Goor 1991 (as above): March X detects SAFs, AFs, TFs and CFins.
+    # van de Goor 1991 (as above): March X detects SAFs, AFs, TFs and CFins. value written from memory; table/page not
+    # checked.
     r = _report("March X")
     assert _full(r, ("SAF", "AF", "TF", "CFin")) == dict.fromkeys(("SAF", "AF", "TF", "CFin"), 1.0)
     assert _report("MATS++")["CFin"].coverage < 1.0  # what March X adds
@@ -54,6 +59,7 @@ def test_march_x_adds_cfin() -> None:
 def test_march_c_minus_unlinked_faults() -> None:
     # A.J. van de Goor, "Using March Tests to Test SRAMs", IEEE Design & Test of Computers 10(1), 1993:
     # March C- detects all unlinked SAFs, TFs, AFs, CFins, CFids and CFsts (aggressor below and above).
+    # Value written from memory; table/page not checked.
     classes = ("SAF", "TF", "AF", "CFin", "CFid", "CFst")
     r = _report("March C-")
     assert _full(r, classes) == dict.fromkeys(classes, 1.0)
@@ -64,7 +70,8 @@ def test_march_c_minus_unlinked_faults() -> None:
 def test_march_ss_detects_all_static_simple_faults() -> None:
     # S. Hamdioui, A.J. van de Goor and M. Rodgers, "March SS: a Test for All Static Simple RAM Faults",
     # IEEE MTDT, 2002: all static simple single-cell and two-cell faults, including the read-disturb
-    # faults (DRDF, CFdrd) and write-disturb faults (WDF, CFwd) that March C- misses.
+    # faults (DRDF, CFdrd) and write-disturb faults (WDF, CFwd) that March C- misses. Value written from
+    # memory; table/page not checked.
     r = _report("March SS")
     assert _full(r, STATIC_SINGLE + STATIC_TWO_CELL) == dict.fromkeys(STATIC_SINGLE + STATIC_TWO_CELL, 1.0)
     c = _report("March C-")
@@ -75,21 +82,24 @@ def test_march_ss_detects_all_static_simple_faults() -> None:
 
 
 def test_retention_needs_a_pause() -> None:
-    # van de Goor 1991 (as above): data-retention faults need delay elements (March G has two).
+    # van de Goor 1991 (as above): data-retention faults need delay elements (March G has two). Value
+    # written from memory; table/page not checked.
     assert _report("March G")["DRF"].coverage == 1.0
     assert _report("March SS")["DRF"].coverage == 0.0
 
 
 def test_stuck_open_needs_a_read_after_the_write() -> None:
-    # van de Goor 1991 (as above), from memory: MATS++ detects stuck-open faults thanks to the final
-    # r0 of ⇓(r1,w0,r0), which reads a value different from the read just before it; MATS+ does not.
+    # van de Goor 1991 (as above): MATS++ detects stuck-open faults thanks to the final r0 of
+    # ⇓(r1,w0,r0), which reads a value different from the read just before it; MATS+ does not.
+    # Value written from memory; table/page not checked.
     assert _report("MATS++")["SOF"].coverage == 1.0
     assert _report("MATS+")["SOF"].coverage < 1.0
 
 
 def test_word_oriented_backgrounds_expose_intra_word_coupling() -> None:
     # A.J. van de Goor and I.B.S. Tlili, "A Systematic Method for Modifying March Tests for Bit-Oriented
-    # Memories into Tests for Word-Oriented Memories", IEEE Trans. Computers 52(10), 2003, from memory:
+    # Memories into Tests for Word-Oriented Memories", IEEE Trans. Computers 52(10), 2003 (value written
+    # from memory; table/page not checked):
     # with one solid background the two bits of a word are always written alike, so half the intra-word
     # state and idempotent coupling faults escape; the log2(width)+1 standard backgrounds catch them.
     solid = coverage("March C-", Arrangement(4, 4, backgrounds="solid"), classes="CFst,CFid")
@@ -133,16 +143,17 @@ def _af_condition_tests(draw: st.DrawFn) -> MarchTest:
     test=_af_condition_tests(), words=st.integers(2, 9), order=st.sampled_from(("linear", "gray", "complement", "lfsr"))
 )
 def test_sufficient_condition_for_address_decoder_faults(test: MarchTest, words: int, order: str) -> None:
-    # van de Goor 1991 (as above), condition as we recall it: a March test containing ⇑(rx,…,w¬x) and
-    # ⇓(r¬x,…,wx) detects all address-decoder faults, for any address order whose ⇓ is the reverse of ⇑
-    # (with our read conventions: no cell reached -> a fixed unknown value; two cells -> wired AND/OR).
+    # van de Goor 1991 (as above; condition written from memory, table/page not checked): a March test containing
+    # ⇑(rx,…,w¬x) and ⇓(r¬x,…,wx) detects all address-decoder faults, for any address order whose ⇓ is the reverse of
+    # ⇑ (with our read conventions: no cell reached -> a fixed unknown value; two cells -> wired AND/OR).
     assert coverage(test, Arrangement(words, order=order), classes="AF")["AF"].coverage == 1.0
 
 
 @pytest.mark.parametrize("test", ["MATS+", "March C-", "March SS"])
 def test_claims_hold_for_every_address_order(test: str) -> None:
     # van de Goor 1991 (as above): up and down only need to be each other's reverse, so a March test's
-    # coverage of these classes does not depend on the address order.
+    # coverage of these classes does not depend on the address order. Value written from memory;
+    # table/page not checked.
     base = _report(test)
     for order in ("gray", "complement", "lfsr"):
         other = _report(test, order=order)

@@ -38,7 +38,7 @@ from memcheck.faults.universe import (
 def test_two_cell_static_primitives_are_the_36_of_the_taxonomy() -> None:
     # A.J. van de Goor and Z. Al-Ars, "Functional Memory Faults: A Formal Notation and a Taxonomy",
     # IEEE VLSI Test Symposium, 2000: 36 static two-cell FPs — CFst 4, CFds 12, CFtr 4, CFwd 4, CFrd 4,
-    # CFdrd 4, CFir 4 (counts from memory).
+    # CFdrd 4, CFir 4 (counts: value written from memory; table/page not checked).
     counts = {c: len(models_of(c)) for c in ("CFst", "CFds", "CFtr", "CFwd", "CFrd", "CFdrd", "CFir")}
     assert counts == {"CFst": 4, "CFds": 12, "CFtr": 4, "CFwd": 4, "CFrd": 4, "CFdrd": 4, "CFir": 4}
     notations = {p.notation for c in counts for m in models_of(c) for p in m.primitives}
@@ -62,6 +62,7 @@ def test_two_cell_static_primitives_are_the_36_of_the_taxonomy() -> None:
 def test_classic_coupling_faults_as_primitives() -> None:
     # van de Goor 1991 ("Testing Semiconductor Memories"): CFin <↑;↕> inverts the victim on an up
     # transition of the aggressor; CFid <↑;1> forces it to 1. As FPs: <0w1;0/1/-> and <0w1;1/0/->.
+    # Definitions written from memory; table/page not checked.
     cfin = model_named("CFin<↑;↕>")
     assert cfin.notation == "<0w1;0/1/->, <0w1;1/0/->"
     assert [aggressor_op(cfin, 0, v, "w", 1) for v in (0, 1)] == [1, 0]
@@ -195,7 +196,8 @@ def test_sample_universe_reports_wilson_interval() -> None:
 )
 def test_wilson_interval_published_values(k: int, n: int, lo: float, hi: float) -> None:
     # R.G. Newcombe, "Two-Sided Confidence Intervals for the Single Proportion: Comparison of Seven
-    # Methods", Statistics in Medicine 17, 1998, Table II, Wilson score method (values from memory).
+    # Methods", Statistics in Medicine 17, 1998, Table II, Wilson score method (values written from
+    # memory; the table itself was not rechecked).
     got = wilson_interval(k, n)
     assert got == pytest.approx((lo, hi), abs=6e-5)
 
@@ -204,7 +206,7 @@ def test_wilson_interval_published_values(k: int, n: int, lo: float, hi: float) 
 @given(n=st.integers(1, 10_000), data=st.data())
 def test_wilson_bounds_solve_the_score_equation(n: int, data: st.DataObject) -> None:
     # E.B. Wilson, "Probable Inference, the Law of Succession, and Statistical Inference", JASA 22, 1927:
-    # the bounds are the p where |p_hat - p| = z sqrt(p(1-p)/n).
+    # the bounds are the p where |p_hat - p| = z sqrt(p(1-p)/n) (the defining equation; no table).
     k = data.draw(st.integers(0, n))
     z = 1.959963984540054
     for p in wilson_interval(k, n):

@@ -14,7 +14,8 @@ from memcheck.march import background_words, int_to_limbs, limbs_to_int, resolve
 def test_standard_set_for_bytes_matches_the_published_backgrounds() -> None:
     # A.J. van de Goor and I.B.S. Tlili, "A Systematic Method for Modifying March Tests for
     # Bit-Oriented Memories into Tests for Word-Oriented Memories", IEEE Trans. Computers, 2003:
-    # ceil(log2 B) + 1 backgrounds; for B = 8: 00000000, 01010101, 00110011, 00001111 (values from memory).
+    # ceil(log2 B) + 1 backgrounds; for B = 8: 00000000, 01010101, 00110011, 00001111 (values written
+    # from memory; table/page not checked).
     got = [format(b.base, "08b") for b in standard_set(8)]
     assert got == ["00000000", "01010101", "00110011", "00001111"]
 

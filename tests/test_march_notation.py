@@ -68,7 +68,7 @@ def test_arbitrary_text_raises_only_notation_error(text: str) -> None:
 
 def test_march_c_minus_prints_as_published() -> None:
     # A.J. van de Goor, "Using March Tests to Test SRAMs", IEEE Design & Test of Computers, 1993
-    # (notation from memory).
+    # (notation: value written from memory; table/page not checked).
     t = parse_march("{⇕(w0); ⇑(r0,w1); ⇑(r1,w0); ⇓(r0,w1); ⇓(r1,w0); ⇕(r0)}")
     assert t.length == 10
     assert t.to_unicode() == "{⇕(w0); ⇑(r0,w1); ⇑(r1,w0); ⇓(r0,w1); ⇓(r1,w0); ⇕(r0)}"

@@ -91,7 +91,8 @@ def _prime_factors(n: int) -> set[int]:
 def test_lfsr_polynomials_are_primitive(bits: int) -> None:
     # A degree-n polynomial over GF(2) gives a maximal-length (2^n - 1) LFSR iff it is primitive:
     # x^(2^n-1) = 1 and x^((2^n-1)/q) != 1 for every prime q dividing 2^n - 1 (R. Lidl and
-    # H. Niederreiter, "Finite Fields", 1997, order of a polynomial). Checked by algebra, independently
+    # H. Niederreiter, "Finite Fields", 1997, order of a polynomial; theorem written from memory, page not
+    # checked). Checked by algebra, independently
     # of the shift-register code.
     p = (1 << bits) | 1
     for t in LFSR_TAPS[bits][1:]:
