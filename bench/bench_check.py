@@ -20,7 +20,7 @@ ratios. Target: the whole property phase in bulk mode within 2x of the plain tes
 timed on the same cycles, so the ratio compares the same work.
 
 With ``--wall`` it also runs a default ``memcheck check`` (build included, fresh output folder) on
-every rtl_examples wrapper and prints verdict, minimal trace length and wall time.
+every example wrapper and prints verdict, minimal trace length and wall time.
 
     .venv/bin/python bench/bench_check.py [--bulk-examples N] [--examples N] [--wall]
 """
@@ -38,6 +38,7 @@ import tomllib
 from pathlib import Path
 
 from memcheck.contract import load_contract
+from memcheck.examples import examples_dir
 from memcheck.sim.build import build
 from memcheck.sim.engine import RunOptions
 from memcheck.sim.launch import run_job
@@ -204,8 +205,8 @@ def bench_long_batches(cycles: int, seed: int) -> None:
 
 
 def bench_examples_wall() -> None:
-    index = tomllib.loads((ROOT / "rtl_examples" / "index.toml").read_text())["example"]
-    print("\ndefault `memcheck check` (build included) on each rtl_examples wrapper:")
+    index = tomllib.loads((examples_dir() / "index.toml").read_text())["example"]
+    print("\ndefault `memcheck check` (build included) on each example wrapper:")
     for ex in index:
         out = Path(tempfile.mkdtemp(prefix="memcheck-wall-"))
         t0 = time.perf_counter()
@@ -215,7 +216,7 @@ def bench_examples_wall() -> None:
                 "-m",
                 "memcheck",
                 "check",
-                str(ROOT / "rtl_examples" / ex["contract"]),
+                str(examples_dir() / ex["contract"]),
                 "--seed",
                 "1",
                 "--out",
@@ -250,7 +251,7 @@ def main() -> None:
     ap.add_argument("--max-blocks", type=int, default=12)
     ap.add_argument("--seed", type=int, default=1)
     ap.add_argument("--long-cycles", type=int, default=100_000, help="cycles of the long-batch measurement")
-    ap.add_argument("--wall", action="store_true", help="also time a default check of every rtl_examples wrapper")
+    ap.add_argument("--wall", action="store_true", help="also time a default check of every example wrapper")
     args = ap.parse_args()
     ratio = bench_property(
         "property phase, bulk mode, 1K x 32 single port", 0, args.bulk_examples, args.max_blocks, args.seed

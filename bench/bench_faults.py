@@ -20,12 +20,13 @@ import time
 import tracemalloc
 from collections import Counter
 from collections.abc import Callable
+from functools import partial
 from typing import TypeVar
 
 from memcheck.faults.coverage import CoverageReport, coverage
-from memcheck.faults.engine import simulate
-from memcheck.faults.geometry import SimSetup
-from memcheck.faults.naive import simulate_naive
+from memcheck.faults.fast import simulate
+from memcheck.faults.geometry import Arrangement
+from memcheck.faults.reference import simulate_reference
 from memcheck.faults.universe import CLASSES, enumerate_class
 from memcheck.march.library import resolve_test
 
@@ -56,11 +57,11 @@ def total(report: CoverageReport) -> int:
 
 def bench_a(words: int) -> None:
     test = resolve_test("March C-")
-    setup = SimSetup(words)
+    setup = Arrangement(words)
     faults = [f for cls in CLASSES for f in enumerate_class(cls, setup)]
     print(f"(a) {len(faults):,} faults (every class, all universe), {words} words x 1 bit, March C-")
     ref, t_ref, m_ref = measured(
-        lambda: simulate_naive(test, faults, setup), trace=lambda: simulate_naive(test, faults[::50], setup)
+        lambda: simulate_reference(test, faults, setup), trace=lambda: simulate_reference(test, faults[::50], setup)
     )
     fast, t_fast, m_fast = measured(lambda: simulate(test, faults, setup), repeat=3)
     rep, t_cov, m_cov = measured(lambda: coverage(test, setup, universe="all"), repeat=5)
@@ -86,11 +87,11 @@ def bench_a(words: int) -> None:
 def bench_b() -> None:
     print("(b) every static two-cell fault (36 primitives) over every ordered cell pair, March SS, 4,096 bits")
     for label, setup in (
-        ("4096 x 1, linear", SimSetup(4096)),
-        ("4096 x 1, lfsr order", SimSetup(4096, order="lfsr", seed=1)),
-        ("128 x 32, standard backgrounds", SimSetup(128, 32)),
+        ("4096 x 1, linear", Arrangement(4096)),
+        ("4096 x 1, lfsr order", Arrangement(4096, order="lfsr", seed=1)),
+        ("128 x 32, standard backgrounds", Arrangement(128, 32)),
     ):
-        rep, dt, mem = measured(lambda setup=setup: coverage("March SS", setup, classes=STATIC_TWO_CELL), repeat=3)
+        rep, dt, mem = measured(partial(coverage, "March SS", setup, classes=STATIC_TWO_CELL), repeat=3)
         cov = sum(c.detected for c in rep.classes) / total(rep)
         print(
             f"    {label:32s} {total(rep):>14,} faults {dt:8.3f} s   peak {mem:7.1f} MiB   "
@@ -101,10 +102,10 @@ def bench_b() -> None:
 def bench_c() -> None:
     print("(c) neighbour universe, every class, March SS, 1 Mbit")
     for label, setup in (
-        ("1,048,576 x 1, layout 1024x1024", SimSetup(1 << 20, layout=(1024, 1024))),
-        ("32,768 x 32, layout 1024x32", SimSetup(1 << 15, 32, layout=(1024, 32))),
+        ("1,048,576 x 1, layout 1024x1024", Arrangement(1 << 20, layout=(1024, 1024))),
+        ("32,768 x 32, layout 1024x32", Arrangement(1 << 15, 32, layout=(1024, 32))),
     ):
-        rep, dt, mem = measured(lambda setup=setup: coverage("March SS", setup, universe="neighbours"))
+        rep, dt, mem = measured(partial(coverage, "March SS", setup, universe="neighbours"))
         print(
             f"    {label:32s} {total(rep):>14,} faults {dt:8.3f} s   peak {mem:7.1f} MiB   "
             f"({'meets' if dt < 30 else 'MISSES'} < 30 s)"

@@ -1,6 +1,6 @@
 """Benchmark: ``memcheck march run`` of March SS over the standard backgrounds on a 1K-word wrapper.
 
-Runs rtl_examples/scratchpad_banked (1024 words x 64 bits, 7 standard backgrounds: 157,696
+Runs memcheck/examples/scratchpad_banked (1024 words x 64 bits, 7 standard backgrounds: 157,696
 operations) under Icarus twice, each in a fresh Python process so peak memory is its own:
 
 * ``replay``: the earlier way, the replay job sends every cycle's comparison back as JSON;
@@ -25,8 +25,10 @@ import tempfile
 import time
 from pathlib import Path
 
+from memcheck.examples import examples_dir
+
 ROOT = Path(__file__).resolve().parents[1]
-CONTRACT = ROOT / "rtl_examples" / "scratchpad_banked" / "contract.toml"
+CONTRACT = examples_dir() / "scratchpad_banked" / "contract.toml"
 
 
 def one(contract: str, test: str, way: str, build_dir: str, out_dir: str) -> None:

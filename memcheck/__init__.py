@@ -15,6 +15,7 @@ from memcheck.contract import (
     parse_contract,
 )
 from memcheck.errors import (
+    BudgetError,
     ContractError,
     FaultModelError,
     InvalidOperation,
@@ -23,8 +24,9 @@ from memcheck.errors import (
     ReplayError,
     SimulationError,
     UnknownAlgorithm,
+    UsageError,
 )
-from memcheck.faults import CoverageReport, SimSetup, coverage, parse_universe, plot_coverage
+from memcheck.faults import Arrangement, CoverageReport, coverage, parse_universe, plot_coverage
 from memcheck.march import (
     ALGORITHMS,
     MarchStream,
@@ -45,6 +47,8 @@ __all__ = [
     "ALGORITHMS",
     "IDLE",
     "UNKNOWN",
+    "Arrangement",
+    "BudgetError",
     "Contract",
     "ContractError",
     "CoverageReport",
@@ -63,10 +67,10 @@ __all__ = [
     "ReplayError",
     "ResetSpec",
     "RtlSpec",
-    "SimSetup",
     "SimulationError",
     "Trace",
     "UnknownAlgorithm",
+    "UsageError",
     "__version__",
     "address_order",
     "coverage",

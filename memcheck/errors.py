@@ -1,5 +1,9 @@
 """One exception hierarchy for everything memcheck reports to a user.
 
+``MemcheckError`` > ``ContractError``, ``InvalidOperation``, ``NotationError`` (March notation
+only), ``UsageError`` (bad argument or option values), ``BudgetError`` (size and time limits),
+``UnknownAlgorithm``, ``FaultModelError``, ``SimulationError``, ``ReplayError``.
+
 Errors are raised where the cause is known (file, key, position) and rendered once,
 by the CLI, as a single paragraph with exit code 2.
 """
@@ -29,6 +33,17 @@ class NotationError(MemcheckError):
             pointer = " " * position + "^"
             message = f"{message}\n  {text}\n  {pointer}"
         super().__init__(message)
+
+
+class UsageError(MemcheckError):
+    """An argument or option value outside what a function or command accepts: a memory size or
+    layout that does not fit, an unknown address order, background or export format, a bad seed,
+    or options that do not go together."""
+
+
+class BudgetError(MemcheckError):
+    """A request over a size or time limit (too many operations, faults or cycles for the call that
+    was asked to hold them); the message names the limit and the way around it."""
 
 
 class UnknownAlgorithm(MemcheckError):

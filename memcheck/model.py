@@ -170,22 +170,7 @@ class Model:
                     writes.setdefault(op.address, []).append((i, op.data, bits))
 
         # 2. Contents after the edge, for every written address (old is still in the arrays).
-        after: dict[int, Expected] = {}
-        for addr, ws in writes.items():
-            old = self.peek(addr)
-            value, known = old.value, old.known
-            if len(ws) == 1 or m.write_collision == "first":
-                # Apply in reverse contract order so the earliest-listed port wins on shared bits.
-                for _, data, bits in reversed(ws):
-                    value = (value & ~bits) | (data & bits)
-                    known |= bits
-            else:
-                # Unknown write collision: every bit driven by any colliding write is unknown.
-                driven = 0
-                for _, _, bits in ws:
-                    driven |= bits
-                known &= ~driven
-            after[addr] = Expected(value & known, known)
+        after = {addr: self._after_writes(addr, ws) for addr, ws in writes.items()}
 
         # 3. The read result each port produces at this edge.
         entries: list[_Entry] = []
@@ -212,6 +197,23 @@ class Model:
             self._store(addr, e)
         self.cycle += 1
         return tuple(out)
+
+    def _after_writes(self, addr: int, ws: list[tuple[int, int, int]]) -> Expected:
+        """The word at ``addr`` after this edge's writes ``ws`` (port index, data, bit mask) to it."""
+        old = self.peek(addr)
+        value, known = old.value, old.known
+        if len(ws) == 1 or self.memory.write_collision == "first":
+            # Apply in reverse contract order so the earliest-listed port wins on shared bits.
+            for _, data, bits in reversed(ws):
+                value = (value & ~bits) | (data & bits)
+                known |= bits
+        else:
+            # Unknown write collision: every bit driven by any colliding write is unknown.
+            driven = 0
+            for _, _, bits in ws:
+                driven |= bits
+            known &= ~driven
+        return Expected(value & known, known)
 
     def run(self, cycles: Iterable[Sequence[PortOp]]) -> list[tuple[Expected, ...]]:
         """Step through many cycles; one result tuple per cycle."""

@@ -13,6 +13,7 @@ from memcheck.contract import Contract
 from memcheck.ops import Expected, PortOp
 
 Bits = list[int | None]
+_Write = tuple[int, int, Bits, list[bool]]  # port index, address, data bits, bit enables
 
 
 class NaiveOracle:
@@ -53,62 +54,22 @@ class NaiveOracle:
 
     def step(self, cycle: tuple[PortOp, ...]) -> tuple[Expected, ...]:
         m = self.m
-        w = m.width
         # writes to in-range addresses that enable at least one bit
-        writes = []
+        writes: list[_Write] = []
         for i, op in enumerate(cycle):
             if op.kind == "write" and op.address < m.words:
                 mask = self.lane_mask_bits(op.lanes)
                 if any(mask):
                     writes.append((i, op.address, self.bits_of(op.data), mask))
-        new_mem: dict[int, Bits] = {}
-        for addr in {a for _, a, _, _ in writes}:
-            mine = [x for x in writes if x[1] == addr]
-            old = self.mem[addr]
-            new = list(old)
-            for b in range(w):
-                drivers = [x for x in mine if x[3][b]]
-                if not drivers:
-                    continue
-                if len(mine) == 1:
-                    new[b] = drivers[0][2][b]
-                elif m.write_collision == "first":
-                    new[b] = drivers[0][2][b]  # writes are in contract port order
-                else:
-                    new[b] = None
-            new_mem[addr] = new
+        new_mem = {addr: self.written(addr, [x for x in writes if x[1] == addr]) for addr in {x[1] for x in writes}}
         # each port's result for this cycle
         for i, (port, op) in enumerate(zip(self.c.ports, cycle, strict=True)):
             if not port.can_read or op.kind == "idle":
                 self.history[i].append(("none", None))
-                continue
-            a = op.address
-            if op.kind == "write":
-                rule = m.read_during_write
-                if rule == "keep":
-                    self.history[i].append(("hold", None))
-                elif rule == "unknown" or a >= m.words:
-                    self.history[i].append(("result", [None] * w))
-                elif rule == "old":
-                    self.history[i].append(("result", list(self.mem[a])))
-                else:  # new
-                    self.history[i].append(("result", list(new_mem.get(a, self.mem[a]))))
-                continue
-            # a read
-            if a >= m.words:
-                self.history[i].append(("result", [None] * w))
-                continue
-            others = [x for x in writes if x[1] == a and x[0] != i]
-            if not others or m.collision == "old":
-                self.history[i].append(("result", list(self.mem[a])))
-            elif m.collision == "new":
-                self.history[i].append(("result", list(new_mem[a])))
+            elif op.kind == "write":
+                self.history[i].append(self.read_while_writing(op.address, new_mem))
             else:
-                got = list(self.mem[a])
-                for b in range(w):
-                    if any(x[3][b] for x in others):
-                        got[b] = None
-                self.history[i].append(("result", got))
+                self.history[i].append(("result", self.read(i, op.address, writes, new_mem)))
         # what each port shows before this edge
         out = []
         for i, port in enumerate(self.c.ports):
@@ -120,6 +81,45 @@ class NaiveOracle:
             self.mem[a] = bits
         self.cycle += 1
         return tuple(out)
+
+    def written(self, addr: int, mine: list[_Write]) -> Bits:
+        """The bits of ``addr`` after this edge's writes ``mine`` to it."""
+        new = list(self.mem[addr])
+        for b in range(self.m.width):
+            drivers = [x for x in mine if x[3][b]]
+            if not drivers:
+                continue
+            if len(mine) == 1 or self.m.write_collision == "first":
+                new[b] = drivers[0][2][b]  # writes are in contract port order
+            else:
+                new[b] = None
+        return new
+
+    def read_while_writing(self, a: int, new_mem: dict[int, Bits]) -> tuple[str, Bits | None]:
+        """The history entry of a readwrite port that writes ``a`` this cycle."""
+        rule = self.m.read_during_write
+        if rule == "keep":
+            return ("hold", None)
+        if rule == "unknown" or a >= self.m.words:
+            return ("result", [None] * self.m.width)
+        if rule == "old":
+            return ("result", list(self.mem[a]))
+        return ("result", list(new_mem.get(a, self.mem[a])))  # new
+
+    def read(self, i: int, a: int, writes: list[_Write], new_mem: dict[int, Bits]) -> Bits:
+        """The bits port ``i`` reads at ``a`` this cycle, given the other ports' writes."""
+        if a >= self.m.words:
+            return [None] * self.m.width
+        others = [x for x in writes if x[1] == a and x[0] != i]
+        if not others or self.m.collision == "old":
+            return list(self.mem[a])
+        if self.m.collision == "new":
+            return list(new_mem[a])
+        got = list(self.mem[a])
+        for b in range(self.m.width):
+            if any(x[3][b] for x in others):
+                got[b] = None
+        return got
 
     def shown(self, port: int, j: int) -> Expected:
         """Read data shown when the result of cycle j comes due, by looking back in history."""

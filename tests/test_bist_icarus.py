@@ -23,13 +23,14 @@ from memcheck.bist.adapter import choose_port
 from memcheck.bist.microcode import EnginePlan, plan_engine
 from memcheck.bist.verify import UnitResult, run_on_wrapper, run_units, verify_engine
 from memcheck.contract import Contract, PortSpec, load_contract
+from memcheck.examples import examples_dir
 from memcheck.march import algorithm_names, limbs_to_int
 
 pytestmark = pytest.mark.icarus
 
 ORDERS = ("linear", "complement", "gray", "lfsr")
 BACKGROUNDS = ("solid", "standard")
-EXAMPLES = Path(__file__).resolve().parent.parent / "rtl_examples"
+EXAMPLES = examples_dir()
 SEED = 11  # LFSR start state for every lfsr engine here (printed in failures via the plan)
 
 

@@ -16,9 +16,10 @@ from memcheck.bist.microcode import plan_engine
 from memcheck.bist.verilog import engine_verilog
 from memcheck.cli import main
 from memcheck.contract import load_contract
+from memcheck.examples import examples_dir
 from memcheck.march import algorithm_names
 
-EXAMPLES = Path(__file__).resolve().parent.parent / "rtl_examples"
+EXAMPLES = examples_dir()
 pytestmark = pytest.mark.skipif(
     not (shutil.which("verilator") and shutil.which("yosys")),
     reason="Verilator and Yosys are not installed (tools/ensure-eda.sh installs them)",

@@ -12,9 +12,10 @@ from memcheck.bist.microcode import KIND_PAUSE, plan_engine
 from memcheck.bist.verilog import engine_verilog
 from memcheck.cli import main
 from memcheck.errors import BistError, MemcheckError
+from memcheck.examples import examples_dir
 from memcheck.march import AddressOrder, algorithm_names
 
-EXAMPLES = Path(__file__).resolve().parent.parent / "rtl_examples"
+EXAMPLES = examples_dir()
 
 
 @pytest.mark.parametrize("kind", ["linear", "complement", "gray", "lfsr"])

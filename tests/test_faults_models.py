@@ -3,6 +3,8 @@
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
+from typing import cast
 
 import numpy as np
 import pytest
@@ -11,8 +13,8 @@ from hypothesis import strategies as st
 
 from memcheck.errors import FaultModelError
 from memcheck.faults.coverage import coverage, wilson_interval
-from memcheck.faults.geometry import SimSetup
-from memcheck.faults.instances import Cell, CellFault, CouplingFault, DecoderFault, StuckOpenFault
+from memcheck.faults.geometry import Arrangement
+from memcheck.faults.instances import Cell, CellFault, CouplingFault, DecoderFault, DecoderKind, StuckOpenFault
 from memcheck.faults.primitives import (
     SINGLE_CELL_MODELS,
     TWO_CELL_MODELS,
@@ -36,7 +38,7 @@ from memcheck.faults.universe import (
 def test_two_cell_static_primitives_are_the_36_of_the_taxonomy() -> None:
     # A.J. van de Goor and Z. Al-Ars, "Functional Memory Faults: A Formal Notation and a Taxonomy",
     # IEEE VLSI Test Symposium, 2000: 36 static two-cell FPs — CFst 4, CFds 12, CFtr 4, CFwd 4, CFrd 4,
-    # CFdrd 4, CFir 4 (counts from memory).
+    # CFdrd 4, CFir 4 (counts: value written from memory; table/page not checked).
     counts = {c: len(models_of(c)) for c in ("CFst", "CFds", "CFtr", "CFwd", "CFrd", "CFdrd", "CFir")}
     assert counts == {"CFst": 4, "CFds": 12, "CFtr": 4, "CFwd": 4, "CFrd": 4, "CFdrd": 4, "CFir": 4}
     notations = {p.notation for c in counts for m in models_of(c) for p in m.primitives}
@@ -60,6 +62,7 @@ def test_two_cell_static_primitives_are_the_36_of_the_taxonomy() -> None:
 def test_classic_coupling_faults_as_primitives() -> None:
     # van de Goor 1991 ("Testing Semiconductor Memories"): CFin <↑;↕> inverts the victim on an up
     # transition of the aggressor; CFid <↑;1> forces it to 1. As FPs: <0w1;0/1/-> and <0w1;1/0/->.
+    # Definitions written from memory; table/page not checked.
     cfin = model_named("CFin<↑;↕>")
     assert cfin.notation == "<0w1;0/1/->, <0w1;1/0/->"
     assert [aggressor_op(cfin, 0, v, "w", 1) for v in (0, 1)] == [1, 0]
@@ -144,18 +147,18 @@ def test_instance_descriptions() -> None:
         lambda: DecoderFault("no-cell", 1, 2),
         lambda: DecoderFault("extra-cell", 1, 2),
         lambda: DecoderFault("wrong-cell", 1, 1),
-        lambda: DecoderFault("nowhere", 1),
+        lambda: DecoderFault(cast(DecoderKind, "nowhere"), 1),
         lambda: CouplingFault(model_named("CFst<0;0>"), Cell(1), Cell(1)),
         lambda: CellFault(model_named("CFst<0;0>"), Cell(1)),
     ],
 )
-def test_bad_instances_are_rejected(bad) -> None:  # type: ignore[no-untyped-def]
+def test_bad_instances_are_rejected(bad: Callable[[], object]) -> None:
     with pytest.raises(FaultModelError):
         bad()
 
 
 def test_universe_sizes() -> None:
-    setup = SimSetup(6, 2, layout=(3, 2))
+    setup = Arrangement(6, 2, layout=(3, 2))
     n = 12
     assert class_size("SAF", setup) == 2 * n
     assert class_size("CFds", setup) == 12 * n * (n - 1)
@@ -171,16 +174,16 @@ def test_universe_sizes() -> None:
 
 
 def test_sample_is_seeded_and_without_replacement() -> None:
-    setup = SimSetup(32, 2)
+    setup = Arrangement(32, 2)
     a = sample_class("CFds", setup, 50, seed=7)
     assert a == sample_class("CFds", setup, 50, seed=7)
     assert a != sample_class("CFds", setup, 50, seed=8)
     assert len(set(a)) == 50
-    assert len(sample_class("AF", SimSetup(2), 100, seed=1)) == class_size("AF", SimSetup(2))  # all of them
+    assert len(sample_class("AF", Arrangement(2), 100, seed=1)) == class_size("AF", Arrangement(2))  # all of them
 
 
 def test_sample_universe_reports_wilson_interval() -> None:
-    report = coverage("MATS+", SimSetup(64), universe="sample:40", classes="TF,SAF", seed=3)
+    report = coverage("MATS+", Arrangement(64), universe="sample:40", classes="TF,SAF", seed=3)
     tf = report["TF"]
     assert tf.faults == 40 and tf.ci95 is not None
     assert tf.ci95 == wilson_interval(tf.detected, 40)
@@ -193,7 +196,8 @@ def test_sample_universe_reports_wilson_interval() -> None:
 )
 def test_wilson_interval_published_values(k: int, n: int, lo: float, hi: float) -> None:
     # R.G. Newcombe, "Two-Sided Confidence Intervals for the Single Proportion: Comparison of Seven
-    # Methods", Statistics in Medicine 17, 1998, Table II, Wilson score method (values from memory).
+    # Methods", Statistics in Medicine 17, 1998, Table II, Wilson score method (values written from
+    # memory; the table itself was not rechecked).
     got = wilson_interval(k, n)
     assert got == pytest.approx((lo, hi), abs=6e-5)
 
@@ -202,7 +206,7 @@ def test_wilson_interval_published_values(k: int, n: int, lo: float, hi: float) 
 @given(n=st.integers(1, 10_000), data=st.data())
 def test_wilson_bounds_solve_the_score_equation(n: int, data: st.DataObject) -> None:
     # E.B. Wilson, "Probable Inference, the Law of Succession, and Statistical Inference", JASA 22, 1927:
-    # the bounds are the p where |p_hat - p| = z sqrt(p(1-p)/n).
+    # the bounds are the p where |p_hat - p| = z sqrt(p(1-p)/n) (the defining equation; no table).
     k = data.draw(st.integers(0, n))
     z = 1.959963984540054
     for p in wilson_interval(k, n):
@@ -221,11 +225,11 @@ def test_parsers() -> None:
     with pytest.raises(FaultModelError, match="unknown fault class"):
         parse_classes("SAF,XYZ")
     with pytest.raises(FaultModelError, match="layout"):
-        coverage("MATS+", SimSetup(8), universe="neighbours")
+        coverage("MATS+", Arrangement(8), universe="neighbours")
 
 
 def test_json_has_the_documented_keys() -> None:
-    doc = coverage("March C-", SimSetup(4), classes="SAF,AF").to_json()
+    doc = coverage("March C-", Arrangement(4), classes="SAF,AF").to_json()
     assert {"test", "words", "width", "universe", "classes"} <= set(doc)
     assert set(doc["classes"]) == {"SAF", "AF"}
     for entry in doc["classes"].values():

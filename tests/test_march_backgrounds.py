@@ -7,14 +7,15 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from memcheck.errors import NotationError
+from memcheck.errors import UsageError
 from memcheck.march import background_words, int_to_limbs, limbs_to_int, resolve_backgrounds, standard_set
 
 
 def test_standard_set_for_bytes_matches_the_published_backgrounds() -> None:
     # A.J. van de Goor and I.B.S. Tlili, "A Systematic Method for Modifying March Tests for
     # Bit-Oriented Memories into Tests for Word-Oriented Memories", IEEE Trans. Computers, 2003:
-    # ceil(log2 B) + 1 backgrounds; for B = 8: 00000000, 01010101, 00110011, 00001111 (values from memory).
+    # ceil(log2 B) + 1 backgrounds; for B = 8: 00000000, 01010101, 00110011, 00001111 (values written
+    # from memory; table/page not checked).
     got = [format(b.base, "08b") for b in standard_set(8)]
     assert got == ["00000000", "01010101", "00110011", "00001111"]
 
@@ -71,8 +72,8 @@ def test_background_list_parsing() -> None:
     bgs = resolve_backgrounds("solid, checkerboard,0x5a,std2,standard", 8)
     assert [b.name for b in bgs] == ["solid", "checkerboard", "0x5a", "std2", "std1", "std3"]
     for bad in ("plaid", "0x1ff", "std9", "", "0xzz"):
-        with pytest.raises(NotationError):
+        with pytest.raises(UsageError):
             resolve_backgrounds(bad, 8)
     for width in (0, 1025):
-        with pytest.raises(NotationError):
+        with pytest.raises(UsageError):
             resolve_backgrounds("solid", width)

@@ -3,18 +3,21 @@ fault-free memory replay."""
 
 from __future__ import annotations
 
+from typing import Any
+
 import numpy as np
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from memcheck.errors import NotationError, UnknownAlgorithm
+from memcheck.errors import BudgetError, NotationError, UnknownAlgorithm, UsageError
 from memcheck.march import (
     ALGORITHMS,
     OP_READ,
     OP_WRITE,
     ORDER_KINDS,
     AddressOrder,
+    MarchAlgorithm,
     MarchElement,
     MarchOp,
     MarchStep,
@@ -42,8 +45,8 @@ def _ops(stream_steps: list[MarchStep | Pause]) -> list[str]:
 
 
 def test_mats_plus_on_four_words_hand_checked() -> None:
-    # MATS+ {⇕(w0); ⇑(r0,w1); ⇓(r1,w0)} (Abadir and Reghbati 1983, from memory), 1-bit words,
-    # worked out by hand: 5n = 20 operations.
+    # MATS+ {⇕(w0); ⇑(r0,w1); ⇓(r1,w0)} (Abadir and Reghbati 1983; value written from memory,
+    # table/page not checked), 1-bit words, worked out by hand: 5n = 20 operations.
     got = _ops(list(expand("MATS+", 4, 1).steps()))
     assert got == [
         "w0@0",
@@ -70,8 +73,8 @@ def test_mats_plus_on_four_words_hand_checked() -> None:
 
 
 def test_march_c_minus_on_four_words_hand_checked() -> None:
-    # March C- (van de Goor 1993, from memory) on a 4-word x 8-bit memory with the solid background:
-    # 10n = 40 operations, worked out by hand.
+    # March C- (van de Goor 1993; value written from memory, table/page not checked) on a 4-word x
+    # 8-bit memory with the solid background: 10n = 40 operations, worked out by hand.
     got = _ops(list(expand("March C-", 4, 8).steps()))
     assert got == [
         "w0@0",
@@ -203,12 +206,9 @@ def test_stream_equals_plain_loop_reference(
 
 @pytest.mark.parametrize("alg", ALGORITHMS, ids=lambda a: a.name)
 @pytest.mark.parametrize("order", ["linear", "lfsr", "row-fast"])
-def test_fault_free_memory_replay(alg: object, order: str) -> None:
+def test_fault_free_memory_replay(alg: MarchAlgorithm, order: str) -> None:
     """Replaying every library stream on a fault-free memory: each read returns exactly the expected
     word, each element touches each address exactly once, and the count is length x words x backgrounds."""
-    from memcheck.march import MarchAlgorithm
-
-    assert isinstance(alg, MarchAlgorithm)
     words, width = 24, 70
     s = expand(alg.test, words, width, layout=(6, 4), order=order, backgrounds="standard,checkerboard", seed=3)
     assert s.total_ops == alg.length * words * len(s.backgrounds)
@@ -273,25 +273,25 @@ def test_any_order_down() -> None:
     [
         ({"test": "March Q"}, UnknownAlgorithm),
         ({"test": "{up(w0"}, NotationError),
-        ({"width": 0}, NotationError),
-        ({"width": 2000}, NotationError),
-        ({"words": 0}, NotationError),
-        ({"layout": (3, 3)}, NotationError),
-        ({"order": "row-fast"}, NotationError),
-        ({"backgrounds": "tartan"}, NotationError),
-        ({"any_order": "sideways"}, NotationError),
-        ({"chunk_ops": 0}, NotationError),
+        ({"width": 0}, UsageError),
+        ({"width": 2000}, UsageError),
+        ({"words": 0}, UsageError),
+        ({"layout": (3, 3)}, UsageError),
+        ({"order": "row-fast"}, UsageError),
+        ({"backgrounds": "tartan"}, UsageError),
+        ({"any_order": "sideways"}, UsageError),
+        ({"chunk_ops": 0}, UsageError),
     ],
 )
 def test_impossible_requests(kwargs: dict[str, object], error: type[Exception]) -> None:
-    args: dict[str, object] = {"test": "MATS+", "words": 16, "width": 8}
+    args: dict[str, Any] = {"test": "MATS+", "words": 16, "width": 8}
     args.update(kwargs)
     with pytest.raises(error):
-        expand(**args)  # type: ignore[arg-type]
+        expand(**args)
 
 
 def test_collect_refuses_huge_streams() -> None:
-    with pytest.raises(NotationError):
+    with pytest.raises(BudgetError, match="collect"):
         expand("March SS", 1 << 20, 8).collect(limit=1000)
 
 

@@ -8,10 +8,11 @@ import json
 import shutil
 import subprocess
 from pathlib import Path
+from typing import Any
 
 import pytest
 
-from memcheck.errors import NotationError
+from memcheck.errors import UsageError
 from memcheck.march import OP_WRITE, MarchStream, Pause, expand, hex_layout, limbs_to_int, render, write_export
 
 
@@ -50,8 +51,8 @@ def _decode_hex(text: str, s: MarchStream) -> list[tuple[int, int, int, int]]:
         ("March SS", 300, 1024, {"backgrounds": "checkerboard", "order": "lfsr", "seed": 9}),
     ],
 )
-def test_hex_packing_round_trips(name: str, words: int, width: int, kw: dict[str, object]) -> None:
-    s = expand(name, words, width, chunk_ops=333, **kw)  # type: ignore[arg-type]
+def test_hex_packing_round_trips(name: str, words: int, width: int, kw: dict[str, Any]) -> None:
+    s = expand(name, words, width, chunk_ops=333, **kw)
     text = render(s, "hex")
     assert _decode_hex(text, s) == _expected_records(s)
     lay = hex_layout(s)
@@ -81,7 +82,7 @@ def test_write_export_is_atomic_and_complete(tmp_path: Path) -> None:
     out = write_export(s, tmp_path / "sub" / "c.hex", "hex")
     assert out.read_text() == render(s, "hex")
     assert [p.name for p in out.parent.iterdir()] == ["c.hex"]  # no temporary file left behind
-    with pytest.raises(NotationError):
+    with pytest.raises(UsageError, match="format"):
         write_export(s, tmp_path / "x.bin", "bin")
     assert not (tmp_path / "x.bin").exists()
 
@@ -110,13 +111,13 @@ endmodule
     ],
 )
 def test_readmemh_in_icarus_reads_back_the_stream(
-    tmp_path: Path, name: str, words: int, width: int, kw: dict[str, object]
+    tmp_path: Path, name: str, words: int, width: int, kw: dict[str, Any]
 ) -> None:
     """IEEE Std 1364-2005 section 17.2.9: $readmemh loads one hex word per line and skips // comments."""
     iverilog, vvp = shutil.which("iverilog"), shutil.which("vvp")
     if not iverilog or not vvp:
         pytest.skip("Icarus Verilog not installed")
-    s = expand(name, words, width, **kw)  # type: ignore[arg-type]
+    s = expand(name, words, width, **kw)
     hex_path = write_export(s, tmp_path / "stream.hex", "hex")
     want = _expected_records(s)
     lay = hex_layout(s)

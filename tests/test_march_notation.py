@@ -3,6 +3,8 @@
 from __future__ import annotations
 
 import contextlib
+from collections.abc import Callable
+from typing import Any, cast
 
 import pytest
 from hypothesis import given, settings
@@ -66,7 +68,7 @@ def test_arbitrary_text_raises_only_notation_error(text: str) -> None:
 
 def test_march_c_minus_prints_as_published() -> None:
     # A.J. van de Goor, "Using March Tests to Test SRAMs", IEEE Design & Test of Computers, 1993
-    # (notation from memory).
+    # (notation: value written from memory; table/page not checked).
     t = parse_march("{⇕(w0); ⇑(r0,w1); ⇑(r1,w0); ⇓(r0,w1); ⇓(r1,w0); ⇕(r0)}")
     assert t.length == 10
     assert t.to_unicode() == "{⇕(w0); ⇑(r0,w1); ⇑(r1,w0); ⇓(r0,w1); ⇓(r1,w0); ⇕(r0)}"
@@ -117,14 +119,14 @@ def test_only_delays_rejected() -> None:
 @pytest.mark.parametrize(
     "make",
     [
-        lambda: MarchOp("x", 0),  # type: ignore[arg-type]
-        lambda: MarchOp("r", 2),  # type: ignore[arg-type]
-        lambda: MarchElement("sideways", (MarchOp("r", 0),)),  # type: ignore[arg-type]
+        lambda: MarchOp(cast(Any, "x"), 0),  # values outside the declared types, on purpose
+        lambda: MarchOp("r", cast(Any, 2)),
+        lambda: MarchElement(cast(Any, "sideways"), (MarchOp("r", 0),)),
         lambda: MarchElement("up", ()),
         lambda: Delay("a b"),
         lambda: MarchTest((Delay(),)),
     ],
 )
-def test_constructors_reject_values_that_cannot_round_trip(make: object) -> None:
+def test_constructors_reject_values_that_cannot_round_trip(make: Callable[[], object]) -> None:
     with pytest.raises(NotationError):
-        make()  # type: ignore[operator]
+        make()

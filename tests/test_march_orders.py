@@ -7,7 +7,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from memcheck.errors import NotationError
+from memcheck.errors import UsageError
 from memcheck.march import ORDER_KINDS, AddressOrder, address_order, lfsr_sequence, parse_layout
 from memcheck.march.orders import LFSR_TAPS
 
@@ -91,7 +91,8 @@ def _prime_factors(n: int) -> set[int]:
 def test_lfsr_polynomials_are_primitive(bits: int) -> None:
     # A degree-n polynomial over GF(2) gives a maximal-length (2^n - 1) LFSR iff it is primitive:
     # x^(2^n-1) = 1 and x^((2^n-1)/q) != 1 for every prime q dividing 2^n - 1 (R. Lidl and
-    # H. Niederreiter, "Finite Fields", 1997, order of a polynomial). Checked by algebra, independently
+    # H. Niederreiter, "Finite Fields", 1997, order of a polynomial; theorem written from memory, page not
+    # checked). Checked by algebra, independently
     # of the shift-register code.
     p = (1 << bits) | 1
     for t in LFSR_TAPS[bits][1:]:
@@ -138,13 +139,13 @@ def test_lfsr_order_seeded_and_down_is_exact_reverse() -> None:
         ("linear", (1 << 32) + 1, None),
     ],
 )
-def test_impossible_orders_raise_notation_error(kind: str, words: int, layout: tuple[int, int] | None) -> None:
-    with pytest.raises(NotationError):
+def test_impossible_orders_raise_usage_error(kind: str, words: int, layout: tuple[int, int] | None) -> None:
+    with pytest.raises(UsageError):
         AddressOrder(kind, words, layout)
 
 
 def test_parse_layout() -> None:
     assert parse_layout("256x4") == (256, 4)
     for bad in ("256", "0x4", "ax4", "2x3x4"):
-        with pytest.raises(NotationError):
+        with pytest.raises(UsageError):
             parse_layout(bad)

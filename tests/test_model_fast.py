@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from collections.abc import Sequence
+
 import numpy as np
 import pytest
 from hypothesis import HealthCheck, given, settings
@@ -10,12 +12,12 @@ from hypothesis import strategies as st
 from memcheck import Contract, InvalidOperation
 from memcheck.model import Model
 from memcheck.model_fast import Columns, Contents, expected, expected_rows, mismatch
-from memcheck.ops import IDLE, idle, read, write
+from memcheck.ops import IDLE, Cycle, Expected, idle, read, write
 from memcheck.strategies import traces
 from tests.contract_strategies import contracts
 
 
-def _model_rows(contract: Contract, cycles: list, start: str) -> list:
+def _model_rows(contract: Contract, cycles: Sequence[Cycle], start: str) -> list[tuple[Expected, ...]]:
     m = Model(contract)
     if start == "forget":
         m.forget()
@@ -27,7 +29,7 @@ def _model_rows(contract: Contract, cycles: list, start: str) -> list:
 def _contents(contract: Contract, start: str) -> Contents:
     from memcheck.sim.checker import start_contents
 
-    return start_contents(contract, "unknown" if start == "forget" else start)  # type: ignore[arg-type]
+    return start_contents(contract, "unknown" if start == "forget" else "reset" if start == "reset" else "power-up")
 
 
 @settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.too_slow])

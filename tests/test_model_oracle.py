@@ -5,6 +5,7 @@ from __future__ import annotations
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
+from memcheck.contract import Contract
 from memcheck.model import Model
 from memcheck.strategies import traces
 from tests.contract_strategies import contracts
@@ -13,7 +14,7 @@ from tests.naive_oracle import NaiveOracle
 
 @settings(max_examples=300)
 @given(st.data(), contracts())
-def test_model_agrees_with_naive_oracle(data: st.DataObject, contract) -> None:  # type: ignore[no-untyped-def]
+def test_model_agrees_with_naive_oracle(data: st.DataObject, contract: Contract) -> None:
     model = Model(contract)
     oracle = NaiveOracle(contract)
     if contract.reset is not None and data.draw(st.booleans(), label="reset first"):

@@ -1,4 +1,4 @@
-"""Every example wrapper in rtl_examples/ gets its expected verdict; every seeded bug is caught with a
+"""Every example wrapper in memcheck/examples/ gets its expected verdict; every seeded bug is caught with a
 minimal trace of at most six cycles that a fresh replay reproduces."""
 
 from __future__ import annotations
@@ -9,11 +9,12 @@ from typing import Any
 
 import pytest
 
+from memcheck.examples import examples_dir
 from memcheck.sim import check_contract, replay_file
 
 pytestmark = pytest.mark.icarus
 
-ROOT = Path(__file__).resolve().parents[1] / "rtl_examples"
+ROOT = examples_dir()
 INDEX: list[dict[str, Any]] = (
     tomllib.loads((ROOT / "index.toml").read_text())["example"] if (ROOT / "index.toml").is_file() else []
 )

@@ -2,7 +2,7 @@
 
 The pure-Python part (ports, laying the stream out as cycles, finding and naming the first failure)
 is tested against a small Python memory written here, independent of memcheck's model; the
-end-to-end part runs rtl_examples/ wrappers and a small generated RAM with injected faults under
+end-to-end part runs memcheck/examples/ wrappers and a small generated RAM with injected faults under
 Icarus. Every expected first failure below is worked out by hand from the test's notation.
 """
 
@@ -20,6 +20,7 @@ from hypothesis import strategies as st
 from memcheck.cli import main
 from memcheck.contract import Contract, load_contract
 from memcheck.errors import InvalidOperation, MemcheckError, NotationError, UnknownAlgorithm
+from memcheck.examples import examples_dir
 from memcheck.model_fast import Columns
 from memcheck.ops import Cycle
 from memcheck.sim.engine import Engine
@@ -38,7 +39,7 @@ from memcheck.sim.sequences import Segment
 from tests.contract_strategies import contracts
 
 ROOT = Path(__file__).resolve().parents[1]
-EXAMPLES = ROOT / "rtl_examples"
+EXAMPLES = examples_dir()
 REGFILE = EXAMPLES / "regfile" / "contract.toml"
 BANKED = EXAMPLES / "scratchpad_banked" / "contract.toml"
 BANK_BUG = EXAMPLES / "scratchpad_bank_bug" / "contract.toml"

@@ -13,7 +13,7 @@ from hypothesis import strategies as st
 
 from memcheck.cli import main
 from memcheck.errors import SynthesisError
-from memcheck.faults import SimSetup, enumerate_class, models_of, simulate_naive
+from memcheck.faults import Arrangement, enumerate_class, models_of, simulate_reference
 from memcheck.march.notation import MarchTest
 from memcheck.synthesis import build_model, detects_all, steps_of, synthesize, to_test
 from memcheck.synthesis.elements import DOWN, UP
@@ -32,12 +32,12 @@ KNOWN = [
 ]
 
 
-def _reference_all_detected(test: MarchTest, classes: str, setup: SimSetup) -> bool:
+def _reference_all_detected(test: MarchTest, classes: str, setup: Arrangement) -> bool:
     """Every instance of every class detected by the reference engine, ⇕ walked both ways."""
     for any_order in ("up", "down"):
         t = to_test(steps_of(test, any_order))
         for cls in classes.split(","):
-            results = simulate_naive(t, enumerate_class(cls, setup), setup)
+            results = simulate_reference(t, enumerate_class(cls, setup), setup)
             if not all(r.verdict == "detected" for r in results):
                 return False
     return True
@@ -50,7 +50,7 @@ def test_known_minimal_lengths(classes: str, length: int, source: str) -> None:
     assert result.length == length, source
     assert result.proof.complete_below == length and not result.proof.timed_out
     assert all(c.detected == c.faults for c in result.report.classes)  # type: ignore[union-attr]
-    assert _reference_all_detected(result.test, classes, SimSetup(5))
+    assert _reference_all_detected(result.test, classes, Arrangement(5))
 
 
 def test_march_c_minus_length() -> None:
@@ -59,13 +59,13 @@ def test_march_c_minus_length() -> None:
     classes = "SAF,AF,TF,CFin,CFid,CFst"
     result = synthesize(classes, words=64)
     assert result.length == 10
-    assert _reference_all_detected(result.test, classes, SimSetup(4))  # type: ignore[arg-type]
+    assert _reference_all_detected(result.test, classes, Arrangement(4))  # type: ignore[arg-type]
 
 
 def test_delays_only_for_drf() -> None:
     result = synthesize("SAF,DRF", words=16)
     assert result.test is not None and result.test.delays >= 1
-    assert _reference_all_detected(result.test, "SAF,DRF", SimSetup(4))
+    assert _reference_all_detected(result.test, "SAF,DRF", Arrangement(4))
     assert synthesize("SAF,TF", words=16).test.delays == 0  # type: ignore[union-attr]
 
 
@@ -79,7 +79,8 @@ def _all_tests(length: int) -> list[tuple[Step, ...]]:
     for ops in itertools.product(("r", "w0", "w1"), repeat=length):
         if ops[0] == "r":
             continue
-        idx, g = [], None
+        idx: list[int] = []
+        g = 0  # ops[0] is a write, so g is set before the first read
         for o in ops:
             if o == "r":
                 idx.append(g)
@@ -97,7 +98,7 @@ def _all_tests(length: int) -> list[tuple[Step, ...]]:
 @pytest.mark.parametrize("classes", ["SAF", "SAF,AF", "TF", "CFin", "SAF,AF,TF", "CFst"])
 def test_search_minimum_equals_brute_force(classes: str) -> None:
     """Enumerate every test up to length 5 without pruning: its minimum equals the search's."""
-    setup = SimSetup(4)
+    setup = Arrangement(4)
     model = build_model(classes.split(","), setup)
     brute = next((n for n in range(1, 6) if any(detects_all(model, t) for t in _all_tests(n))), None)
     result = synthesize(classes, words=4, max_length=5)
@@ -112,18 +113,19 @@ _ELEMENT = st.tuples(st.lists(st.sampled_from(("r", "w0", "w1")), min_size=1, ma
 
 
 def _consistent(raw: list[tuple[list[str], int]]) -> tuple[Step, ...]:
-    steps, g = [], None
+    steps = []
+    g: int | None = None
     for ops, d in raw:
-        idx = []
+        idx: list[int] = []
         for o in ops:
             if o == "r" and g is None:
                 o = "w0"
-            if o == "r":
+            if o == "r" and g is not None:
                 idx.append(g)
             else:
                 g = int(o[1])
                 idx.append(2 + g)
-        steps.append(Step(tuple(idx), d))  # type: ignore[arg-type]
+        steps.append(Step(tuple(idx), d))
     return tuple(steps)
 
 
@@ -137,10 +139,10 @@ def _consistent(raw: list[tuple[list[str], int]]) -> tuple[Step, ...]:
 def test_row_model_matches_reference_engine(raw: list[tuple[list[str], int]], cls: str, words: int, width: int) -> None:
     """Per fault model: all its instances detected by the row model iff by the reference engine."""
     steps = _consistent(raw)
-    setup = SimSetup(words, width, backgrounds="checkerboard" if width > 1 else "solid")
+    setup = Arrangement(words, width, backgrounds="checkerboard" if width > 1 else "solid")
     model = build_model([cls], setup)
     test = to_test(steps)
-    results = simulate_naive(test, enumerate_class(cls, setup), setup)
+    results = simulate_reference(test, enumerate_class(cls, setup), setup)
     assert detects_all(model, steps) == all(r.verdict == "detected" for r in results), test.to_unicode()
     if cls == "AF":
         return

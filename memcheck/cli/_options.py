@@ -7,6 +7,7 @@
 
 from __future__ import annotations
 
+import copy
 import random
 from collections.abc import Callable
 from typing import Any, TypeVar
@@ -40,6 +41,13 @@ def seed_option(f: _F) -> _F:
         help="Seed of every random choice (stimulus, sampling, the LFSR order's start state). "
         "Omitted: a fresh seed, printed and recorded so the run can be repeated.",
     )(f)
+
+
+def add_hidden_alias(group: click.Group, command: click.Command) -> None:
+    """Register ``command`` on ``group`` too, under its own name but hidden from help (old scripts)."""
+    alias = copy.copy(command)
+    alias.hidden = True
+    group.add_command(alias, command.name)
 
 
 def address_order_options(f: _F) -> _F:

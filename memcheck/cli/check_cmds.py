@@ -18,6 +18,7 @@ import click
 
 from memcheck.cli import EXIT_ERROR, EXIT_FAIL, EXIT_OK, cli
 from memcheck.errors import MemcheckError
+from memcheck.examples import examples_dir
 
 if TYPE_CHECKING:
     from memcheck.sim.api import CheckResult
@@ -267,15 +268,6 @@ def replay(replay_file: str, out_dir: str | None, no_waveform: bool) -> int:
     if res.waveform_file:
         _echo(f"waveform of the trace alone: {res.waveform_file}")
     return EXIT_OK if res.checked.ok else EXIT_FAIL
-
-
-def examples_dir() -> Path:
-    """rtl_examples/ of a source checkout (next to the package) or of the current folder."""
-    here = Path(__file__).resolve().parents[2] / "rtl_examples"
-    for cand in (here, Path.cwd() / "rtl_examples"):
-        if (cand / "index.toml").is_file():
-            return cand
-    raise MemcheckError("cannot find rtl_examples/index.toml; run the demo from a memcheck source checkout.")
 
 
 DEMO_PAIR = ("packet_buffer", "packet_buffer_lane_bug")

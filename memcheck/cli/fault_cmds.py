@@ -1,4 +1,5 @@
-"""``memcheck coverage``: which faults a March test detects on a given memory, and why some escape."""
+"""``memcheck march coverage`` (alias ``memcheck coverage``): which faults a March test detects on a
+given memory, and why some escape."""
 
 from __future__ import annotations
 
@@ -12,12 +13,13 @@ from rich.table import Table
 
 from memcheck._atomic import write_text_atomic
 from memcheck.cli import cli
-from memcheck.errors import FaultModelError, MemcheckError
+from memcheck.cli._options import add_hidden_alias, address_order_options, resolve_seed, seed_option
+from memcheck.cli.march_cmds import layout_and_words, march_group
+from memcheck.errors import FaultModelError, UsageError
 from memcheck.faults.coverage import DISCLAIMER, CoverageReport, coverage
-from memcheck.faults.geometry import SimSetup
+from memcheck.faults.geometry import Arrangement
 from memcheck.faults.primitives import model_named
-from memcheck.faults.universe import CLASSES, DEFAULT_SEED, parse_classes, parse_universe
-from memcheck.march.orders import ORDER_KINDS, parse_layout
+from memcheck.faults.universe import CLASSES, parse_classes, parse_universe
 
 
 def _pct(x: float) -> str:
@@ -88,23 +90,19 @@ def _compare_table(reports: list[CoverageReport]) -> Table:
     return t
 
 
-@cli.command("coverage")
+@march_group.command("coverage")
 @click.argument("tests", nargs=-1, required=True, metavar="TEST")
-@click.option("--words", type=int, required=True, help="Number of words in the memory.")
-@click.option("--width", type=int, default=1, show_default=True, help="Bits per word (1 = bit-oriented).")
+@click.option("--words", type=click.IntRange(min=1), help="Number of words (default: rows x cols of --layout).")
+@click.option(
+    "--width", type=click.IntRange(1, 1024), default=1, show_default=True, help="Bits per word (1 = bit-oriented)."
+)
 @click.option(
     "--layout",
     default=None,
     metavar="RxC",
     help="Physical layout: rows x column-mux words (needed for --universe neighbours).",
 )
-@click.option(
-    "--order",
-    type=click.Choice(ORDER_KINDS),
-    default="linear",
-    show_default=True,
-    help="Address order of up elements (down is its reverse).",
-)
+@address_order_options
 @click.option(
     "--backgrounds",
     default=None,
@@ -120,22 +118,17 @@ def _compare_table(reports: list[CoverageReport]) -> Table:
 @click.option(
     "--universe", default="all", show_default=True, metavar="all|neighbours|sample:K", help="Which instances to count."
 )
-@click.option(
-    "--seed",
-    type=int,
-    default=None,
-    help=f"Seed for sample universes and the lfsr order (default {DEFAULT_SEED}; always printed).",
-)
+@seed_option
 @click.option(
     "--escapes",
     "max_escapes",
-    type=int,
+    type=click.IntRange(min=0),
     default=12,
     show_default=True,
     help="How many fault models with escapes to list (one example each).",
 )
 @click.option(
-    "--compare", is_flag=True, help="Compare several TESTs side by side: memcheck coverage A B C --compare ..."
+    "--compare", is_flag=True, help="Compare several TESTs side by side: memcheck march coverage A B C --compare ..."
 )
 @click.option("--json", "json_file", type=click.Path(dir_okay=False), default=None, help="Write a JSON report.")
 @click.option(
@@ -143,10 +136,11 @@ def _compare_table(reports: list[CoverageReport]) -> Table:
 )
 def coverage_cmd(
     tests: tuple[str, ...],
-    words: int,
+    words: int | None,
     width: int,
     layout: str | None,
     order: str,
+    any_order: str,
     backgrounds: str | None,
     fault_classes: str | None,
     universe: str,
@@ -156,35 +150,39 @@ def coverage_cmd(
     json_file: str | None,
     plot_file: str | None,
 ) -> None:
-    """Fault coverage of a March TEST (library name or notation) on a WORDS x WIDTH memory.
+    """Fault coverage of a March TEST (library name or notation) on a memory of --words x --width bits.
 
     Prints a table per fault class (instances, detected, escaped, partial = detected only from some
     power-up states, coverage %), then the fault models that escape with one example and its witness.
     Give several TESTs with --compare to see them side by side.
     """
     if len(tests) > 1 and not compare:
-        raise FaultModelError(
+        raise UsageError(
             f"{len(tests)} tests given ({', '.join(tests)}); add --compare to compare them side "
             "by side, or quote a notation that contains spaces"
         )
-    try:
-        lay = parse_layout(layout) if layout else None
-    except MemcheckError as exc:
-        raise FaultModelError(str(exc)) from None
-    used_seed = DEFAULT_SEED if seed is None else seed
-    setup = SimSetup(
-        words, width, layout=lay, order=order, backgrounds=backgrounds, seed=used_seed if order == "lfsr" else None
+    lay, words = layout_and_words(layout, words)
+    used_seed = resolve_seed(seed)
+    setup = Arrangement(
+        words,
+        width,
+        layout=lay,
+        order=order,
+        backgrounds=backgrounds,
+        seed=used_seed,
+        any_order="down" if any_order == "down" else "up",
     )
     classes = parse_classes(fault_classes)
     uni = parse_universe(universe, used_seed)
+    click.echo(f"{click.get_current_context().command_path}: seed {used_seed}")
     reports = [coverage(t, setup, classes=classes, universe=uni) for t in tests]
     console = Console(width=100)
     first = reports[0]
     bgs = ", ".join(first.backgrounds)
     lay_text = f", layout {lay[0]}x{lay[1]}" if lay else ""
     console.print(
-        f"memory {words} words x {width} bit{'s' if width > 1 else ''}{lay_text}; order {order}; "
-        f"backgrounds {bgs}; universe {uni.label}; seed {used_seed}"
+        f"memory {words} words x {width} bit{'s' if width > 1 else ''}{lay_text}; order {order} (⇕ {any_order}); "
+        f"backgrounds {bgs}; universe {uni.label}"
     )
     for rep in reports:
         click.echo(f"\n{rep.label}  {rep.notation}  ({rep.test.length}n, {rep.seconds:.2f} s)")
@@ -208,3 +206,6 @@ def coverage_cmd(
 
         plot_coverage(reports, plot_file)
         click.echo(f"wrote {plot_file}")
+
+
+add_hidden_alias(cli, coverage_cmd)

@@ -1,30 +1,40 @@
-"""``memcheck march list|show`` and ``memcheck patterns``: the March library and its operation streams."""
+"""``memcheck march list|show|patterns``: the March library and its operation streams.
+
+``march run`` (march_run_cmds) and ``march coverage`` (fault_cmds) register on the same group;
+``memcheck patterns`` and ``memcheck coverage`` stay as hidden top-level aliases.
+"""
 
 from __future__ import annotations
 
 import sys
-from collections.abc import Callable
-from typing import Any, TypeVar
 
 import click
 from rich.console import Console
 from rich.table import Table
 
 from memcheck.cli import cli
-from memcheck.cli._options import address_order_options
-from memcheck.errors import NotationError, UnknownAlgorithm
+from memcheck.cli._options import add_hidden_alias, address_order_options, resolve_seed, seed_option
+from memcheck.errors import UnknownAlgorithm, UsageError
 from memcheck.march.backgrounds import BACKGROUND_NAMES
 from memcheck.march.expand import expand
 from memcheck.march.export import FORMATS, hex_layout, iter_export, write_export
 from memcheck.march.library import ALGORITHMS, FAULT_CLASSES, get_algorithm, resolve_test
 from memcheck.march.orders import parse_layout
 
-_F = TypeVar("_F", bound=Callable[..., Any])
+
+def layout_and_words(layout: str | None, words: int | None) -> tuple[tuple[int, int] | None, int]:
+    """``--layout`` parsed and ``--words`` (rows x cols of the layout when omitted)."""
+    lay = parse_layout(layout) if layout else None
+    if words is None:
+        if lay is None:
+            raise UsageError("give --words N (or a --layout ROWSxCOLS to take the word count from)")
+        words = lay[0] * lay[1]
+    return lay, words
 
 
 @cli.group("march")
 def march_group() -> None:
-    """The library of published March algorithms."""
+    """March tests: the library, operation streams, fault coverage and runs on RTL."""
 
 
 @march_group.command("list")
@@ -76,10 +86,10 @@ def march_show(name: str) -> None:
         click.echo(footer)
 
 
-@cli.command("patterns")
+@march_group.command("patterns")
 @click.argument("name_or_notation")
-@click.option("--words", type=int, help="Number of words (default: rows x cols of --layout).")
-@click.option("--width", type=int, required=True, help="Bits per word (1..1024).")
+@click.option("--words", type=click.IntRange(min=1), help="Number of words (default: rows x cols of --layout).")
+@click.option("--width", type=click.IntRange(1, 1024), required=True, help="Bits per word (1..1024).")
 @click.option("--layout", help="Physical array ROWSxCOLS with column multiplexing, e.g. 256x4.")
 @address_order_options
 @click.option(
@@ -88,7 +98,7 @@ def march_show(name: str) -> None:
     show_default=True,
     help=f"Comma-separated data backgrounds: {', '.join(BACKGROUND_NAMES)}, std0..stdK or a hex word.",
 )
-@click.option("--seed", type=int, default=0, show_default=True, help="Start of the LFSR order (--order lfsr).")
+@seed_option
 @click.option(
     "--format",
     "fmt",
@@ -106,16 +116,13 @@ def patterns(
     order: str,
     any_order: str,
     backgrounds: str,
-    seed: int,
+    seed: int | None,
     fmt: str,
     output: str | None,
 ) -> None:
     """Expand NAME_OR_NOTATION (library name or March notation) into its operation stream."""
-    lay = parse_layout(layout) if layout else None
-    if words is None:
-        if lay is None:
-            raise NotationError("give --words N (or a --layout ROWSxCOLS to take the word count from)")
-        words = lay[0] * lay[1]
+    lay, words = layout_and_words(layout, words)
+    seed = resolve_seed(seed)
     test = resolve_test(name_or_notation)
     stream = expand(
         test,
@@ -125,8 +132,9 @@ def patterns(
         order=order,
         backgrounds=backgrounds,
         any_order=any_order,
-        seed=seed if order == "lfsr" else None,
+        seed=seed,
     )
+    click.echo(f"{click.get_current_context().command_path}: seed {seed}", err=True)
     lay_h = hex_layout(stream)
     summary = (
         f"{test.name or 'custom test'}: {stream.total_ops} operations = {test.length} x {words} words x "
@@ -134,7 +142,7 @@ def patterns(
         f"order {order}"
     )
     if order == "lfsr":
-        summary += f" (seed {seed}, LFSR start state {stream.order.lfsr_start})"
+        summary += f" (LFSR start state {stream.order.lfsr_start})"
     if fmt == "hex":
         summary += f"; hex lines are {lay_h.line_bits} bits"
     if output:
@@ -146,3 +154,6 @@ def patterns(
             out.write(piece)
         out.flush()
         click.echo(summary, err=True)
+
+
+add_hidden_alias(cli, patterns)

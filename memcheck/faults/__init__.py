@@ -2,8 +2,8 @@
 
 Fault models are written as fault primitives ``<S/F/R>`` (:mod:`memcheck.faults.primitives`), placed on
 cells as frozen instances (:mod:`memcheck.faults.instances`) and run by two engines that must agree:
-the plain reference engine (:mod:`memcheck.faults.naive`) and the fast numpy engine
-(:mod:`memcheck.faults.engine`). :func:`coverage` counts verdicts over a fault universe.
+the plain reference engine (:mod:`memcheck.faults.reference`) and the fast numpy engine
+(:mod:`memcheck.faults.fast`). :func:`coverage` counts verdicts over a fault universe.
 
 Pure Python + numpy (matplotlib only for :func:`plot_coverage`). Verdicts cover the modelled fault
 models only; they are an engineering aid, not sign-off.
@@ -18,22 +18,21 @@ from memcheck.faults.coverage import (
     coverage,
     wilson_interval,
 )
-from memcheck.faults.engine import simulate
-from memcheck.faults.geometry import SimSetup
+from memcheck.faults.fast import simulate
+from memcheck.faults.geometry import Arrangement
 from memcheck.faults.instances import (
     DECODER_KINDS,
     Cell,
     CellFault,
     CouplingFault,
     DecoderFault,
+    Detection,
     FaultInstance,
     FaultResult,
     OpRef,
     StuckOpenFault,
-    Verdict,
     Witness,
 )
-from memcheck.faults.naive import simulate_naive
 from memcheck.faults.plot import plot_coverage
 from memcheck.faults.primitives import (
     ALL_MODELS,
@@ -45,6 +44,7 @@ from memcheck.faults.primitives import (
     model_named,
     models_of,
 )
+from memcheck.faults.reference import simulate_reference
 from memcheck.faults.universe import CLASSES, Universe, enumerate_class, parse_universe, sample_class
 
 __all__ = [
@@ -54,6 +54,7 @@ __all__ = [
     "DISCLAIMER",
     "SINGLE_CELL_MODELS",
     "TWO_CELL_MODELS",
+    "Arrangement",
     "Breakdown",
     "Cell",
     "CellFault",
@@ -61,16 +62,15 @@ __all__ = [
     "CouplingFault",
     "CoverageReport",
     "DecoderFault",
+    "Detection",
     "EscapeGroup",
     "FaultInstance",
     "FaultModel",
     "FaultPrimitive",
     "FaultResult",
     "OpRef",
-    "SimSetup",
     "StuckOpenFault",
     "Universe",
-    "Verdict",
     "Witness",
     "coverage",
     "enumerate_class",
@@ -81,6 +81,6 @@ __all__ = [
     "plot_coverage",
     "sample_class",
     "simulate",
-    "simulate_naive",
+    "simulate_reference",
     "wilson_interval",
 ]

@@ -20,7 +20,7 @@ import numpy as np
 import numpy.typing as npt
 
 from memcheck.errors import FaultModelError
-from memcheck.faults.engine import (
+from memcheck.faults.fast import (
     AF_RELATIONS,
     AF_VARIANTS,
     CELL_RELATIONS,
@@ -31,16 +31,16 @@ from memcheck.faults.engine import (
     simulate,
     sof_detection,
 )
-from memcheck.faults.geometry import SimSetup
+from memcheck.faults.geometry import Arrangement
 from memcheck.faults.instances import (
     Cell,
     CellFault,
     CouplingFault,
     DecoderFault,
+    Detection,
     FaultInstance,
     FaultResult,
     StuckOpenFault,
-    Verdict,
 )
 from memcheck.faults.primitives import FaultModel, models_of
 from memcheck.faults.universe import (
@@ -56,6 +56,7 @@ from memcheck.faults.universe import (
     pair_table_neighbours,
     parse_classes,
     parse_universe,
+    require_layout,
     sample_class,
     sof_contexts,
     word_pair_key,
@@ -72,7 +73,7 @@ DISCLAIMER = (
 )
 Z95 = 1.959963984540054
 NO_SCOPE = "-"
-_VERDICTS: tuple[Verdict, ...] = ("detected", "partial", "escaped")
+_DETECTIONS: tuple[Detection, ...] = ("detected", "partial", "escaped")
 
 
 def wilson_interval(successes: int, trials: int, z: float = Z95) -> tuple[float, float]:
@@ -137,7 +138,7 @@ class EscapeGroup:
 class CoverageReport:
     test: MarchTest
     label: str
-    setup: SimSetup
+    setup: Arrangement
     backgrounds: tuple[str, ...]
     universe: Universe
     classes: tuple[ClassCoverage, ...]
@@ -201,6 +202,7 @@ class CoverageReport:
             "notation": self.notation,
             "layout": None if s.layout is None else f"{s.layout[0]}x{s.layout[1]}",
             "order": s.order,
+            "any_order": s.any_order,
             "backgrounds": list(self.backgrounds),
             "seed": self.universe.seed,
             "escapes": escapes,
@@ -218,7 +220,7 @@ class _Tally:
     """Counts per (class, model, scope) and one way to find an example per group and verdict."""
 
     counts: dict[tuple[str, str, str], list[int]] = field(default_factory=dict)
-    locators: dict[tuple[str, str, str], tuple[Verdict, tuple[Any, ...]]] = field(default_factory=dict)
+    locators: dict[tuple[str, str, str], tuple[Detection, tuple[Any, ...]]] = field(default_factory=dict)
     results: dict[tuple[str, str, str], FaultResult] = field(default_factory=dict)
 
     def add(
@@ -230,7 +232,7 @@ class _Tally:
         if locator is not None and verdict > 0:
             have = self.locators.get(group)
             if have is None or (have[0] == "partial" and verdict == 2):
-                self.locators[group] = (_VERDICTS[verdict], locator)
+                self.locators[group] = (_DETECTIONS[verdict], locator)
 
 
 def _tally_table(
@@ -406,9 +408,60 @@ def _model_order(cls: str) -> list[str]:
     return [m.name for m in models_of(cls)]
 
 
+def _tally_sample(t: MarchTest, setup: Arrangement, plan: Plan, cls_list: Sequence[str], uni: Universe) -> _Tally:
+    """Simulate a random sample of each class instance by instance; keep one example per group."""
+    assert uni.size is not None
+    tally = _Tally()
+    for cls in cls_list:
+        inst = sample_class(cls, setup, uni.size, uni.seed)
+        for r in simulate(t, inst, setup, plan):
+            g = _group_of(r)
+            v = _DETECTIONS.index(r.verdict)
+            tally.add(g, v, 1)
+            if v and (g not in tally.results or (tally.results[g].verdict == "partial" and v == 2)):
+                tally.results[g] = r
+    return tally
+
+
+def _tally_counted(plan: Plan, cls_list: Sequence[str], kind: str) -> _Tally:
+    """Count whole classes by relation and signature (``all`` or ``neighbours`` universes)."""
+    if kind == "neighbours":
+        require_layout(plan.setup)
+    tally = _Tally()
+    _single_cell(plan, [c for c in cls_list if models_of(c) and not models_of(c)[0].two_cell], tally)
+    _two_cell(plan, [c for c in cls_list if c in TWO_CELL_CLASSES], kind, tally)
+    if "SOF" in cls_list:
+        _stuck_open(plan, tally)
+    if "AF" in cls_list and plan.setup.words >= 1:
+        _decoder(plan, kind, tally)
+    return tally
+
+
+def _breakdowns(
+    cls: str, counts: dict[tuple[str, str, str], list[int]], examples: dict[tuple[str, str, str], FaultResult]
+) -> tuple[list[Breakdown], list[Breakdown], list[EscapeGroup]]:
+    """Per-model and per-scope breakdowns of one class, and its escaping groups with an example each."""
+    groups = {g: c for g, c in counts.items() if g[0] == cls}
+    by_model, escapes = [], []
+    for name in _model_order(cls):
+        cs = [c for g, c in groups.items() if g[1] == name]
+        if cs:
+            by_model.append(Breakdown(name, sum(map(sum, cs)), sum(c[0] for c in cs), sum(c[1] for c in cs)))
+        for scope in (*SCOPES, NO_SCOPE):
+            c = groups.get((cls, name, scope))
+            if c is not None and (c[1] or c[2]):
+                escapes.append(EscapeGroup(cls, name, scope, c[2], c[1], examples.get((cls, name, scope))))
+    by_scope = []
+    for scope in SCOPES if cls in TWO_CELL_CLASSES else ():
+        cs = [c for g, c in groups.items() if g[2] == scope]
+        if cs:
+            by_scope.append(Breakdown(scope, sum(map(sum, cs)), sum(c[0] for c in cs), sum(c[1] for c in cs)))
+    return by_model, by_scope, escapes
+
+
 def coverage(
     test: MarchTest | str,
-    setup: SimSetup,
+    setup: Arrangement,
     *,
     classes: str | Sequence[str] | None = None,
     universe: str | Universe = "all",
@@ -421,54 +474,20 @@ def coverage(
     cls_list = parse_classes(classes if classes is None or isinstance(classes, str) else tuple(classes))
     uni = parse_universe(universe, seed)
     plan = Plan.build(t, setup)
-    tally = _Tally()
     if uni.kind == "sample":
-        assert uni.size is not None
-        for cls in cls_list:
-            inst = sample_class(cls, setup, uni.size, uni.seed)
-            for r in simulate(t, inst, setup, plan):
-                g = _group_of(r)
-                v = _VERDICTS.index(r.verdict)
-                tally.add(g, v, 1)
-                if v and (g not in tally.results or (tally.results[g].verdict == "partial" and v == 2)):
-                    tally.results[g] = r
+        tally = _tally_sample(t, setup, plan, cls_list, uni)
         examples = tally.results
     else:
-        if uni.kind == "neighbours" and setup.layout is None:
-            raise FaultModelError(
-                "the neighbours universe needs the physical layout: give --layout ROWSxCOLS "
-                "(rows x column-mux words, rows*cols = words)"
-            )
-        _single_cell(plan, [c for c in cls_list if models_of(c) and not models_of(c)[0].two_cell], tally)
-        _two_cell(plan, [c for c in cls_list if c in TWO_CELL_CLASSES], uni.kind, tally)
-        if "SOF" in cls_list:
-            _stuck_open(plan, tally)
-        if "AF" in cls_list and setup.words >= 1:
-            _decoder(plan, uni.kind, tally)
+        tally = _tally_counted(plan, cls_list, uni.kind)
         examples = _resolve_examples(plan, uni.kind, tally)
     class_rows: list[ClassCoverage] = []
     escape_rows: list[EscapeGroup] = []
     for cls in cls_list:
-        groups = {g: c for g, c in tally.counts.items() if g[0] == cls}
-        total = [sum(c[i] for c in groups.values()) for i in range(3)]
-        faults = sum(total)
-        by_model = []
-        for name in _model_order(cls):
-            cs = [c for g, c in groups.items() if g[1] == name]
-            if cs:
-                by_model.append(Breakdown(name, sum(map(sum, cs)), sum(c[0] for c in cs), sum(c[1] for c in cs)))
-            for scope in (*SCOPES, NO_SCOPE):
-                c = groups.get((cls, name, scope))
-                if c is not None and (c[1] or c[2]):
-                    escape_rows.append(EscapeGroup(cls, name, scope, c[2], c[1], examples.get((cls, name, scope))))
-        by_scope = []
-        if cls in TWO_CELL_CLASSES:
-            for scope in SCOPES:
-                cs = [c for g, c in groups.items() if g[2] == scope]
-                if cs:
-                    by_scope.append(Breakdown(scope, sum(map(sum, cs)), sum(c[0] for c in cs), sum(c[1] for c in cs)))
-        ci = wilson_interval(total[0], faults) if uni.kind == "sample" else None
-        class_rows.append(ClassCoverage(cls, faults, total[0], total[1], tuple(by_model), tuple(by_scope), ci))
+        total = [sum(c[i] for g, c in tally.counts.items() if g[0] == cls) for i in range(3)]
+        by_model, by_scope, escapes = _breakdowns(cls, tally.counts, examples)
+        escape_rows.extend(escapes)
+        ci = wilson_interval(total[0], sum(total)) if uni.kind == "sample" else None
+        class_rows.append(ClassCoverage(cls, sum(total), total[0], total[1], tuple(by_model), tuple(by_scope), ci))
     return CoverageReport(
         t,
         label,

@@ -1,7 +1,7 @@
 """How a March test meets one memory: geometry, address order and data backgrounds, resolved once
 into the small arrays the engines need.
 
-Both engines take a :class:`SimSetup`. The reference engine hands it to
+Both engines take an :class:`Arrangement`. The reference engine hands it to
 :func:`memcheck.march.expand.expand` and runs the whole stream; the fast engine only needs, per word,
 its position in the ⇑ order and which background bit each of its cells gets (its *signature*).
 """
@@ -14,7 +14,7 @@ from typing import Literal
 import numpy as np
 import numpy.typing as npt
 
-from memcheck.errors import FaultModelError, MemcheckError
+from memcheck.errors import FaultModelError, UsageError
 from memcheck.march.backgrounds import DataBackground, parity, resolve_backgrounds
 from memcheck.march.notation import Delay, MarchElement, MarchTest
 from memcheck.march.orders import AddressOrder
@@ -24,10 +24,11 @@ ByteArray = npt.NDArray[np.uint8]
 
 
 @dataclass(frozen=True)
-class SimSetup:
+class Arrangement:
     """A memory of ``words`` x ``width`` bits, an optional physical ``layout`` (rows x mux columns of
     words, as in :mod:`memcheck.march.orders`), the address ``order`` kind and the data
-    ``backgrounds`` (default: ``solid`` for 1-bit words, the ``standard`` set for wider words)."""
+    ``backgrounds`` (default: ``solid`` for 1-bit words, the ``standard`` set for wider words), the
+    ``seed`` of the LFSR order and the walk ``any_order`` of elements whose order is ⇕ (up or down)."""
 
     words: int
     width: int = 1
@@ -35,12 +36,15 @@ class SimSetup:
     order: str = "linear"
     backgrounds: str | tuple[str, ...] | None = None
     seed: int | None = None
+    any_order: Literal["up", "down"] = "up"
 
     def __post_init__(self) -> None:
         if isinstance(self.words, bool) or not isinstance(self.words, int) or self.words < 1:
-            raise FaultModelError(f"words must be a positive integer, not {self.words!r}")
+            raise UsageError(f"words must be a positive integer, not {self.words!r}")
         if isinstance(self.width, bool) or not isinstance(self.width, int) or not 1 <= self.width <= 1024:
-            raise FaultModelError(f"width must be an integer from 1 to 1024, not {self.width!r}")
+            raise UsageError(f"width must be an integer from 1 to 1024, not {self.width!r}")
+        if self.any_order not in ("up", "down"):
+            raise UsageError(f"⇕ elements run up or down, not {self.any_order!r}")
 
     @property
     def background_spec(self) -> str | tuple[str, ...]:
@@ -53,11 +57,8 @@ class SimSetup:
         return self.words * self.width
 
     def resolve(self) -> Resolved:
-        try:
-            order = AddressOrder(self.order, self.words, self.layout, self.seed)
-            bgs = resolve_backgrounds(self.background_spec, self.width, self.layout)
-        except MemcheckError as exc:
-            raise FaultModelError(str(exc)) from None
+        order = AddressOrder(self.order, self.words, self.layout, self.seed)
+        bgs = resolve_backgrounds(self.background_spec, self.width, self.layout)
         up = order.up()
         pos = np.empty(self.words, dtype=np.int64)
         pos[up] = np.arange(self.words, dtype=np.int64)
@@ -86,7 +87,7 @@ class Resolved:
     A cell's signature code packs, over the backgrounds, the bit that ``w0`` writes to it.
     """
 
-    setup: SimSetup
+    setup: Arrangement
     backgrounds: tuple[DataBackground, ...]
     up: IntArray
     pos: IntArray
@@ -129,15 +130,15 @@ class Slot:
     direction: Literal["up", "down"]
 
 
-def schedule(test: MarchTest, nbg: int) -> tuple[Slot, ...]:
-    """The operations every word sees, in time order, over ``nbg`` backgrounds (⇕ runs up)."""
+def schedule(test: MarchTest, nbg: int, any_order: Literal["up", "down"] = "up") -> tuple[Slot, ...]:
+    """The operations every word sees, in time order, over ``nbg`` backgrounds (⇕ runs ``any_order``)."""
     out: list[Slot] = []
     for k in range(nbg):
         for e, el in enumerate(test.elements):
             if isinstance(el, Delay):
                 out.append(Slot(k, e, -1, "T", 0, "up"))
                 continue
-            direction: Literal["up", "down"] = "down" if el.order == "down" else "up"
+            direction: Literal["up", "down"] = any_order if el.order == "any" else el.order
             for j, op in enumerate(el.ops):
                 out.append(Slot(k, e, j, op.kind, op.value, direction))
     return tuple(out)

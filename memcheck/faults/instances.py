@@ -14,8 +14,10 @@ from memcheck.errors import FaultModelError
 from memcheck.faults.primitives import FaultModel
 from memcheck.march.notation import MarchElement, MarchTest
 
-Verdict = Literal["detected", "partial", "escaped"]
-VERDICTS: tuple[Verdict, ...] = ("detected", "partial", "escaped")
+#: What a March test does to one fault: ``detected`` from every power-up state, ``partial`` (detected
+#: from some power-up states only) or ``escaped``. Distinct from a check's pass/fail verdict.
+Detection = Literal["detected", "partial", "escaped"]
+DETECTIONS: tuple[Detection, ...] = ("detected", "partial", "escaped")
 
 DecoderKind = Literal["no-cell", "no-cell-shared", "wrong-cell", "extra-cell"]
 DECODER_KINDS: tuple[DecoderKind, ...] = ("no-cell", "no-cell-shared", "wrong-cell", "extra-cell")
@@ -279,7 +281,7 @@ class FaultResult:
     """One fault's verdict; ``witness`` is set for escapes and partial detections."""
 
     fault: FaultInstance
-    verdict: Verdict
+    verdict: Detection
     witness: Witness | None = None
 
     def describe(self, test: MarchTest | None = None) -> str:

@@ -10,7 +10,7 @@
                 universe, with a seeded generator; coverage then carries a Wilson 95% interval.
 
 For ``all`` and ``neighbours`` nothing is enumerated one instance at a time: the fast engine only needs
-how many instances share a relation and cell signatures (see :mod:`memcheck.faults.engine`), and those
+how many instances share a relation and cell signatures (see :mod:`memcheck.faults.fast`), and those
 multiplicities are counted here with numpy (pair counts by address and ⇑ position use an inversion
 count, O(words log words)).
 
@@ -28,8 +28,8 @@ import numpy as np
 import numpy.typing as npt
 
 from memcheck.errors import FaultModelError
-from memcheck.faults.engine import AF_VARIANTS, af_relation, cell_relation
-from memcheck.faults.geometry import Resolved, SimSetup
+from memcheck.faults.fast import AF_VARIANTS, af_relation, cell_relation
+from memcheck.faults.geometry import Arrangement, Resolved
 from memcheck.faults.instances import (
     Cell,
     CellFault,
@@ -115,7 +115,7 @@ def parse_classes(spec: str | tuple[str, ...] | list[str] | None) -> tuple[str, 
     return tuple(c for c in CLASSES if c in out)
 
 
-def require_layout(setup: SimSetup) -> tuple[int, int]:
+def require_layout(setup: Arrangement) -> tuple[int, int]:
     if setup.layout is None:
         raise FaultModelError(
             "the neighbours universe needs the physical layout: give --layout ROWSxCOLS "
@@ -303,7 +303,7 @@ def _offset_grid(rows: int, cols: int, dr: int, dc: int) -> tuple[IntArray, IntA
     return np.repeat(r, c.size), np.tile(c, r.size)
 
 
-def neighbour_pairs(setup: SimSetup) -> Iterator[tuple[IntArray, IntArray, IntArray, IntArray]]:
+def neighbour_pairs(setup: Arrangement) -> Iterator[tuple[IntArray, IntArray, IntArray, IntArray]]:
     """(aggressor word, aggressor bit, victim word, victim bit) arrays, one batch per neighbour offset,
     victims in physical row-major order."""
     rows, cols = require_layout(setup)
@@ -334,7 +334,7 @@ def pair_table_neighbours(rs: Resolved) -> PairTable:
     return _unpack(u, c, 1 << rs.nbg)
 
 
-def word_neighbours(setup: SimSetup) -> Iterator[tuple[IntArray, IntArray]]:
+def word_neighbours(setup: Arrangement) -> Iterator[tuple[IntArray, IntArray]]:
     rows, cols = require_layout(setup)
     for dr, dc in WORD_OFFSETS:
         grid = _offset_grid(rows, cols, dr, dc)
@@ -473,7 +473,7 @@ def sof_contexts(rs: Resolved) -> tuple[IntArray, IntArray]:
 # ---------------------------------------------------------------------------------------------------
 
 
-def class_size(cls: str, setup: SimSetup) -> int:
+def class_size(cls: str, setup: Arrangement) -> int:
     """Instances of ``cls`` in the ``all`` universe."""
     n, w = setup.cells, setup.words
     if cls == "SOF":
@@ -484,7 +484,7 @@ def class_size(cls: str, setup: SimSetup) -> int:
     return len(models) * (n * (n - 1) if models[0].two_cell else n)
 
 
-def instance_at(cls: str, setup: SimSetup, i: int) -> FaultInstance:
+def instance_at(cls: str, setup: Arrangement, i: int) -> FaultInstance:
     """Instance number ``i`` of ``cls`` in the ``all`` universe (a fixed enumeration)."""
     n, width, words = setup.cells, setup.width, setup.words
     if cls == "SOF":
@@ -507,7 +507,7 @@ def instance_at(cls: str, setup: SimSetup, i: int) -> FaultInstance:
     return CouplingFault(models[m], Cell(*divmod(a, width)), Cell(*divmod(v, width)))
 
 
-def enumerate_class(cls: str, setup: SimSetup, kind: str = "all") -> list[FaultInstance]:
+def enumerate_class(cls: str, setup: Arrangement, kind: str = "all") -> list[FaultInstance]:
     """Every instance of ``cls`` in the ``all`` or ``neighbours`` universe (small memories only)."""
     if kind == "all":
         return [instance_at(cls, setup, i) for i in range(class_size(cls, setup))]
@@ -532,7 +532,7 @@ def enumerate_class(cls: str, setup: SimSetup, kind: str = "all") -> list[FaultI
     return [CouplingFault(m, a, v) for m in models for a, v in pairs]
 
 
-def sample_class(cls: str, setup: SimSetup, size: int, seed: int) -> list[FaultInstance]:
+def sample_class(cls: str, setup: Arrangement, size: int, seed: int) -> list[FaultInstance]:
     """``size`` distinct instances of ``cls`` drawn uniformly (all of them when there are fewer)."""
     total = class_size(cls, setup)
     if total == 0:

@@ -45,7 +45,7 @@ from typing import Literal
 import numpy as np
 import numpy.typing as npt
 
-from memcheck.errors import NotationError
+from memcheck.errors import UsageError
 from memcheck.march.orders import address_to_row_col
 
 Flip = Literal["none", "row", "col", "cell"]
@@ -94,7 +94,7 @@ class DataBackground:
 
 def _check_width(width: int) -> None:
     if isinstance(width, bool) or not isinstance(width, int | np.integer) or not 1 <= width <= MAX_WIDTH:
-        raise NotationError(f"width must be an integer from 1 to {MAX_WIDTH} bits, not {width!r}")
+        raise UsageError(f"width must be an integer from 1 to {MAX_WIDTH} bits, not {width!r}")
 
 
 def _bit_pattern(width: int, bit: Callable[[int], object]) -> int:
@@ -132,17 +132,17 @@ def resolve_background(name: str, width: int, layout: tuple[int, int] | None = N
     if key.startswith("std") and key[3:].isdigit():
         k = int(key[3:])
         if k >= len(std):
-            raise NotationError(f"background {name!r}: a {width}-bit word has std0..std{len(std) - 1}")
+            raise UsageError(f"background {name!r}: a {width}-bit word has std0..std{len(std) - 1}")
         return (std[k],)
     if key.startswith("0x"):
         try:
             value = int(key, 16)
         except ValueError:
-            raise NotationError(f"background {name!r} is not a hex number") from None
+            raise UsageError(f"background {name!r} is not a hex number") from None
         if value >> width:
-            raise NotationError(f"background {name!r} does not fit in {width} bits")
+            raise UsageError(f"background {name!r} does not fit in {width} bits")
         return (DataBackground(f"{value:#x}", value),)
-    raise NotationError(
+    raise UsageError(
         f"unknown data background {name!r}; choose from {', '.join(BACKGROUND_NAMES)}, std0..stdK or a hex word "
         "such as 0x5a"
     )
@@ -155,7 +155,7 @@ def resolve_backgrounds(
     earlier one (same words) is dropped."""
     names = [s for s in (spec.split(",") if isinstance(spec, str) else spec) if s.strip()]
     if not names:
-        raise NotationError("at least one data background is needed (e.g. solid or standard)")
+        raise UsageError("at least one data background is needed (e.g. solid or standard)")
     out: list[DataBackground] = []
     seen: set[tuple[int, str]] = set()
     for n in names:

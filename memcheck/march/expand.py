@@ -28,7 +28,7 @@ from typing import Any, Literal, TypeVar
 import numpy as np
 import numpy.typing as npt
 
-from memcheck.errors import NotationError
+from memcheck.errors import BudgetError, UsageError
 from memcheck.march.backgrounds import (
     DataBackground,
     WordArray,
@@ -252,7 +252,7 @@ class MarchStream:
     def collect(self, limit: int = 1 << 24) -> StreamArrays:
         """The whole stream as arrays (for small memories and tests); refuses above ``limit`` ops."""
         if self.total_ops > limit:
-            raise NotationError(
+            raise BudgetError(
                 f"the stream has {self.total_ops} operations; collect() stops at {limit} (iterate the stream instead)"
             )
         parts = list(self.chunks())
@@ -310,15 +310,16 @@ def expand(
 ) -> MarchStream:
     """Plan ``test`` (a MarchTest, library name or notation) over a ``words`` x ``width`` memory.
 
-    Raises NotationError / UnknownAlgorithm for impossible requests (bad order, layout that does not
-    match the word count, unknown background, width outside 1..1024).
+    Raises NotationError or UnknownAlgorithm for a test that cannot be read, and UsageError for
+    impossible requests (bad order, layout that does not match the word count, unknown background,
+    width outside 1..1024).
     """
     t = resolve_test(test) if isinstance(test, str) else test
     _check_width(width)
     if any_order not in ("up", "down"):
-        raise NotationError(f"⇕ elements run up or down, not {any_order!r}")
+        raise UsageError(f"⇕ elements run up or down, not {any_order!r}")
     if isinstance(chunk_ops, bool) or not isinstance(chunk_ops, int) or chunk_ops < 1:
-        raise NotationError(f"chunk_ops must be a positive integer, not {chunk_ops!r}")
+        raise UsageError(f"chunk_ops must be a positive integer, not {chunk_ops!r}")
     lay = None if layout is None else (int(layout[0]), int(layout[1]))
     addr_order = AddressOrder(order, words, lay, seed)
     bgs = resolve_backgrounds(backgrounds, width, lay)

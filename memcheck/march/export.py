@@ -32,7 +32,7 @@ import numpy as np
 import numpy.typing as npt
 
 from memcheck._atomic import open_atomic
-from memcheck.errors import NotationError
+from memcheck.errors import UsageError
 from memcheck.march.backgrounds import WordArray
 from memcheck.march.expand import OP_WRITE, MarchStream, OpsChunk, Pause
 from memcheck.march.orders import address_bits
@@ -102,7 +102,7 @@ def _header_lines(stream: MarchStream) -> list[str]:
         f"memory {stream.words} words x {stream.width} bits"
         + (f", layout {stream.layout[0]}x{stream.layout[1]}" if stream.layout else "")
         + f", order {stream.order.kind}"
-        + (f" (seed {stream.seed})" if stream.order.kind == "lfsr" else ""),
+        + ("" if stream.seed is None else f", seed {stream.seed}"),
         "backgrounds "
         + ", ".join(
             f"{b.name}={b.base:#x}" + ("" if b.flip == "none" else f" flip-{b.flip}") for b in stream.backgrounds
@@ -198,7 +198,7 @@ def iter_export(stream: MarchStream, fmt: str) -> Iterator[bytes]:
         return iter_csv(stream)
     if fmt == "json":
         return iter_json(stream)
-    raise NotationError(f"unknown export format {fmt!r}; choose one of {', '.join(FORMATS)}")
+    raise UsageError(f"unknown export format {fmt!r}; choose one of {', '.join(FORMATS)}")
 
 
 def render(stream: MarchStream, fmt: str) -> str:

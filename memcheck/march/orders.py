@@ -31,7 +31,7 @@ from typing import Literal
 import numpy as np
 import numpy.typing as npt
 
-from memcheck.errors import NotationError
+from memcheck.errors import UsageError
 
 OrderKind = Literal["linear", "gray", "complement", "lfsr", "row-fast", "col-fast"]
 ORDER_KINDS: tuple[str, ...] = ("linear", "gray", "complement", "lfsr", "row-fast", "col-fast")
@@ -87,23 +87,23 @@ def parse_layout(text: str) -> tuple[int, int]:
     """Parse ``ROWSxCOLS`` (e.g. ``256x4``) into ``(rows, cols)``."""
     parts = text.lower().replace("*", "x").split("x")
     if len(parts) != 2 or not all(p.strip().isdigit() for p in parts):
-        raise NotationError(f"a layout is ROWSxCOLS such as 256x4, not {text!r}")
+        raise UsageError(f"a layout is ROWSxCOLS such as 256x4, not {text!r}")
     rows, cols = int(parts[0]), int(parts[1])
     if rows < 1 or cols < 1:
-        raise NotationError(f"layout {text!r}: rows and columns must be at least 1")
+        raise UsageError(f"layout {text!r}: rows and columns must be at least 1")
     return rows, cols
 
 
 def check_geometry(words: int, layout: tuple[int, int] | None) -> None:
     """Reject word counts and layouts no order can serve, with the reason."""
     if isinstance(words, bool) or not isinstance(words, int | np.integer) or not 1 <= words <= MAX_WORDS:
-        raise NotationError(f"words must be an integer from 1 to 2**32, not {words!r}")
+        raise UsageError(f"words must be an integer from 1 to 2**32, not {words!r}")
     if layout is not None:
         if len(layout) != 2 or not all(isinstance(v, int | np.integer) and v >= 1 for v in layout):
-            raise NotationError(f"a layout is (rows, cols) with both at least 1, not {layout!r}")
+            raise UsageError(f"a layout is (rows, cols) with both at least 1, not {layout!r}")
         rows, cols = int(layout[0]), int(layout[1])
         if rows * cols != words:
-            raise NotationError(
+            raise UsageError(
                 f"layout {rows}x{cols} holds {rows * cols} words but the memory has {words}; "
                 "rows x cols (column multiplexing) must equal the word count"
             )
@@ -117,10 +117,10 @@ def lfsr_sequence(bits: int, start: int = 1) -> IntArray:
     column (``bits`` numpy passes per doubling).
     """
     if bits not in LFSR_TAPS:
-        raise NotationError(f"no LFSR polynomial for {bits} address bits (supported: 2 to 32)")
+        raise UsageError(f"no LFSR polynomial for {bits} address bits (supported: 2 to 32)")
     period = (1 << bits) - 1
     if not 1 <= start <= period:
-        raise NotationError(f"an LFSR start state must be 1..{period}, not {start}")
+        raise UsageError(f"an LFSR start state must be 1..{period}, not {start}")
     mask = 0
     for t in LFSR_TAPS[bits]:
         mask |= 1 << (t - 1)
@@ -170,12 +170,12 @@ class AddressOrder:
 
     def __post_init__(self) -> None:
         if self.kind not in ORDER_KINDS:
-            raise NotationError(f"unknown address order {self.kind!r}; choose one of {', '.join(ORDER_KINDS)}")
+            raise UsageError(f"unknown address order {self.kind!r}; choose one of {', '.join(ORDER_KINDS)}")
         check_geometry(self.words, self.layout)
         if self.kind in ("row-fast", "col-fast") and self.layout is None:
-            raise NotationError(f"address order {self.kind!r} needs a layout (ROWSxCOLS, e.g. --layout 256x4)")
+            raise UsageError(f"address order {self.kind!r} needs a layout (ROWSxCOLS, e.g. --layout 256x4)")
         if self.seed is not None and (isinstance(self.seed, bool) or not isinstance(self.seed, int)):
-            raise NotationError(f"an LFSR seed is an integer, not {self.seed!r}")
+            raise UsageError(f"an LFSR seed is an integer, not {self.seed!r}")
 
     @property
     def lfsr_bits(self) -> int:

@@ -11,7 +11,7 @@ from dataclasses import dataclass, replace
 from typing import Any
 
 from memcheck.errors import MemcheckError, SynthesisError
-from memcheck.faults import CLASSES, DISCLAIMER, CoverageReport, SimSetup, coverage
+from memcheck.faults import CLASSES, DISCLAIMER, Arrangement, CoverageReport, coverage
 from memcheck.march.library import ALGORITHMS
 from memcheck.march.notation import MarchTest
 from memcheck.synthesis.elements import DOWN, UP
@@ -44,7 +44,7 @@ class SynthesisResult:
     for a search cut short the shortest library test that detects the classes (``fallback``)."""
 
     classes: tuple[str, ...]
-    setup: SimSetup
+    setup: Arrangement
     max_length: int
     test: MarchTest | None
     report: CoverageReport | None
@@ -112,8 +112,8 @@ def parse_fault_classes(spec: str | Sequence[str]) -> tuple[str, ...]:
     return tuple(c for c in CLASSES if c in out)
 
 
-def _setup(words: int, width: int, order: str, backgrounds: str | None, seed: int | None) -> SimSetup:
-    setup = SimSetup(words, width, None, order, backgrounds, seed)
+def _setup(words: int, width: int, order: str, backgrounds: str | None, seed: int | None) -> Arrangement:
+    setup = Arrangement(words, width, None, order, backgrounds, seed)
     rs = setup.resolve()
     if rs.nbg != 1:
         raise SynthesisError(
@@ -167,7 +167,7 @@ def _any_elements(model: RowModel, steps: tuple[Step, ...]) -> list[int]:
     return chosen
 
 
-def _confirm(steps: tuple[Step, ...], anys: list[int], setup: SimSetup, classes: tuple[str, ...]) -> CoverageReport:
+def _confirm(steps: tuple[Step, ...], anys: list[int], setup: Arrangement, classes: tuple[str, ...]) -> CoverageReport:
     """Coverage of the test on the memory with the fault engine, for every walk of its ⇕ elements."""
     report: CoverageReport | None = None
     for dirs in itertools.product((UP, DOWN), repeat=len(anys)):
@@ -186,7 +186,7 @@ def _confirm(steps: tuple[Step, ...], anys: list[int], setup: SimSetup, classes:
     return coverage(test, setup, classes=classes)
 
 
-def _fallback(setup: SimSetup, classes: tuple[str, ...]) -> MarchTest | None:
+def _fallback(setup: Arrangement, classes: tuple[str, ...]) -> MarchTest | None:
     """The shortest library test that detects every instance on the memory, if any."""
     for alg in sorted(ALGORITHMS, key=lambda a: a.length):
         if alg.test.delays and "DRF" not in classes:

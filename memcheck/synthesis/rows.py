@@ -28,8 +28,8 @@ from dataclasses import dataclass
 import numpy as np
 import numpy.typing as npt
 
-from memcheck.faults import SimSetup
-from memcheck.faults.engine import AF_VARIANTS  # the fast engine's decoder variants, in its order
+from memcheck.faults import Arrangement
+from memcheck.faults.fast import AF_VARIANTS  # the fast engine's decoder variants, in its order
 from memcheck.faults.primitives import FaultModel, aggressor_op, models_of, pause, settle, victim_op
 from memcheck.faults.universe import cell_table, pair_table_all, word_pair_table
 
@@ -171,7 +171,7 @@ _RELATION_NAMES = ("one cell", "same word", "aggressor's word first in ⇑", "vi
 _AF_RELATION_NAMES = ("", "x first in ⇑", "y first in ⇑")  # (label, alternatives of row lists)
 
 
-def fp_builder(cls: str, setup: SimSetup) -> Built:
+def fp_builder(cls: str, setup: Arrangement) -> Built:
     """Rows of an FP-based class over the relations and codes present in ``setup``."""
     rs = setup.resolve()
     models = models_of(cls)
@@ -190,7 +190,7 @@ def fp_builder(cls: str, setup: SimSetup) -> Built:
     return out
 
 
-def af_builder(cls: str, setup: SimSetup) -> Built:
+def af_builder(cls: str, setup: Arrangement) -> Built:
     """Decoder-fault rows: per word pair class, one alternative per data bit."""
     rs = setup.resolve()
     codes = rs.class_codes()
@@ -211,7 +211,7 @@ def af_builder(cls: str, setup: SimSetup) -> Built:
     return out
 
 
-Builder = Callable[[str, SimSetup], Built]
+Builder = Callable[[str, Arrangement], Built]
 ROW_BUILDERS: dict[str, Builder] = {"AF": af_builder}
 
 
@@ -290,7 +290,7 @@ def _iter_specs(built: Built) -> Iterator[tuple[str, list[list[RowSpec]]]]:
     yield from built
 
 
-def build_model(classes: Sequence[str], setup: SimSetup) -> RowModel:
+def build_model(classes: Sequence[str], setup: Arrangement) -> RowModel:
     """The row model of ``classes`` on ``setup`` (one data background). Classes without a builder
     raise KeyError (the caller reports it)."""
     rows: dict[bytes, int] = {}
@@ -358,7 +358,7 @@ def complement_closed(classes: Sequence[str]) -> bool:
     return True
 
 
-def mirror_closed(setup: SimSetup) -> bool:
+def mirror_closed(setup: Arrangement) -> bool:
     """True when reversing every element's direction maps the fault universe onto itself: for each
     cell pair with the aggressor's word first in ⇑ there is one with the same codes and the victim's
     word first, and likewise for decoder word pairs."""

@@ -7,7 +7,7 @@ differs from what a fault-free memory run from the same power-up state returns a
 been written (a never-written word's content is unknown to the tester, so it is not compared).
 
 Cells outside the fault power up to 0; only the faulty cells' states are enumerated.
-The fast engine (:mod:`memcheck.faults.engine`) must give exactly these results.
+The fast engine (:mod:`memcheck.faults.fast`) must give exactly these results.
 """
 
 from __future__ import annotations
@@ -15,17 +15,17 @@ from __future__ import annotations
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
 
-from memcheck.faults.geometry import SimSetup, check_consistent
+from memcheck.faults.geometry import Arrangement, check_consistent
 from memcheck.faults.instances import (
     Cell,
     CellFault,
     CouplingFault,
     DecoderFault,
+    Detection,
     FaultInstance,
     FaultResult,
     OpRef,
     StuckOpenFault,
-    Verdict,
     Witness,
 )
 from memcheck.faults.primitives import aggressor_op, pause, settle, victim_op
@@ -43,7 +43,7 @@ class _Event:
     ref: OpRef
 
 
-def _events(test: MarchTest, setup: SimSetup) -> list[_Event]:
+def _events(test: MarchTest, setup: Arrangement) -> list[_Event]:
     stream = expand(
         test,
         setup.words,
@@ -52,6 +52,7 @@ def _events(test: MarchTest, setup: SimSetup) -> list[_Event]:
         order=setup.order,
         backgrounds=setup.background_spec,
         seed=setup.seed,
+        any_order=setup.any_order,
     )
     out: list[_Event] = []
     for item in stream.steps():
@@ -182,7 +183,7 @@ class _Run:
     masked: dict[int, int]  # bit -> first event index after that at which they agree again
 
 
-def _power_up(fault: FaultInstance, values: Sequence[int], setup: SimSetup) -> tuple[_Memory, list[int], list[int]]:
+def _power_up(fault: FaultInstance, values: Sequence[int], setup: Arrangement) -> tuple[_Memory, list[int], list[int]]:
     """The faulty memory, the good memory's cells and the words to watch, in power-up state ``values``."""
     good = [0] * setup.words
     ones = (1 << setup.width) - 1
@@ -205,7 +206,7 @@ def _power_up(fault: FaultInstance, values: Sequence[int], setup: SimSetup) -> t
     return bad, good, list(fault.words)
 
 
-def _run(fault: FaultInstance, values: Sequence[int], events: Sequence[_Event], setup: SimSetup) -> _Run:
+def _run(fault: FaultInstance, values: Sequence[int], events: Sequence[_Event], setup: Arrangement) -> _Run:
     bad, good, watch = _power_up(fault, values, setup)
     written = [False] * setup.words
     run = _Run(0, {}, {})
@@ -258,12 +259,12 @@ def _states(n: int) -> list[tuple[int, ...]]:
     return [tuple((s >> (n - 1 - i)) & 1 for i in range(n)) for s in range(1 << n)]
 
 
-def _verdict(all_detect: bool, some_detect: bool) -> Verdict:
+def _verdict(all_detect: bool, some_detect: bool) -> Detection:
     return "detected" if all_detect else ("partial" if some_detect else "escaped")
 
 
 def simulate_one(
-    test: MarchTest, fault: FaultInstance, setup: SimSetup, events: Sequence[_Event] | None = None
+    test: MarchTest, fault: FaultInstance, setup: Arrangement, events: Sequence[_Event] | None = None
 ) -> FaultResult:
     """Run every power-up state of ``fault``'s cells through the whole test."""
     if events is None:
@@ -304,7 +305,7 @@ def simulate_one(
     )
 
 
-def simulate_naive(test: MarchTest, faults: Iterable[FaultInstance], setup: SimSetup) -> list[FaultResult]:
+def simulate_reference(test: MarchTest, faults: Iterable[FaultInstance], setup: Arrangement) -> list[FaultResult]:
     """Reference verdicts for ``faults`` under ``test`` on the memory ``setup`` describes."""
     check_consistent(test, len(setup.resolve().backgrounds))
     events = _events(test, setup)

@@ -24,18 +24,18 @@ from dataclasses import dataclass, field
 import numpy as np
 import numpy.typing as npt
 
-from memcheck.faults.geometry import Resolved, SimSetup, Slot, check_consistent, schedule
+from memcheck.faults.geometry import Arrangement, Resolved, Slot, check_consistent, schedule
 from memcheck.faults.instances import (
     Cell,
     CellFault,
     CouplingFault,
     DecoderFault,
     DecoderKind,
+    Detection,
     FaultInstance,
     FaultResult,
     OpRef,
     StuckOpenFault,
-    Verdict,
     Wired,
     Witness,
 )
@@ -142,16 +142,16 @@ class Plan:
     """A test resolved over one setup, with its streams built on demand."""
 
     test: MarchTest
-    setup: SimSetup
+    setup: Arrangement
     rs: Resolved
     slots: tuple[Slot, ...]
     _streams: dict[str, Stream] = field(default_factory=dict)
 
     @classmethod
-    def build(cls, test: MarchTest, setup: SimSetup) -> Plan:
+    def build(cls, test: MarchTest, setup: Arrangement) -> Plan:
         rs = setup.resolve()
         check_consistent(test, rs.nbg)
-        return cls(test, setup, rs, schedule(test, rs.nbg))
+        return cls(test, setup, rs, schedule(test, rs.nbg, setup.any_order))
 
     def stream(self, relation: str) -> Stream:
         if relation not in self._streams:
@@ -285,7 +285,7 @@ def cell_relation(pos: IntArray, wa: IntArray | None, wv: IntArray) -> IntArray:
     return np.where(wa == wv, 1, np.where(pos[wa] < pos[wv], 2, 3)).astype(np.int64)
 
 
-_VERDICT_NAMES: tuple[Verdict, ...] = ("detected", "partial", "escaped")
+_DETECTION_NAMES: tuple[Detection, ...] = ("detected", "partial", "escaped")
 
 
 def _cell_results(plan: Plan, faults: Sequence[CellFault | CouplingFault]) -> list[FaultResult]:
@@ -317,7 +317,7 @@ def _cell_results(plan: Plan, faults: Sequence[CellFault | CouplingFault]) -> li
         for j, i in enumerate(idx.tolist()):
             c, m = int(inv[j]), local[int(mi[i])]
             f = faults[i]
-            verdict = _VERDICT_NAMES[verdicts[c, m]]
+            verdict = _DETECTION_NAMES[verdicts[c, m]]
             if verdict == "detected":
                 out[i] = FaultResult(f, verdict)
                 continue
@@ -339,6 +339,30 @@ def _cell_results(plan: Plan, faults: Sequence[CellFault | CouplingFault]) -> li
 # ---------------------------------------------------------------------------------------------------
 
 
+def _last_writes(slots: Sequence[Slot]) -> list[int]:
+    """Per slot, the index of the last write slot before it (-1: none yet)."""
+    out: list[int] = []
+    lw = -1
+    for i, s in enumerate(slots):
+        out.append(lw)
+        if s.kind == "w":
+            lw = i
+    return out
+
+
+def _reading_visits(slots: Sequence[Slot]) -> list[tuple[Slot, list[int]]]:
+    """Each (background, element) pass that reads: its first slot and the indices of its read slots."""
+    visits: list[tuple[Slot, list[int]]] = []
+    for i, s in enumerate(slots):
+        if s.kind == "T":
+            continue
+        if not visits or (visits[-1][0].background, visits[-1][0].element) != (s.background, s.element):
+            visits.append((s, []))
+        if s.kind == "r":
+            visits[-1][1].append(i)
+    return [v for v in visits if v[1]]
+
+
 def sof_detection(plan: Plan, words: IntArray, bits: IntArray) -> tuple[BoolArray, BoolArray]:
     """Whether some compared read of each stuck-open cell differs, for data-out latch power-up 0 and 1.
 
@@ -350,12 +374,7 @@ def sof_detection(plan: Plan, words: IntArray, bits: IntArray) -> tuple[BoolArra
     rs, slots = plan.rs, plan.slots
     n = plan.setup.words
     up = rs.up
-    last_write: list[int] = []
-    lw = -1
-    for i, s in enumerate(slots):
-        last_write.append(lw)
-        if s.kind == "w":
-            lw = i
+    last_write = _last_writes(slots)
     codes_cls = rs.class_codes()
 
     def good_value(u: IntArray, t: int) -> IntArray:
@@ -365,15 +384,7 @@ def sof_detection(plan: Plan, words: IntArray, bits: IntArray) -> tuple[BoolArra
             return np.zeros(len(u), np.int64)
         return ((codes_cls[rs.wclass[u], bits] >> slots[w].background) & 1) ^ slots[w].value
 
-    visits: list[tuple[Slot, list[int]]] = []  # (first slot of the visit, read slot indices)
-    for i, s in enumerate(slots):
-        if s.kind == "T":
-            continue
-        if not visits or (visits[-1][0].background, visits[-1][0].element) != (s.background, s.element):
-            visits.append((s, []))
-        if s.kind == "r":
-            visits[-1][1].append(i)
-    visits = [v for v in visits if v[1]]
+    visits = _reading_visits(slots)
     p = rs.pos[words]
     det = [np.zeros(len(words), bool), np.zeros(len(words), bool)]
     for vi, (first, reads) in enumerate(visits):
@@ -415,7 +426,7 @@ def _sof_results(plan: Plan, faults: Sequence[StuckOpenFault]) -> list[FaultResu
         if d0[i] and d1[i]:
             out.append(FaultResult(f, "detected"))
             continue
-        verdict: Verdict = "partial" if d0[i] or d1[i] else "escaped"
+        verdict: Detection = "partial" if d0[i] or d1[i] else "escaped"
         l0 = 1 if d0[i] else 0
         out.append(FaultResult(f, verdict, Witness(((f.power_up_labels()[0], l0),), None, None)))
     return out
@@ -488,7 +499,7 @@ def af_state_values(s: int, has_y: bool) -> tuple[int, ...]:
 
 
 def combine_bits(det: BoolArray) -> tuple[int, IntArray]:
-    """Verdict code of a decoder fault from its per-bit detection ``det[b, s]`` over the states it
+    """Detection code of a decoder fault from its per-bit detection ``det[b, s]`` over the states it
     uses, and the first escaping state of each bit (see the reference engine for why bits combine so)."""
     all_d = bool(det.all(axis=1).any())
     any_d = bool(det.any())
@@ -526,7 +537,7 @@ def _af_results(plan: Plan, faults: Sequence[DecoderFault]) -> list[FaultResult]
         states = np.arange(8) if f.other is not None else np.array([0, 1, 4, 5])  # y's cell unused: keep it 0
         det = run.detected[cls_rows, m][:, states]  # (width, ns)
         code, first = combine_bits(det)
-        verdict = _VERDICT_NAMES[code]
+        verdict = _DETECTION_NAMES[code]
         if verdict == "detected":
             out.append(FaultResult(f, verdict))
             continue
@@ -557,9 +568,9 @@ def _af_results(plan: Plan, faults: Sequence[DecoderFault]) -> list[FaultResult]
 
 
 def simulate(
-    test: MarchTest, faults: Sequence[FaultInstance], setup: SimSetup, plan: Plan | None = None
+    test: MarchTest, faults: Sequence[FaultInstance], setup: Arrangement, plan: Plan | None = None
 ) -> list[FaultResult]:
-    """Fast verdicts for ``faults`` (same results as :func:`memcheck.faults.naive.simulate_naive`)."""
+    """Fast verdicts for ``faults`` (same results as :func:`memcheck.faults.reference.simulate_reference`)."""
     plan = plan if plan is not None else Plan.build(test, setup)
     for f in faults:
         _check_inside(f, setup)
@@ -576,7 +587,7 @@ def simulate(
     return [r for r in out if r is not None]
 
 
-def _check_inside(f: FaultInstance, setup: SimSetup) -> None:
+def _check_inside(f: FaultInstance, setup: Arrangement) -> None:
     from memcheck.errors import FaultModelError
 
     cells: tuple[Cell, ...] = () if isinstance(f, DecoderFault) else f.cells
