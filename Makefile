@@ -4,8 +4,9 @@
 PYTHON ?= python3
 VENV   ?= .venv
 BIN    := $(VENV)/bin
-# Coverage floor of memcheck/ lines (simulator subprocesses included); raise it, never lower it.
-COV_FLOOR ?= 90
+# Coverage floor of memcheck/ lines (simulator subprocesses included): the suite reached 96.2 %.
+# Raise it when the figure rises; never lower it to let a change pass.
+COV_FLOOR ?= 96
 
 .PHONY: demo test setup lint typecheck hooks clean
 

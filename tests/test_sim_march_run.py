@@ -19,7 +19,7 @@ from hypothesis import strategies as st
 
 from memcheck.cli import main
 from memcheck.contract import Contract, load_contract
-from memcheck.errors import InvalidOperation, MemcheckError, NotationError, UnknownAlgorithm
+from memcheck.errors import InvalidOperation, MemcheckError, NotationError, UnknownAlgorithm, UsageError
 from memcheck.examples import examples_dir
 from memcheck.model_fast import Columns
 from memcheck.ops import Cycle
@@ -166,7 +166,7 @@ def test_layout_and_orders_reach_the_stream() -> None:
     p = program_for(tiny_contract(), MATS_PLUS, backgrounds="solid", layout=(4, 4), order="row-fast")
     first = [p.cycles[k][0].address for k in range(5)]
     assert first == [0, 4, 8, 12, 1]  # row changes fastest: address = row * 4 + col
-    with pytest.raises(NotationError):
+    with pytest.raises(UsageError):
         program_for(tiny_contract(), MATS_PLUS, layout=(3, 4))
 
 
@@ -678,7 +678,7 @@ def test_carried_model_agrees_on_random_contracts(
 
     try:
         p = program_for(contract, test, backgrounds="solid", pause_cycles=data.draw(st.integers(0, 5)))
-    except (InvalidOperation, NotationError):
+    except (InvalidOperation, NotationError, UsageError):
         assume(False)
         return
     start = "reset" if contract.reset is not None else "power-up"
