@@ -10,7 +10,7 @@ state machine. One branch per rule of the contract semantics.
 from __future__ import annotations
 
 from memcheck.contract import Contract
-from memcheck.ops import Expected, PortOp
+from memcheck.ops import Expected, OpKind, PortOp
 
 Bits = list[int | None]
 
@@ -57,7 +57,7 @@ class NaiveOracle:
         # writes to in-range addresses that enable at least one bit
         writes = []
         for i, op in enumerate(cycle):
-            if op.kind == "write" and op.address < m.words:
+            if op.kind == OpKind.WRITE and op.address < m.words:
                 mask = self.lane_mask_bits(op.lanes)
                 if any(mask):
                     writes.append((i, op.address, self.bits_of(op.data), mask))
@@ -79,11 +79,11 @@ class NaiveOracle:
             new_mem[addr] = new
         # each port's result for this cycle
         for i, (port, op) in enumerate(zip(self.c.ports, cycle, strict=True)):
-            if not port.can_read or op.kind == "idle":
+            if not port.can_read or op.kind == OpKind.IDLE:
                 self.history[i].append(("none", None))
                 continue
             a = op.address
-            if op.kind == "write":
+            if op.kind == OpKind.WRITE:
                 rule = m.read_during_write
                 if rule == "keep":
                     self.history[i].append(("hold", None))

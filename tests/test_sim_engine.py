@@ -7,7 +7,7 @@ from dataclasses import replace
 
 import pytest
 
-from memcheck.ops import PortOp, read, write
+from memcheck.ops import OpKind, PortOp, read, write
 from memcheck.sim.engine import EXAMPLE_PREAMBLE, Engine, RunOptions
 from memcheck.sim.result import Failure, RunResult
 from memcheck.sim.sequences import fill_word, smoke_cycles
@@ -52,8 +52,8 @@ def test_property_phase_alone_finds_a_bug_and_shrinks_it() -> None:
     assert len(res.failure.trace) <= 6
     # What is left: a partial write (the bypass register misses it) and a read of the same word.
     ops = [c[0] for c in res.failure.trace.cycles]
-    partial = [op for op in ops if op.kind == "write" and op.lanes is not None]
-    assert partial and any(op.kind == "read" and op.address == partial[0].address for op in ops)
+    partial = [op for op in ops if op.kind == OpKind.WRITE and op.lanes is not None]
+    assert partial and any(op.kind == OpKind.READ and op.address == partial[0].address for op in ops)
 
 
 def test_verdicts_do_not_depend_on_earlier_examples() -> None:
@@ -65,7 +65,7 @@ def test_verdicts_do_not_depend_on_earlier_examples() -> None:
     # Run many unrelated examples first, then the failing one: same verdict and same mismatch.
     eng = Engine(c, PyRam(c, "stale_bypass"), FAST)
     for a in range(16):
-        eng.run_example([(write(a, 0xFF),), (read(a),), (PortOp("idle"),)])
+        eng.run_example([(write(a, 0xFF),), (read(a),), (PortOp(OpKind.IDLE),)])
     assert eng.run_example(trace).signature() == res.failure.checked.signature()
 
 
@@ -92,9 +92,9 @@ def test_run_result_round_trips_through_json() -> None:
 def test_smoke_writes_and_reads_every_lane() -> None:
     c = contract()
     cycles = smoke_cycles(c)
-    lanes = {op.lanes for cyc in cycles for op in cyc if op.kind == "write"}
+    lanes = {op.lanes for cyc in cycles for op in cyc if op.kind == OpKind.WRITE}
     assert lanes == {None, 1, 2}
-    assert any(op.kind == "read" for cyc in cycles for op in cyc)
+    assert any(op.kind == OpKind.READ for cyc in cycles for op in cyc)
 
 
 def test_fill_pattern_is_deterministic_and_never_trivial() -> None:
@@ -176,7 +176,14 @@ def test_columns_and_cycle_paths_agree_on_the_stand_in() -> None:
     from memcheck.model_fast import Columns
 
     c = contract()
-    cycles = [(write(3, 0xA5, 1),), (read(3),), (PortOp("idle"),), (write(3, 0x5A),), (read(3),), (PortOp("idle"),)]
+    cycles = [
+        (write(3, 0xA5, 1),),
+        (read(3),),
+        (PortOp(OpKind.IDLE),),
+        (write(3, 0x5A),),
+        (read(3),),
+        (PortOp(OpKind.IDLE),),
+    ]
     for bug in ("none", "swap_lanes", "late_data"):
         eng = Engine(c, PyRam(c, bug), FAST)
         rows = eng.run_example(cycles)
@@ -213,9 +220,9 @@ def test_short_examples_put_garbage_addresses_from_the_pool() -> None:
     @given(traces(c, max_pool=3))
     def prop(trace) -> None:  # type: ignore[no-untyped-def]
         ops = [op for cyc in trace.cycles for op in cyc]
-        garbage = [op for op in ops if op.kind == "idle" and (op.address or op.data or op.lanes is not None)]
+        garbage = [op for op in ops if op.kind == OpKind.IDLE and (op.address or op.data or op.lanes is not None)]
         seen_garbage.extend(garbage)
-        assert len({op.address for op in ops if op.kind != "idle" or op in garbage}) <= 3
+        assert len({op.address for op in ops if op.kind != OpKind.IDLE or op in garbage}) <= 3
 
     prop()
     assert seen_garbage

@@ -11,7 +11,7 @@ import pytest
 from memcheck.cli import main
 from memcheck.contract import load_contract
 from memcheck.errors import MemcheckError, SimulationError
-from memcheck.ops import IDLE, Trace, read, write
+from memcheck.ops import IDLE, OpKind, Trace, read, write
 from memcheck.sim import check_contract, replay_file
 from memcheck.sim.build import build
 from memcheck.sim.checker import CheckedTrace
@@ -168,7 +168,7 @@ def test_harness_sees_what_a_synchronous_consumer_flop_sees(tmp_path: Path, buil
 
     drive = []
     for op in ops:
-        en, we = (0, 0) if op.kind == "idle" else (1, int(op.kind == "write"))
+        en, we = (0, 0) if op.kind == OpKind.IDLE else (1, int(op.kind == OpKind.WRITE))
         lanes = 0b11 if op.lanes is None else op.lanes
         drive.append(f"cs_n = {1 - en}; we = {we}; addr = {op.address}; wdata = 16'h{op.data:x}; be = 2'b{lanes:02b};")
     steps = "\n".join(f"    @(negedge clk); {d}" for d in drive)
@@ -419,7 +419,7 @@ def test_bulk_examples_alone_catch_a_write_while_deselected(tmp_path: Path, buil
     assert "bulk examples" in res.phases[0].detail
     trace = res.failure.trace
     assert len(trace) <= 6 and res.reproduced is True
-    assert any(op.kind == "idle" and (op.address or op.data) for cyc in trace.cycles for op in cyc)
+    assert any(op.kind == OpKind.IDLE and (op.address or op.data) for cyc in trace.cycles for op in cyc)
 
 
 def test_bulk_examples_pass_the_conforming_fixture_with_many_operations(tmp_path: Path, build_cache: Path) -> None:

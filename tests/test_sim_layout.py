@@ -9,7 +9,7 @@ from hypothesis import strategies as st
 from memcheck.contract import Contract, parse_contract
 from memcheck.errors import InvalidOperation, SimulationError
 from memcheck.model_fast import Columns
-from memcheck.ops import PortOp, idle, read, write
+from memcheck.ops import OpKind, PortOp, idle, read, write
 from memcheck.sim.harness import harness_text
 from memcheck.sim.layout import Layout, Observed
 from memcheck.sim.pins import TopPort, check_pins, read_ports
@@ -98,7 +98,7 @@ def test_active_low_pins_are_inverted_and_reset_encoded() -> None:
 
 def test_idle_with_garbage_asserts_write_enable_but_not_enable() -> None:
     lay = _layout()
-    clean = lay.encode((PortOp("idle"), read(0)))
+    clean = lay.encode((PortOp(OpKind.IDLE), read(0)))
     assert _field(clean, lay, 0, "enable") == 1 and _field(clean, lay, 0, "write_enable") == 0
     dirty = lay.encode((idle(3, 0x1234, 0b11), read(0)))
     assert _field(dirty, lay, 0, "enable") == 1  # still deselected

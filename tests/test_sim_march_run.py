@@ -21,7 +21,7 @@ from memcheck.cli import main
 from memcheck.contract import Contract, load_contract
 from memcheck.errors import InvalidOperation, MemcheckError, NotationError, UnknownAlgorithm
 from memcheck.model_fast import Columns
-from memcheck.ops import Cycle
+from memcheck.ops import Cycle, OpKind
 from memcheck.sim.engine import Engine
 from memcheck.sim.layout import Observed
 from memcheck.sim.march_job import MarchJob, march_pieces, run_march_job
@@ -76,10 +76,10 @@ def stand_in(
     for cyc in cycles:
         out.append((Observed(0, 0) if rdata is None else Observed(rdata, mask),))
         op = cyc[0]
-        if op.kind == "write":
+        if op.kind == OpKind.WRITE:
             mem[op.address] = op.data
             idle = 0
-        elif op.kind == "read":
+        elif op.kind == OpKind.READ:
             v = mem[op.address]
             if stuck is not None and op.address == stuck[0] and v is not None:
                 v = (v | 1 << stuck[1]) if stuck[2] else (v & ~(1 << stuck[1]))
@@ -138,8 +138,8 @@ def test_cycles_one_operation_each_back_to_back_plus_pauses_and_drain() -> None:
     # Each operation sits on its own cycle, in stream order; quiet cycles carry none.
     assert list(p.op_cycle[:17]) == [*range(16), 23]
     assert (p.cycle_op[16:23] == -1).all()
-    assert p.cycles[23][0].kind == "read" and p.cycles[23][0].address == 0
-    assert p.cycles[-1][0].kind == "idle"
+    assert p.cycles[23][0].kind == OpKind.READ and p.cycles[23][0].address == 0
+    assert p.cycles[-1][0].kind == OpKind.IDLE
     # The last element walks down: its first read is address 15.
     assert p.cycles[62][0].address == 15
 
@@ -436,7 +436,7 @@ def test_quiet_reads_of_a_port_without_enable_are_checked_too(tmp_path: Path, bu
     f = r.failure
     assert f is not None and f.step is not None
     assert (f.port, f.activity, f.issued_cycle, f.cycle) == ("rd", "quiet", 641, 643)
-    assert (f.step.element, f.step.step, f.step.op.kind, f.step.op.address) == (1, 1, "write", 0)
+    assert (f.step.element, f.step.step, f.step.op.kind, f.step.op.address) == (1, 1, OpKind.WRITE, 0)
     assert f.failed_checks == ("contract model",) and f.march_expected is None
     assert f.got == Observed((1 << 30) - 1, (1 << 30) - 1) and f.model_expected.value == 0
     assert "read address 0 (a port without an enable" in f.description

@@ -10,7 +10,7 @@ from pathlib import Path
 import pytest
 
 from memcheck.contract import Contract, PortSpec, ResetSpec
-from memcheck.ops import IDLE, Cycle, PortOp, idle, read, write
+from memcheck.ops import IDLE, Cycle, OpKind, PortOp, idle, read, write
 from memcheck.report import explain, junit_xml, render_report, render_table, report_dict, write_reports
 from memcheck.report.text import binary_known, hex_known
 from memcheck.sim.api import CheckResult
@@ -177,10 +177,10 @@ def test_table_json_and_junit_of_a_failure(tmp_path: Path) -> None:
     assert not list(tmp_path.glob(".*.tmp"))  # atomic writes leave no temporary files
 
 
-@pytest.mark.parametrize("op", [PortOp("idle", 3, 0x12, None), PortOp("write", 1, 0xFF, 0b10)])
+@pytest.mark.parametrize("op", [PortOp(OpKind.IDLE, 3, 0x12, None), PortOp(OpKind.WRITE, 1, 0xFF, 0b10)])
 def test_table_shows_pins_of_disabled_ports_and_lanes(op: PortOp) -> None:
     c = Contract.simple(16, 8, lane_width=4)
     ct = _observe(c, [(op,), (IDLE,)], "unknown", at=-1)
     first = next(ln for ln in render_table(c, ct).splitlines() if ln.startswith("0 "))
-    assert ("idle*" in first) == (op.kind == "idle")
+    assert ("idle*" in first) == (op.kind == OpKind.IDLE)
     assert f"{op.address:#x}" in first and f"{op.data:02x}" in first

@@ -10,6 +10,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from memcheck.contract import Contract
+from memcheck.ops import OpKind
 from memcheck.sim.checker import CheckedTrace, CycleRow
 
 _RDW = {
@@ -75,7 +76,7 @@ def explain(contract: Contract, checked: CheckedTrace) -> Explanation | None:
             first.cycle, port.name, prefix + "Read data should follow the model here.", timing, "read data"
         )
     op = issued.ops[p]
-    if op.kind == "write":
+    if op.kind == OpKind.WRITE:
         rule = (
             f'read_during_write = "{m.read_during_write}": in a cycle that writes, the port\'s read data '
             f"should be {_RDW.get(m.read_during_write, 'unknown')}."
@@ -87,7 +88,7 @@ def explain(contract: Contract, checked: CheckedTrace) -> Explanation | None:
             f"The write was issued at cycle {issue_cycle} ({op.describe()}), {when}. {timing}".strip(),
             "read_during_write",
         )
-    if op.kind == "idle":
+    if op.kind == OpKind.IDLE:
         rule = 'idle_read_data = "keep": while a port issues no read, its read data should hold the last read result.'
         return Explanation(
             first.cycle,
@@ -98,7 +99,7 @@ def explain(contract: Contract, checked: CheckedTrace) -> Explanation | None:
         )
     # A read.
     addr = op.address
-    others = [(q, o) for q, o in enumerate(issued.ops) if q != p and o.kind == "write" and o.address == addr]
+    others = [(q, o) for q, o in enumerate(issued.ops) if q != p and o.kind == OpKind.WRITE and o.address == addr]
     if others and m.collision in ("old", "new"):
         q, o = others[0]
         word = "old data (before the write)" if m.collision == "old" else "new data (after the write)"
@@ -119,7 +120,7 @@ def explain(contract: Contract, checked: CheckedTrace) -> Explanation | None:
         if r.cycle >= issue_cycle:
             break
         for q, o in enumerate(r.ops):
-            if o.kind == "write" and o.address == addr:
+            if o.kind == OpKind.WRITE and o.address == addr:
                 last = (r.cycle, q, o)
     if last is None:
         if m.initial == "zero" and checked.start in ("reset", "power-up"):
@@ -147,7 +148,7 @@ def explain(contract: Contract, checked: CheckedTrace) -> Explanation | None:
             continue
         for q2, o in enumerate(r.ops):
             if (
-                o.kind == "idle"
+                o.kind == OpKind.IDLE
                 and o.address == addr
                 and contract.ports[q2].can_write
                 and (o.address or o.data or o.lanes is not None)
@@ -167,7 +168,7 @@ def explain(contract: Contract, checked: CheckedTrace) -> Explanation | None:
                     f"address {addr:#x} was last written at cycle {wc}. {timing}".strip(),
                     "enable",
                 )
-    same_edge = [(q2, o) for q2, o in enumerate(by_cycle[wc].ops) if o.kind == "write" and o.address == addr]
+    same_edge = [(q2, o) for q2, o in enumerate(by_cycle[wc].ops) if o.kind == OpKind.WRITE and o.address == addr]
     if len(same_edge) > 1 and m.write_collision == "first":
         q1 = same_edge[0][0]
         names = " and ".join(f"port {contract.ports[x].name} ({o.describe()})" for x, o in same_edge)

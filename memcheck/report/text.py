@@ -8,7 +8,7 @@ from __future__ import annotations
 from typing import TYPE_CHECKING
 
 from memcheck.contract import Contract
-from memcheck.ops import Expected, PortOp
+from memcheck.ops import Expected, OpKind, PortOp
 from memcheck.report.explain import explain
 from memcheck.sim.checker import CheckedTrace
 from memcheck.sim.layout import Observed
@@ -64,10 +64,10 @@ def _op_cells(contract: Contract, op: PortOp) -> tuple[str, str, str, str]:
     m = contract.memory
     hexw = (m.width + 3) // 4
     lanes = "" if m.lanes == 0 or op.lanes is None else f"{op.lanes:0{max(1, (m.lanes + 3) // 4)}x}"
-    if op.kind == "write":
-        return "write", f"{op.address:#x}", f"{op.data:0{hexw}x}", lanes or ("all" if m.lanes else "")
-    if op.kind == "read":
-        return "read", f"{op.address:#x}", "", ""
+    if op.kind == OpKind.WRITE:
+        return op.kind.label, f"{op.address:#x}", f"{op.data:0{hexw}x}", lanes or ("all" if m.lanes else "")
+    if op.kind == OpKind.READ:
+        return op.kind.label, f"{op.address:#x}", "", ""
     if op.address or op.data or op.lanes is not None:
         return "idle*", f"{op.address:#x}", f"{op.data:0{hexw}x}", lanes
     return "idle", "", "", ""

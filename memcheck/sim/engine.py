@@ -29,7 +29,7 @@ import numpy as np
 
 from memcheck.contract import Contract
 from memcheck.model_fast import Columns, limbs_of, limbs_to_ints
-from memcheck.ops import Cycle, Trace
+from memcheck.ops import Cycle, OpKind, Trace
 from memcheck.sim import sequences as seq
 from memcheck.sim.checker import (
     ArrayCheck,
@@ -170,7 +170,7 @@ def _digest(cols: Columns) -> bytes:
 
 
 def _ops(cycles: Sequence[Cycle]) -> int:
-    return sum(1 for c in cycles for op in c if op.kind != "idle")
+    return sum(1 for c in cycles for op in c if op.kind != OpKind.IDLE)
 
 
 class Engine:

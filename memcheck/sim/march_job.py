@@ -15,7 +15,7 @@ from typing import Any
 import numpy as np
 
 from memcheck.contract import Contract
-from memcheck.model_fast import Columns, limbs_of, limbs_to_ints
+from memcheck.model_fast import Columns, int_limbs, limbs_of, limbs_to_ints
 from memcheck.ops import Cycle
 from memcheck.sim.checker import CheckedTrace, ModelStart, compare, start_model
 from memcheck.sim.engine import Engine, observations_from_arrays
@@ -175,7 +175,7 @@ def run_march_job(engine: Engine, stream: Any, job: MarchJob) -> dict[str, Any]:
     c = engine.contract
     m = c.memory
     limbs = limbs_of(m.width)
-    word = np.array([(m.word_mask >> (64 * i)) & ((1 << 64) - 1) for i in range(limbs)], dtype=np.uint64)
+    word = int_limbs(m.word_mask, limbs)
     engine.where = {"phase": "march", "what": "preamble"}
     if job.start == "reset":
         engine.run_steps(["reset"])

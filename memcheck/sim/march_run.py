@@ -56,7 +56,7 @@ from memcheck.march.backgrounds import limbs_to_int
 from memcheck.march.expand import OP_WRITE, MarchStep, MarchStream, Pause, expand
 from memcheck.march.library import resolve_test
 from memcheck.march.notation import MarchElement, MarchTest
-from memcheck.ops import Cycle, Expected, PortOp, Trace
+from memcheck.ops import Cycle, Expected, OpKind, PortOp, Trace
 from memcheck.sim.checker import CheckedTrace, ModelStart, compare, start_model
 from memcheck.sim.launch import DEFAULT_STALL_SECONDS
 from memcheck.sim.layout import Observed
@@ -225,7 +225,7 @@ class MarchProgram:
         op = self.op_at(cycle)
         if op >= 0:
             s = self.step(op)
-            quiet[self.writer if s.op.kind == "write" else self.reader] = s.op
+            quiet[self.writer if s.op.kind == OpKind.WRITE else self.reader] = s.op
         return tuple(quiet)
 
     def step(self, index: int) -> MarchStep:
@@ -248,7 +248,7 @@ class MarchProgram:
                         ch.element,
                         int(ch.step[i]),
                         ch.background,
-                        PortOp("write", addr, limbs_to_int(ch.data[i])),
+                        PortOp(OpKind.WRITE, addr, limbs_to_int(ch.data[i])),
                         None,
                     )
                 return MarchStep(
@@ -256,7 +256,7 @@ class MarchProgram:
                     ch.element,
                     int(ch.step[i]),
                     ch.background,
-                    PortOp("read", addr),
+                    PortOp(OpKind.READ, addr),
                     limbs_to_int(ch.expected[i]),
                 )
         raise IndexError(index)
@@ -308,10 +308,10 @@ def plan_cycles(
             cyc = list(quiet)
             addr = int(item.address[i])
             if item.op[i] == OP_WRITE:
-                cyc[writer] = PortOp("write", addr, limbs_to_int(item.data[i]))
+                cyc[writer] = PortOp(OpKind.WRITE, addr, limbs_to_int(item.data[i]))
                 written[addr] = True
             else:
-                cyc[reader] = PortOp("read", addr)
+                cyc[reader] = PortOp(OpKind.READ, addr)
                 read_ops.append(item.start + i)
                 read_expected.append(limbs_to_int(item.expected[i]))
                 read_checked.append(bool(written[addr]))
@@ -456,10 +456,10 @@ def _activity(program: MarchProgram, port: int, issued: int) -> tuple[Activity, 
         if op >= 0:
             cyc = program.cycle_at(issued)
             kind = cyc[port].kind
-            is_write = any(o.kind == "write" for o in cyc)
+            is_write = any(o.kind == OpKind.WRITE for o in cyc)
             carrier = program.writer if is_write else program.reader
-            if port == carrier and kind in ("read", "write"):
-                return ("write" if kind == "write" else "read"), op
+            if port == carrier and kind != OpKind.IDLE:
+                return ("write" if kind == OpKind.WRITE else "read"), op
             return "quiet", op
     return "quiet", program.last_op_before(issued)
 
@@ -483,7 +483,7 @@ def _describe(
     quiet_op = program.cycle_at(issued)[port] if 0 <= issued < program.total_cycles else None
     doing = (
         "read address 0 (a port without an enable reads when the test does not use it)"
-        if quiet_op is not None and quiet_op.kind == "read"
+        if quiet_op is not None and quiet_op.kind == OpKind.READ
         else "issued no read (idle_read_data)"
     )
     span = program.pause_at(issued)
@@ -540,7 +540,7 @@ def first_failure(contract: Contract, program: MarchProgram, checked: CheckedTra
     else:
         issued = cycle - lat
         op = program.op_at(issued)
-        if op >= 0 and program.cycle_at(issued)[r].kind == "read":
+        if op >= 0 and program.cycle_at(issued)[r].kind == OpKind.READ:
             jr = int(np.searchsorted(program.read_ops, op))
             if jr < len(program.read_ops) and program.read_ops[jr] == op and program.read_checked[jr]:
                 march_expected = program.read_expected[jr]

@@ -19,7 +19,7 @@ import numpy as np
 
 from memcheck.contract import Contract
 from memcheck.model_fast import READ, WRITE, Columns, limbs_of
-from memcheck.ops import Cycle, PortOp
+from memcheck.ops import Cycle, OpKind, PortOp
 from memcheck.strategies import drain_cycle
 
 #: Memories up to this many addresses get the canonical fill; above it examples start from
@@ -157,7 +157,7 @@ def restore_cycles(contract: Contract, addresses: Iterable[int]) -> list[Cycle]:
     if w is None:
         return []
     width = contract.memory.width
-    return [_with(contract, {w: PortOp("write", a, fill_word(width, a))}) for a in sorted(set(addresses))]
+    return [_with(contract, {w: PortOp(OpKind.WRITE, a, fill_word(width, a))}) for a in sorted(set(addresses))]
 
 
 def fill_segments(contract: Contract, chunk: int) -> Iterator[Segment]:
@@ -172,17 +172,17 @@ def flush_cycles(contract: Contract) -> list[Cycle]:
     out: list[Cycle] = []
     w = writer_index(contract)
     if w is not None and fill_limit(contract):
-        out.append(_with(contract, {w: PortOp("write", 0, fill_word(contract.memory.width, 0))}))
+        out.append(_with(contract, {w: PortOp(OpKind.WRITE, 0, fill_word(contract.memory.width, 0))}))
     readers = reader_indices(contract)
     if readers:
-        out.append(_with(contract, {r: PortOp("read", 0) for r in readers}))
+        out.append(_with(contract, {r: PortOp(OpKind.READ, 0) for r in readers}))
     out.extend(quiet(contract) for _ in range(contract.memory.read_latency + 1))
     return out
 
 
 def written_addresses(cycles: Iterable[Cycle]) -> set[int]:
     """Every address a cycle wrote (or tried to: lanes all zero and beyond ``words`` included)."""
-    return {op.address for c in cycles for op in c if op.kind == "write"}
+    return {op.address for c in cycles for op in c if op.kind == OpKind.WRITE}
 
 
 # -- smoke ---------------------------------------------------------------------------------
@@ -213,7 +213,7 @@ def smoke_cycles(contract: Contract) -> list[Cycle]:
 
     def read_all(a: int) -> None:
         if readers:
-            out.append(_with(contract, {r: PortOp("read", a) for r in readers}))
+            out.append(_with(contract, {r: PortOp(OpKind.READ, a) for r in readers}))
 
     if m.initial == "zero":
         for a in addrs:
@@ -221,11 +221,11 @@ def smoke_cycles(contract: Contract) -> list[Cycle]:
     for w in writers:
         for a in addrs:
             d1 = fill_word(m.width, a + 0x5A5A)
-            out.append(_with(contract, {w: PortOp("write", a, d1)}))
+            out.append(_with(contract, {w: PortOp(OpKind.WRITE, a, d1)}))
             read_all(a)
             for lane in _lane_list(contract):
                 d2 = ~d1 & m.word_mask
-                out.append(_with(contract, {w: PortOp("write", a, d2, 1 << lane)}))
+                out.append(_with(contract, {w: PortOp(OpKind.WRITE, a, d2, 1 << lane)}))
                 read_all(a)
                 d1 = (d1 & ~m.lane_bits(1 << lane)) | (d2 & m.lane_bits(1 << lane))
     out.extend(quiet(contract) for _ in range(m.read_latency))
@@ -282,9 +282,9 @@ def sweep_segments(contract: Contract, plan: SweepPlan, chunk: int) -> Iterator[
             cyc = list(q)
             addr = int(ch.address[i])
             if ch.op[i] == OP_WRITE:
-                cyc[plan.writer] = PortOp("write", addr, limbs_to_int(ch.data[i]))
+                cyc[plan.writer] = PortOp(OpKind.WRITE, addr, limbs_to_int(ch.data[i]))
             else:
-                cyc[plan.reader] = PortOp("read", addr)
+                cyc[plan.reader] = PortOp(OpKind.READ, addr)
             cycles.append(tuple(cyc))
         yield Segment(tuple(cycles))
     yield Segment(tuple(q for _ in range(m.read_latency)))
