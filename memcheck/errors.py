@@ -45,3 +45,7 @@ class SimulationError(MemcheckError):
 
 class ReplayError(MemcheckError):
     """A replay file that cannot be read or does not match its contract."""
+
+
+class BudgetError(MemcheckError):
+    """A request over its size budget (operations of a run or stream), or sized for another memory."""

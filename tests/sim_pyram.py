@@ -12,8 +12,8 @@ from collections.abc import Sequence
 
 from memcheck.contract import Contract
 from memcheck.ops import OpKind
-from memcheck.sim.layout import Observed
-from memcheck.sim.sequences import Segment
+from memcheck.records import Observed
+from memcheck.sim.checking.sequences import Segment
 
 BUGS = ("none", "swap_lanes", "stale_bypass", "late_data", "no_lane_mask", "decay")
 

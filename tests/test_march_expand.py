@@ -8,7 +8,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from memcheck.errors import NotationError, UnknownAlgorithm
+from memcheck.errors import BudgetError, NotationError, UnknownAlgorithm
 from memcheck.march import (
     ALGORITHMS,
     OP_READ,
@@ -291,7 +291,7 @@ def test_impossible_requests(kwargs: dict[str, object], error: type[Exception]) 
 
 
 def test_collect_refuses_huge_streams() -> None:
-    with pytest.raises(NotationError):
+    with pytest.raises(BudgetError):
         expand("March SS", 1 << 20, 8).collect(limit=1000)
 
 

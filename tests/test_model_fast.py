@@ -25,7 +25,7 @@ def _model_rows(contract: Contract, cycles: list, start: str) -> list:
 
 
 def _contents(contract: Contract, start: str) -> Contents:
-    from memcheck.sim.checker import start_contents
+    from memcheck.sim.checking.compare import start_contents
 
     return start_contents(contract, "unknown" if start == "forget" else start)  # type: ignore[arg-type]
 

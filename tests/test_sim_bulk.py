@@ -11,7 +11,7 @@ from memcheck import Contract
 from memcheck.model import Model
 from memcheck.model_fast import IDLE, READ, WRITE, Columns, expected, expected_rows, validate
 from memcheck.ops import OpKind, PortOp
-from memcheck.sim.bulk import REPEATS, BulkSpec, bulk_specs, decode, record_size
+from memcheck.sim.checking.bulk import REPEATS, BulkSpec, bulk_specs, decode, record_size
 from tests.contract_strategies import contracts
 
 

@@ -8,10 +8,13 @@ from dataclasses import replace
 import pytest
 
 from memcheck.ops import OpKind, PortOp, read, write
-from memcheck.sim.engine import EXAMPLE_PREAMBLE, Engine, RunOptions
-from memcheck.sim.result import Failure, RunResult
-from memcheck.sim.sequences import fill_word, smoke_cycles
-from memcheck.sim.shrink import ddmin
+from memcheck.records import Failure
+from memcheck.sim.checking.outcome import RunResult
+from memcheck.sim.checking.phases import PhaseRunner as Engine
+from memcheck.sim.checking.runner import EXAMPLE_PREAMBLE
+from memcheck.sim.checking.sequences import fill_word, smoke_cycles
+from memcheck.sim.checking.shrink import ddmin
+from memcheck.sim.options import SimOptions as RunOptions
 from tests.sim_pyram import PyRam, contract
 
 FAST = RunOptions(examples=40, seed=7, bulk_examples=3)
@@ -124,9 +127,7 @@ def test_a_sweep_failure_that_needs_history_is_reported_from_the_start_and_repla
 ) -> None:
     """A word that loses a bit when it is not rewritten for a while fails the March sweep, but no short
     window fails on its own: the report keeps the sweep from its start, and a replay reruns it."""
-    import memcheck.sim.engine as engine_mod
-
-    monkeypatch.setattr(engine_mod, "_WINDOW_MAX", 4)
+    monkeypatch.setattr(Engine, "window_max", 4)
     res = _engine("decay", RunOptions(examples=5, seed=1, phases=("smoke", "sweep"))).run()
     f = res.failure
     assert f is not None and f.phase == "sweep"
@@ -196,7 +197,7 @@ def test_vectorised_fill_and_restore_match_the_cycle_versions() -> None:
     import numpy as np
 
     from memcheck.model_fast import limbs_to_ints
-    from memcheck.sim.sequences import fill_words, flush_columns, flush_cycles, restore_columns, restore_cycles
+    from memcheck.sim.checking.sequences import fill_words, flush_columns, flush_cycles, restore_columns, restore_cycles
 
     for width in (1, 2, 8, 63, 64, 65, 1024):
         a = np.arange(300)
@@ -233,9 +234,7 @@ def test_a_bulk_failure_that_needs_long_history_is_reported_up_to_its_difference
 ) -> None:
     """A word that loses a bit when not rewritten for a while: with windows capped at 4 cycles no short
     window fails on its own, so the bulk example up to its first difference is the trace."""
-    import memcheck.sim.engine as engine_mod
-
-    monkeypatch.setattr(engine_mod, "_WINDOW_MAX", 4)
+    monkeypatch.setattr(Engine, "window_max", 4)
     res = _engine("decay", replace(BULK, bulk_shrink_runs=0)).run()
     f = res.failure
     assert f is not None and f.phase == "property" and f.full_trace is not None

@@ -12,11 +12,10 @@ from memcheck.cli import main
 from memcheck.contract import load_contract
 from memcheck.errors import MemcheckError, SimulationError
 from memcheck.ops import IDLE, OpKind, Trace, read, write
+from memcheck.records import CheckedTrace, Failure
 from memcheck.sim import check_contract, replay_file
-from memcheck.sim.build import build
-from memcheck.sim.checker import CheckedTrace
-from memcheck.sim.launch import run_job
-from memcheck.sim.result import Failure
+from memcheck.sim.plumbing.build import build
+from memcheck.sim.plumbing.launch import run_job
 
 pytestmark = pytest.mark.icarus
 
@@ -155,7 +154,7 @@ def test_harness_sees_what_a_synchronous_consumer_flop_sees(tmp_path: Path, buil
                 "seed": 0,
                 "march": "March C-",
                 "backgrounds": "solid",
-                "sweep_max_ops": 0,
+                "sweep_ops": 0,
                 "max_blocks": 1,
             },
             "failure": failure.to_json(),

@@ -10,9 +10,10 @@ from memcheck.contract import Contract, parse_contract
 from memcheck.errors import InvalidOperation, SimulationError
 from memcheck.model_fast import Columns
 from memcheck.ops import OpKind, PortOp, idle, read, write
-from memcheck.sim.harness import harness_text
-from memcheck.sim.layout import Layout, Observed
-from memcheck.sim.pins import TopPort, check_pins, read_ports
+from memcheck.records import Observed
+from memcheck.sim.plumbing.harness import harness_text
+from memcheck.sim.plumbing.layout import Layout
+from memcheck.sim.plumbing.pins import TopPort, check_pins, read_ports
 from memcheck.strategies import traces
 from tests.contract_strategies import contracts
 
@@ -201,7 +202,7 @@ def test_vectorised_capture_matches_the_line_by_line_decoder(lines: list[str], s
         (f"// 0x{i:08x}\n" if i % 16 == 0 else "") + ln + (" \n" if spaced else "\n") for i, ln in enumerate(lines)
     ).encode()
     value, defined = lay.decode_arrays(text, len(lines))
-    from memcheck.sim.engine import observations_from_arrays
+    from memcheck.sim.checking.runner import observations_from_arrays
 
     assert observations_from_arrays(lay.contract, value, defined) == lay.decode(text, len(lines))
     with pytest.raises(ValueError):

@@ -11,12 +11,10 @@ import pytest
 
 from memcheck.contract import Contract, PortSpec, ResetSpec
 from memcheck.ops import IDLE, Cycle, OpKind, PortOp, idle, read, write
+from memcheck.records import CheckedTrace, CheckResult, Failure, ModelStart, Observed, PhaseResult
 from memcheck.report import explain, junit_xml, render_report, render_table, report_dict, write_reports
 from memcheck.report.text import binary_known, hex_known
-from memcheck.sim.api import CheckResult
-from memcheck.sim.checker import CheckedTrace, ModelStart, check, start_model
-from memcheck.sim.layout import Observed
-from memcheck.sim.result import Failure, PhaseResult
+from memcheck.sim.checking.compare import check, start_model
 
 
 def _observe(

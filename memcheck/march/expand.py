@@ -29,7 +29,7 @@ import numpy as np
 import numpy.typing as npt
 
 from memcheck._limbs import limbs_of
-from memcheck.errors import NotationError
+from memcheck.errors import BudgetError, NotationError
 from memcheck.march.backgrounds import (
     DataBackground,
     WordArray,
@@ -253,7 +253,7 @@ class MarchStream:
     def collect(self, limit: int = 1 << 24) -> StreamArrays:
         """The whole stream as arrays (for small memories and tests); refuses above ``limit`` ops."""
         if self.total_ops > limit:
-            raise NotationError(
+            raise BudgetError(
                 f"the stream has {self.total_ops} operations; collect() stops at {limit} (iterate the stream instead)"
             )
         parts = list(self.chunks())

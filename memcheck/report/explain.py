@@ -11,7 +11,7 @@ from dataclasses import dataclass
 
 from memcheck.contract import Contract
 from memcheck.ops import OpKind
-from memcheck.sim.checker import CheckedTrace, CycleRow
+from memcheck.records import CheckedTrace, CycleRow
 
 _RDW = {
     "old": "the old word (the contents before the write)",

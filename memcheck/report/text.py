@@ -5,16 +5,12 @@ Plain text on purpose: it reads the same on a terminal, in a CI log and in a fil
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING
+from typing import Any
 
 from memcheck.contract import Contract
 from memcheck.ops import Expected, OpKind, PortOp
+from memcheck.records import CheckedTrace, CheckResult, Observed, RunRecord
 from memcheck.report.explain import explain
-from memcheck.sim.checker import CheckedTrace
-from memcheck.sim.layout import Observed
-
-if TYPE_CHECKING:
-    from memcheck.sim.api import CheckResult
 
 DISCLAIMER = (
     "Verdicts cover the behaviour modelled by the contract only (behaviours it leaves unknown "
@@ -211,15 +207,21 @@ def render_report(result: CheckResult) -> str:
             )
         if files:
             parts.append("\n".join(files))
-    unchecked = result.unchecked
-    if unchecked:
+    parts += render_notes(result)
+    parts.append(DISCLAIMER)
+    return "\n\n".join(parts)
+
+
+def render_notes(result: RunRecord[Any]) -> list[str]:
+    """What every job's report ends with: behaviours not checked, inputs left unconnected."""
+    parts = []
+    if result.unchecked:
         parts.append(
-            "Not checked, because the contract leaves them unknown:\n" + "\n".join(f"  - {u}" for u in unchecked)
+            "Not checked, because the contract leaves them unknown:\n" + "\n".join(f"  - {u}" for u in result.unchecked)
         )
     if result.unconnected_inputs:
         parts.append(
             "Inputs of the top module that the contract does not name were left unconnected: "
             + ", ".join(result.unconnected_inputs)
         )
-    parts.append(DISCLAIMER)
-    return "\n\n".join(parts)
+    return parts

@@ -20,11 +20,15 @@ import numpy as np
 from memcheck.contract import Contract
 from memcheck.model_fast import READ, WRITE, Columns, limbs_of
 from memcheck.ops import Cycle, OpKind, PortOp
+from memcheck.sim.checking.schedule import MarchSchedule, march_schedule, sweep_ports
+from memcheck.sim.options import SimOptions
 from memcheck.strategies import drain_cycle
 
 #: Memories up to this many addresses get the canonical fill; above it examples start from
 #: whatever earlier examples left (documented in docs/check.md).
 FILL_LIMIT = 1 << 16
+#: Stream operations per chunk of a sweep (one segment each, at most a batch of the harness).
+_SWEEP_CHUNK = 8192
 _M64 = (1 << 64) - 1
 
 
@@ -237,57 +241,44 @@ def smoke_cycles(contract: Contract) -> list[Cycle]:
 
 @dataclass(frozen=True)
 class SweepPlan:
-    """A March test run through one writing and one reading port."""
+    """A March test run through one writing and one reading port (its schedule, pauses included)."""
 
     algorithm: str
     backgrounds: str
-    writer: int
-    reader: int
+    schedule: MarchSchedule
+
+    @property
+    def writer(self) -> int:
+        return self.schedule.writer
+
+    @property
+    def reader(self) -> int:
+        return self.schedule.reader
 
     def describe(self, contract: Contract) -> str:
         w, r = contract.ports[self.writer].name, contract.ports[self.reader].name
         via = f"port {w}" if w == r else f"write port {w}, read port {r}"
         return f"{self.algorithm} ({self.backgrounds} backgrounds) via {via}"
 
-
-def sweep_plans(contract: Contract, algorithm: str, backgrounds: str) -> list[SweepPlan]:
-    """One plan per port that can read: through itself when it also writes, else with the first writer."""
-    w0 = writer_index(contract)
-    if w0 is None:
-        return []
-    plans = []
-    for r in reader_indices(contract):
-        w = r if contract.ports[r].can_write else w0
-        plans.append(SweepPlan(algorithm, backgrounds, w, r))
-    return plans
+    def segments(self, chunk: int) -> Iterator[Segment]:
+        """The schedule as cycles, in segments of at most ``chunk`` cycles."""
+        for piece in self.schedule.pieces():
+            for lo in range(0, len(piece.cols), chunk):
+                yield Segment(tuple(piece.cols[lo : lo + chunk].to_cycles()))
 
 
-def sweep_ops(contract: Contract, plan: SweepPlan) -> int:
+def sweep_plans(contract: Contract, options: SimOptions) -> list[SweepPlan]:
+    """One plan per port that can read (the port rule of :func:`~memcheck.sim.checking.schedule.sweep_ports`)."""
     from memcheck.march import expand
 
     m = contract.memory
-    return expand(plan.algorithm, m.words, m.width, backgrounds=plan.backgrounds).total_ops
-
-
-def sweep_segments(contract: Contract, plan: SweepPlan, chunk: int) -> Iterator[Segment]:
-    """The March stream as cycles, one operation per cycle, back to back, in chunks."""
-    from memcheck.march import OP_WRITE, expand, limbs_to_int
-
-    m = contract.memory
-    stream = expand(plan.algorithm, m.words, m.width, backgrounds=plan.backgrounds, chunk_ops=chunk)
-    q = quiet(contract)
-    for ch in stream.chunks():
-        cycles: list[Cycle] = []
-        for i in range(len(ch)):
-            cyc = list(q)
-            addr = int(ch.address[i])
-            if ch.op[i] == OP_WRITE:
-                cyc[plan.writer] = PortOp(OpKind.WRITE, addr, limbs_to_int(ch.data[i]))
-            else:
-                cyc[plan.reader] = PortOp(OpKind.READ, addr)
-            cycles.append(tuple(cyc))
-        yield Segment(tuple(cycles))
-    yield Segment(tuple(q for _ in range(m.read_latency)))
+    plans = []
+    for w, r in sweep_ports(contract):
+        stream = expand(options.march, m.words, m.width, backgrounds=options.backgrounds, chunk_ops=_SWEEP_CHUNK)
+        plans.append(
+            SweepPlan(options.march, options.backgrounds, march_schedule(contract, stream, w, r, options.pause_cycles))
+        )
+    return plans
 
 
 def concat(segments: Sequence[Segment]) -> list[Cycle]:

@@ -21,23 +21,10 @@ from memcheck.contract import Contract, PortSpec
 from memcheck.errors import InvalidOperation
 from memcheck.model_fast import IDLE, WRITE, Columns, limbs_of
 from memcheck.ops import Cycle, OpKind, PortOp
+from memcheck.records import Observed
 
 #: Cycles the harness holds per batch; longer runs are split into several batches.
 BATCH_CYCLES = 8192
-
-
-@dataclass(frozen=True, slots=True)
-class Observed:
-    """Read data as sampled: ``value`` bits, and ``defined`` with a 1 for every bit that was 0 or 1."""
-
-    value: int
-    defined: int
-
-    def render(self, width: int) -> str:
-        """Binary, MSB first, with 'x' for X/Z bits."""
-        return "".join(
-            ("1" if self.value >> b & 1 else "0") if self.defined >> b & 1 else "x" for b in range(width - 1, -1, -1)
-        )
 
 
 @dataclass(frozen=True, slots=True)
