@@ -182,3 +182,52 @@ def test_table_shows_pins_of_disabled_ports_and_lanes(op: PortOp) -> None:
     first = next(ln for ln in render_table(c, ct).splitlines() if ln.startswith("0 "))
     assert ("idle*" in first) == (op.kind == OpKind.IDLE)
     assert f"{op.address:#x}" in first and f"{op.data:02x}" in first
+
+
+#: The JSON fields of a check report before the layouts were unified (none may disappear).
+_CHECK_FIELDS_BEFORE = {
+    "verdict", "tool", "version", "contract", "top", "seed", "seconds", "build_seconds", "phases",
+    "operations", "cycles", "minimal_trace", "unchecked", "error", "note",
+}  # fmt: skip
+#: ... and of a March run report and of its error report.
+_MARCH_FIELDS_BEFORE = {
+    "verdict", "tool", "version", "contract", "test", "words", "width", "layout", "order", "any_order",
+    "seed", "backgrounds", "write_port", "read_port", "pause_cycles", "operations", "cycles", "seconds",
+    "build_seconds", "first_failure", "replay_file", "waveform", "reproduced_by_replay", "unchecked",
+    "notes", "error", "note",
+}  # fmt: skip
+_ERROR_FIELDS_BEFORE = {"verdict", "tool", "version", "contract", "seed", "phases", "operations", "cycles",
+                        "minimal_trace", "error", "note", "test", "first_failure"}  # fmt: skip
+
+
+def test_one_json_layout_keeps_every_earlier_field(tmp_path: Path) -> None:
+    from memcheck.march import expand
+    from memcheck.records import MarchRunResult
+    from memcheck.report import error_dict
+
+    c = Contract.simple(16, 8, lane_width=4)
+    ct = _observe(c, [(write(2, 0xAB),), (write(2, 0x0C, 0b01),), (read(2),), (IDLE,)], "unknown", at=3, value=0x0C)
+    check = report_dict(_result(tmp_path, ct, c))
+    stream = expand("MATS+", 16, 8)
+    march = report_dict(
+        MarchRunResult(
+            verdict="pass", contract=c, contract_path=None, seed=1, test=stream.test, test_name="MATS+",
+            order="linear", any_order="up", layout=None, backgrounds=("solid",), writer="a", reader="a",
+            pause_cycles=100, operations=80, cycles=81,
+        )
+    )  # fmt: skip
+    assert set(check) >= _CHECK_FIELDS_BEFORE and set(march) >= _MARCH_FIELDS_BEFORE
+    # One layout: what a check and a March run share is every field but the job's own.
+    assert set(check) - {"minimal_trace"} == set(march) - set(march_fields_only())
+    assert check["job"] == "check" and march["job"] == "march run"
+    err = error_dict("c.toml", "bad", 3, job="march run", test="MATS+")
+    assert set(err) >= _ERROR_FIELDS_BEFORE and err["verdict"] == "error" and err["first_failure"] is None
+    assert set(error_dict("c.toml", "bad")) <= set(check) | {"first_failure"}
+    json.dumps([check, march, err])
+
+
+def march_fields_only() -> set[str]:
+    return {
+        "test", "words", "width", "layout", "order", "any_order", "backgrounds", "write_port", "read_port",
+        "pause_cycles", "first_failure",
+    }  # fmt: skip
