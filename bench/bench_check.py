@@ -39,9 +39,9 @@ from pathlib import Path
 
 from memcheck.contract import load_contract
 from memcheck.examples import examples_dir
-from memcheck.sim.build import build
-from memcheck.sim.engine import RunOptions
-from memcheck.sim.launch import run_job
+from memcheck.sim.options import SimOptions
+from memcheck.sim.plumbing.build import build
+from memcheck.sim.plumbing.launch import run_job
 
 HERE = Path(__file__).resolve().parent
 ROOT = HERE.parent
@@ -117,7 +117,7 @@ def property_run(examples: int, bulk_examples: int, max_blocks: int, seed: int) 
     b = build(contract, work / "build")
     record = work / "record"
     record.mkdir()
-    opts = RunOptions(
+    opts = SimOptions(
         phases=("property",), examples=examples, seed=seed, max_blocks=max_blocks, bulk_examples=bulk_examples
     )
     t0 = time.perf_counter()
@@ -172,8 +172,7 @@ def bench_long_batches(cycles: int, seed: int) -> None:
     import random
 
     from memcheck.ops import IDLE, Trace, read, write
-    from memcheck.sim.checker import CheckedTrace
-    from memcheck.sim.result import Failure
+    from memcheck.records import CheckedTrace, Failure
 
     rng = random.Random(seed)
     ops = []
@@ -190,7 +189,7 @@ def bench_long_batches(cycles: int, seed: int) -> None:
     failure = Failure("bench", (), CheckedTrace("unknown", ()), full_trace=trace)
     res = run_job(
         b,
-        {"mode": "replay", "options": RunOptions().to_json(), "failure": failure.to_json(), "record": str(record)},
+        {"mode": "replay", "options": SimOptions().to_json(), "failure": failure.to_json(), "record": str(record)},
         work / "run",
     )
     n_ops = trace.operation_count()
@@ -246,7 +245,7 @@ def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
     ap.add_argument("--bulk-examples", type=int, default=100, help="bulk examples of the bulk-mode measurement")
     ap.add_argument(
-        "--examples", type=int, default=RunOptions.examples, help="short examples of the default-phase measurement"
+        "--examples", type=int, default=SimOptions.examples, help="short examples of the default-phase measurement"
     )
     ap.add_argument("--max-blocks", type=int, default=12)
     ap.add_argument("--seed", type=int, default=1)
@@ -261,7 +260,7 @@ def main() -> None:
         f"{'met' if ratio <= 2 else 'NOT met'} ({ratio:.2f}x)\n"
     )
     bench_property(
-        "property phase, default budget", args.examples, RunOptions.bulk_examples, args.max_blocks, args.seed
+        "property phase, default budget", args.examples, SimOptions.bulk_examples, args.max_blocks, args.seed
     )
     print()
     bench_property("property phase, short examples only", args.examples, 0, args.max_blocks, args.seed)

@@ -21,7 +21,7 @@ import numpy as np
 
 from memcheck.contract import Contract, MemorySpec, PortSpec
 from memcheck.errors import InvalidOperation
-from memcheck.ops import UNKNOWN, Cycle, Expected, PortOp
+from memcheck.ops import UNKNOWN, Cycle, Expected, OpKind, PortOp
 
 # Pipeline entry kinds: what a read-data register shows when its cycle comes due.
 _RESULT = 0  # a read result (value, known)
@@ -133,11 +133,11 @@ class Model:
 
     def _validate_op(self, port: PortSpec, op: PortOp) -> None:
         m = self.memory
-        if op.kind == "read" and not port.can_read:
+        if op.kind == OpKind.READ and not port.can_read:
             raise InvalidOperation(f"port {port.name!r} is a {port.role} port and cannot read")
-        if op.kind == "write" and not port.can_write:
+        if op.kind == OpKind.WRITE and not port.can_write:
             raise InvalidOperation(f"port {port.name!r} is a {port.role} port and cannot write")
-        if op.kind == "idle" and not port.can_idle:
+        if op.kind == OpKind.IDLE and not port.can_idle:
             raise InvalidOperation(
                 f"port {port.name!r} has no enable pin, so it cannot be idle: it "
                 + ("reads every cycle" if port.role == "read" else "reads whenever it does not write")
@@ -164,7 +164,7 @@ class Model:
         # 1. The writes that take effect at this edge, per address: (port index, data, bit mask).
         writes: dict[int, list[tuple[int, int, int]]] = {}
         for i, op in enumerate(cycle):
-            if op.kind == "write" and op.address < words:
+            if op.kind == OpKind.WRITE and op.address < words:
                 bits = self._bits(op.lanes)
                 if bits:
                     writes.setdefault(op.address, []).append((i, op.data, bits))
@@ -235,10 +235,10 @@ class Model:
         after: dict[int, Expected],
     ) -> _Entry:
         m = self.memory
-        if op.kind == "idle":
+        if op.kind == OpKind.IDLE:
             return _NO_READ
         addr = op.address
-        if op.kind == "write":
+        if op.kind == OpKind.WRITE:
             # A readwrite port that writes: its read data follows read_during_write.
             rdw = m.read_during_write
             if rdw == "keep":

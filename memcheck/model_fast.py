@@ -21,51 +21,27 @@ from typing import Literal
 
 import numpy as np
 
+from memcheck._limbs import bits_to_limbs
+from memcheck._limbs import int_limbs as int_limbs
+from memcheck._limbs import ints_to_limbs as ints_to_limbs
+from memcheck._limbs import limbs_of as limbs_of
+from memcheck._limbs import limbs_to_ints as limbs_to_ints
 from memcheck.contract import Contract
 from memcheck.errors import InvalidOperation
 from memcheck.model import Model
-from memcheck.ops import Cycle, Expected, PortOp
+from memcheck.ops import Cycle, Expected, OpKind, PortOp
 
 __all__ = ["IDLE", "READ", "WRITE", "Columns", "Contents", "expected", "expected_rows", "mismatch", "validate"]
 
-#: Operation kinds in :attr:`Columns.kind`.
-IDLE, READ, WRITE = 0, 1, 2
-_KINDS = {"idle": IDLE, "read": READ, "write": WRITE}
-_NAMES = ("idle", "read", "write")
+#: Operation kinds in :attr:`Columns.kind` (the values of :class:`memcheck.ops.OpKind`).
+IDLE, READ, WRITE = OpKind.IDLE, OpKind.READ, OpKind.WRITE
+_KIND_OF = tuple(OpKind)  # code -> OpKind, quicker than calling OpKind(code) per operation
 
 #: Stored contents at the start of a trace: all unknown (``Model.forget``) or all zero (``initial =
 #: "zero"`` after reset, or at power-up of a contract without reset).
 Contents = Literal["unknown", "zero"]
 
 _U64 = np.uint64
-_ALL = (1 << 64) - 1
-
-
-def limbs_of(width: int) -> int:
-    """64-bit limbs needed for ``width`` bits (at least one)."""
-    return max(1, (width + 63) // 64)
-
-
-def ints_to_limbs(values: Sequence[int], limbs: int) -> np.ndarray:
-    """Python ints (non-negative, below 2**(64*limbs)) to an (n, limbs) little-endian uint64 array."""
-    n = len(values)
-    if limbs == 1:
-        return np.fromiter(values, dtype=_U64, count=n).reshape(n, 1)
-    raw = b"".join(v.to_bytes(8 * limbs, "little") for v in values)
-    return np.frombuffer(raw, dtype="<u8").astype(_U64).reshape(n, limbs)
-
-
-def limbs_to_ints(arr: np.ndarray) -> list[int]:
-    """Rows of an (n, limbs) uint64 array to Python ints."""
-    if arr.shape[-1] == 1:
-        return [int(v) for v in arr[:, 0]]
-    raw = np.ascontiguousarray(arr, dtype="<u8")
-    return [int.from_bytes(row.tobytes(), "little") for row in raw]
-
-
-def int_limbs(value: int, limbs: int) -> np.ndarray:
-    """One Python int as a (limbs,) uint64 array."""
-    return np.array([(value >> (64 * i)) & _ALL for i in range(limbs)], dtype=_U64)
 
 
 @dataclass(frozen=True, eq=False)
@@ -137,7 +113,7 @@ class Columns:
             model = Model(contract)
             for c in cycles:
                 model.validate(c)
-        kind = np.fromiter((_KINDS[op.kind] for op in ops), dtype=np.int8, count=t * p).reshape(t, p)
+        kind = np.fromiter((op.kind for op in ops), dtype=np.int8, count=t * p).reshape(t, p)
         address = np.fromiter((op.address for op in ops), dtype=np.int64, count=t * p).reshape(t, p)
         data = ints_to_limbs([op.data for op in ops], limbs_of(m.width)).reshape(t, p, -1)
         lanes = ints_to_limbs(
@@ -156,7 +132,7 @@ class Columns:
         lanes = limbs_to_ints(self.lanes.reshape(t * p, -1))
         given = self.lanes_given.ravel().tolist()
         ops = [
-            PortOp(_NAMES[k], a, d, ln if g else None)  # type: ignore[arg-type]
+            PortOp(_KIND_OF[k], a, d, ln if g else None)
             for k, a, d, ln, g in zip(kinds, addrs, data, lanes, given, strict=True)
         ]
         return [tuple(ops[i * p : (i + 1) * p]) for i in range(t)]
@@ -228,10 +204,7 @@ def _write_bits(contract: Contract, lanes: np.ndarray) -> np.ndarray:
     raw = np.ascontiguousarray(lanes, dtype="<u8").view(np.uint8).reshape(n, 8 * lanes.shape[1])
     per_lane = np.unpackbits(raw, axis=1, bitorder="little")[:, : m.lanes]
     bits = np.repeat(per_lane, m.bits_per_lane, axis=1) if m.bits_per_lane > 1 else per_lane
-    padded = np.zeros((n, 64 * limbs), dtype=np.uint8)
-    padded[:, : m.width] = bits
-    packed = np.packbits(padded, axis=1, bitorder="little")
-    return np.ascontiguousarray(packed).view("<u8").reshape(n, limbs).astype(_U64)
+    return bits_to_limbs(bits[:, : m.width], limbs)
 
 
 # Read results before the pipeline: what each port's operation produces at its edge.
@@ -376,7 +349,7 @@ def expected(
             kn = np.where(found, (base & ~c_touch[safe]) | c_sets[safe], base)
             val = np.where(found, c_data[safe], _U64(0))
             driven = (qm & (hi > lo))[:, None]
-            kn &= np.where(driven, ~at_touch[np.maximum(hi - 1, 0)], _U64(_ALL))
+            kn &= np.where(driven, ~at_touch[np.maximum(hi - 1, 0)], _U64((1 << 64) - 1))
         else:
             kn = np.broadcast_to(base, (len(qt), limbs))
             val = np.zeros((len(qt), limbs), dtype=_U64)

@@ -9,9 +9,34 @@ from __future__ import annotations
 import json
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
-from typing import Any, Literal
+from enum import IntEnum
+from typing import Any
 
-OpKind = Literal["idle", "read", "write"]
+
+class OpKind(IntEnum):
+    """What a port does in a cycle: the one encoding of operation kinds.
+
+    Integers so that numpy columns (:class:`memcheck.model_fast.Columns`), March streams
+    (:mod:`memcheck.march.expand`) and Python objects (:class:`PortOp`) share one code; JSON and
+    reports use the lower-case names ("idle", "read", "write").
+    """
+
+    IDLE = 0
+    READ = 1
+    WRITE = 2
+
+    @property
+    def label(self) -> str:
+        """The lower-case name used in JSON and reports."""
+        return self.name.lower()
+
+    @classmethod
+    def parse(cls, text: str) -> OpKind:
+        """The kind named ``text`` ("idle", "read" or "write"); ValueError otherwise."""
+        for kind in cls:
+            if text == kind.label:
+                return kind
+        raise ValueError(f"unknown operation {text!r}")
 
 
 @dataclass(frozen=True, slots=True)
@@ -23,22 +48,22 @@ class PortOp:
     lane-enable value (one bit per lane or per data bit); ``None`` means every lane.
     """
 
-    kind: OpKind = "idle"
+    kind: OpKind = OpKind.IDLE
     address: int = 0
     data: int = 0
     lanes: int | None = None
 
     def describe(self) -> str:
-        if self.kind == "read":
+        if self.kind == OpKind.READ:
             return f"read @{self.address:#x}"
-        if self.kind == "write":
+        if self.kind == OpKind.WRITE:
             lanes = "" if self.lanes is None else f" lanes={self.lanes:#x}"
             return f"write @{self.address:#x} = {self.data:#x}{lanes}"
         return "idle"
 
     def to_json(self) -> dict[str, Any]:
-        out: dict[str, Any] = {"op": self.kind}
-        if self.kind != "idle" or self.address or self.data or self.lanes is not None:
+        out: dict[str, Any] = {"op": self.kind.label}
+        if self.kind != OpKind.IDLE or self.address or self.data or self.lanes is not None:
             out["address"] = self.address
             out["data"] = hex(self.data)
             if self.lanes is not None:
@@ -47,9 +72,7 @@ class PortOp:
 
     @classmethod
     def from_json(cls, obj: dict[str, Any]) -> PortOp:
-        kind = obj.get("op", "idle")
-        if kind not in ("idle", "read", "write"):
-            raise ValueError(f"unknown operation {kind!r}")
+        kind = OpKind.parse(obj.get("op", "idle"))
         data = obj.get("data", 0)
         lanes = obj.get("lanes")
         return cls(
@@ -64,16 +87,16 @@ IDLE = PortOp()
 
 
 def read(address: int) -> PortOp:
-    return PortOp("read", address)
+    return PortOp(OpKind.READ, address)
 
 
 def write(address: int, data: int, lanes: int | None = None) -> PortOp:
-    return PortOp("write", address, data, lanes)
+    return PortOp(OpKind.WRITE, address, data, lanes)
 
 
 def idle(address: int = 0, data: int = 0, lanes: int | None = None) -> PortOp:
     """An idle port whose pins carry the given (ignored) values."""
-    return PortOp("idle", address, data, lanes)
+    return PortOp(OpKind.IDLE, address, data, lanes)
 
 
 Cycle = tuple[PortOp, ...]
@@ -121,7 +144,7 @@ class Trace:
 
     def operation_count(self) -> int:
         """Number of non-idle port operations in the trace."""
-        return sum(1 for c in self.cycles for op in c if op.kind != "idle")
+        return sum(1 for c in self.cycles for op in c if op.kind != OpKind.IDLE)
 
     def to_json(self) -> list[list[dict[str, Any]]]:
         return [[op.to_json() for op in c] for c in self.cycles]

@@ -19,7 +19,7 @@ from typing import Any
 from hypothesis import strategies as st
 
 from memcheck.contract import Contract, PortSpec
-from memcheck.ops import Cycle, PortOp, Trace
+from memcheck.ops import Cycle, OpKind, PortOp, Trace
 
 __all__ = [
     "addresses",
@@ -85,21 +85,21 @@ def lane_values(contract: Contract) -> st.SearchStrategy[int | None]:
 # Operations are drawn as *raw* tuples that name addresses by their index in the trace's pool, so
 # that every strategy object is built once per contract (building Hypothesis strategies per draw
 # costs far more than drawing from them); :func:`_resolve` turns a raw operation into a PortOp.
-#   ("idle", None) clean pins | ("idle", (i, data, lanes)) garbage on the pins | ("read", i)
-#   | ("write", i, data, lanes)
+#   (IDLE, None) clean pins | (IDLE, (i, data, lanes)) garbage on the pins | (READ, i)
+#   | (WRITE, i, data, lanes)   (kinds as memcheck.ops.OpKind)
 _Raw = tuple[Any, ...]
 
 
 def _resolve(raw: _Raw, pool: Sequence[int]) -> PortOp:
     kind = raw[0]
-    if kind == "idle":
+    if kind == OpKind.IDLE:
         if raw[1] is None:
-            return PortOp("idle")
+            return PortOp(OpKind.IDLE)
         i, data, lanes = raw[1]
-        return PortOp("idle", pool[i % len(pool)], data, lanes)
-    if kind == "read":
-        return PortOp("read", pool[raw[1] % len(pool)])
-    return PortOp("write", pool[raw[1] % len(pool)], raw[2], raw[3])
+        return PortOp(OpKind.IDLE, pool[i % len(pool)], data, lanes)
+    if kind == OpKind.READ:
+        return PortOp(OpKind.READ, pool[raw[1] % len(pool)])
+    return PortOp(OpKind.WRITE, pool[raw[1] % len(pool)], raw[2], raw[3])
 
 
 class _Plan:
@@ -116,9 +116,9 @@ class _Plan:
         # Garbage addresses come from the pool, so a wrapper that writes while deselected is caught by
         # a read of the same address soon after.
         garbage = st.one_of(st.just(None), st.tuples(self.index, self.data, garbage_lanes))
-        reads = self.index.map(lambda i: ("read", i))
-        self.rest = [garbage.map(lambda g: ("idle", g)) if p.can_idle else reads for p in ports]
-        self.writes = st.tuples(st.just("write"), self.index, self.data, self.lanes)
+        reads = self.index.map(lambda i: (OpKind.READ, i))
+        self.rest = [garbage.map(lambda g: (OpKind.IDLE, g)) if p.can_idle else reads for p in ports]
+        self.writes = st.tuples(st.just(OpKind.WRITE), self.index, self.data, self.lanes)
         self.payload = st.tuples(self.data, self.lanes)
         self.any_op = [
             st.one_of(
@@ -160,7 +160,7 @@ def _raw_block(draw: st.DrawFn, plan: _Plan) -> list[tuple[_Raw, ...]]:
 
     def write() -> _Raw:
         data, lanes = draw(plan.payload)
-        return ("write", ai, data, lanes)
+        return (OpKind.WRITE, ai, data, lanes)
 
     if kind in ("write_then_read", "read_then_write"):
         w = draw(plan.writer)
@@ -168,13 +168,13 @@ def _raw_block(draw: st.DrawFn, plan: _Plan) -> list[tuple[_Raw, ...]]:
         wc = list(draw(plan.rest_cycle))
         wc[w] = write()
         rc = list(draw(plan.rest_cycle))
-        rc[r] = ("read", ai)
+        rc[r] = (OpKind.READ, ai)
         return [tuple(wc), tuple(rc)] if kind == "write_then_read" else [tuple(rc), tuple(wc)]
     c = list(draw(plan.rest_cycle))
     if kind == "collision":
         w, r = draw(plan.pair)
         c[w] = write()
-        c[r] = ("read", ai)
+        c[r] = (OpKind.READ, ai)
     else:  # write_collision
         for w in draw(plan.two_writers)[:2]:
             c[w] = write()
@@ -197,7 +197,7 @@ def cycles(contract: Contract, pool: Sequence[int]) -> st.SearchStrategy[Cycle]:
 
 def drain_cycle(contract: Contract) -> Cycle:
     """A cycle that issues nothing new where possible (ports without an enable read address 0)."""
-    return tuple(PortOp("idle") if p.can_idle else PortOp("read", 0) for p in contract.ports)
+    return tuple(PortOp(OpKind.IDLE) if p.can_idle else PortOp(OpKind.READ, 0) for p in contract.ports)
 
 
 def traces(

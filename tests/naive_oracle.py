@@ -10,7 +10,7 @@ state machine. One branch per rule of the contract semantics.
 from __future__ import annotations
 
 from memcheck.contract import Contract
-from memcheck.ops import Expected, PortOp
+from memcheck.ops import Expected, OpKind, PortOp
 
 Bits = list[int | None]
 _Write = tuple[int, int, Bits, list[bool]]  # port index, address, data bits, bit enables
@@ -57,16 +57,16 @@ class NaiveOracle:
         # writes to in-range addresses that enable at least one bit
         writes: list[_Write] = []
         for i, op in enumerate(cycle):
-            if op.kind == "write" and op.address < m.words:
+            if op.kind == OpKind.WRITE and op.address < m.words:
                 mask = self.lane_mask_bits(op.lanes)
                 if any(mask):
                     writes.append((i, op.address, self.bits_of(op.data), mask))
         new_mem = {addr: self.written(addr, [x for x in writes if x[1] == addr]) for addr in {x[1] for x in writes}}
         # each port's result for this cycle
         for i, (port, op) in enumerate(zip(self.c.ports, cycle, strict=True)):
-            if not port.can_read or op.kind == "idle":
+            if not port.can_read or op.kind == OpKind.IDLE:
                 self.history[i].append(("none", None))
-            elif op.kind == "write":
+            elif op.kind == OpKind.WRITE:
                 self.history[i].append(self.read_while_writing(op.address, new_mem))
             else:
                 self.history[i].append(("result", self.read(i, op.address, writes, new_mem)))

@@ -11,8 +11,9 @@ from __future__ import annotations
 from collections.abc import Sequence
 
 from memcheck.contract import Contract
-from memcheck.sim.layout import Observed
-from memcheck.sim.sequences import Segment
+from memcheck.ops import OpKind
+from memcheck.records import Observed
+from memcheck.sim.checking.sequences import Segment
 
 BUGS = ("none", "swap_lanes", "stale_bypass", "late_data", "no_lane_mask", "decay")
 
@@ -52,10 +53,10 @@ class PyRam:
             return self.mask
         return m.lane_bits(lanes)
 
-    def _edge(self, op_kind: str, address: int, data: int, lanes: int | None) -> None:
+    def _edge(self, op_kind: OpKind, address: int, data: int, lanes: int | None) -> None:
         m = self.c.memory
         new_rdata = self.rdata
-        if op_kind in ("read", "write"):
+        if op_kind != OpKind.IDLE:
             if address < m.words and address in self.mem:
                 word = self.mem[address]
                 if self.bug == "stale_bypass" and self.bypass is not None and self.bypass[0] == address:
@@ -65,7 +66,7 @@ class PyRam:
                 new_rdata = (word, self.mask)
             else:
                 new_rdata = (0, 0)
-        if op_kind == "write" and address < m.words:
+        if op_kind == OpKind.WRITE and address < m.words:
             bits = self._bits(lanes)
             old = self.mem.get(address, 0)
             self.mem[address] = (old & ~bits) | (data & bits)

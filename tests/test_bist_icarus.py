@@ -154,7 +154,7 @@ def test_engine_through_adapter_passes_conforming_wrappers_in_the_stated_cycles(
 
 @pytest.mark.parametrize("name", _examples("fail"))
 def test_engine_on_buggy_wrappers_agrees_with_march_run(name: str, tmp_path: Path) -> None:
-    from memcheck.sim.march_run import run_march
+    from memcheck.sim import run_march
 
     contract, port, r = _on_wrapper(name, tmp_path / "bist")
     ref = run_march(contract, "March C-", backgrounds="solid", port=port.name, out_dir=tmp_path / "run", waveform=False)

@@ -27,7 +27,7 @@ from memcheck.march import (
     limbs_to_int,
     parse_march,
 )
-from memcheck.ops import PortOp
+from memcheck.ops import OpKind, PortOp
 
 from .test_march_notation import march_tests
 
@@ -37,7 +37,7 @@ def _ops(stream_steps: list[MarchStep | Pause]) -> list[str]:
     for s in stream_steps:
         if isinstance(s, Pause):
             out.append("pause")
-        elif s.op.kind == "write":
+        elif s.op.kind == OpKind.WRITE:
             out.append(f"w{s.op.data:x}@{s.op.address}")
         else:
             out.append(f"r{s.expected:x}@{s.op.address}")
@@ -123,7 +123,7 @@ def test_march_c_minus_on_four_words_hand_checked() -> None:
 def test_march_c_minus_with_a_background_uses_it_and_its_complement() -> None:
     s = expand("March C-", 4, 8, backgrounds="0x5a")
     steps = [x for x in s.steps() if isinstance(x, MarchStep)]
-    assert steps[4].expected == 0x5A and steps[5].op == PortOp("write", 0, 0xA5)
+    assert steps[4].expected == 0x5A and steps[5].op == PortOp(OpKind.WRITE, 0, 0xA5)
 
 
 def _reference(
@@ -131,7 +131,7 @@ def _reference(
 ) -> list[tuple[int, int, int, int, int, int, int]]:
     """Plain nested loops: (op, address, data, expected, element, step, background) per operation."""
     mask = (1 << width) - 1
-    out = []
+    out: list[tuple[int, int, int, int, int, int, int]] = []
     up = order.up().tolist()
     for b, values in enumerate(bg_words):
         for e, el in enumerate(test.elements):
@@ -221,7 +221,7 @@ def test_fault_free_memory_replay(alg: MarchAlgorithm, order: str) -> None:
         n += 1
         if step.step == 0:
             touched.setdefault((step.background, step.element), []).append(step.op.address)
-        if step.op.kind == "write":
+        if step.op.kind == OpKind.WRITE:
             memory[step.op.address] = step.op.data
         else:
             assert memory[step.op.address] == step.expected, s.describe_step(step, memory[step.op.address])
@@ -250,7 +250,7 @@ def test_steps_are_port_ops_and_describe_failures() -> None:
     s = expand("March C-", 4, 8, backgrounds="std1")
     steps = [x for x in s.steps() if isinstance(x, MarchStep)]
     read = steps[4]
-    assert read.op == PortOp("read", 0) and read.expected == 0x55
+    assert read.op == PortOp(OpKind.READ, 0) and read.expected == 0x55
     text = s.describe_step(read, got=0x54)
     assert "element 1" in text and "⇑(r0,w1)" in text and "address 0x0" in text
     assert "expected 0x55" in text and "got 0x54" in text and "std1" in text

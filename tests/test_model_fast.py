@@ -27,7 +27,7 @@ def _model_rows(contract: Contract, cycles: Sequence[Cycle], start: str) -> list
 
 
 def _contents(contract: Contract, start: str) -> Contents:
-    from memcheck.sim.checker import start_contents
+    from memcheck.sim.checking.compare import start_contents
 
     return start_contents(contract, "unknown" if start == "forget" else "reset" if start == "reset" else "power-up")
 

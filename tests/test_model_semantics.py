@@ -9,6 +9,7 @@ import pytest
 from memcheck import IDLE, Contract, Expected, InvalidOperation, PortOp, ResetSpec, read, write
 from memcheck.contract import contract_from_dict
 from memcheck.model import Model
+from memcheck.ops import OpKind
 
 X = Expected(0, 0)
 FULL8 = 0xFF
@@ -151,7 +152,7 @@ def test_out_of_range_read_is_unknown_and_write_changes_nothing() -> None:
 
 def test_disabled_port_ignores_its_pins() -> None:
     m = single(read_latency=0, initial="zero")
-    m.step((PortOp("idle", 2, 0xFF, None),))  # garbage on a disabled port
+    m.step((PortOp(OpKind.IDLE, 2, 0xFF, None),))  # garbage on a disabled port
     assert m.step((read(2),)) == (known(0),)
 
 

@@ -10,8 +10,8 @@ from hypothesis import strategies as st
 from memcheck import Contract
 from memcheck.model import Model
 from memcheck.model_fast import IDLE, READ, WRITE, Columns, expected, expected_rows, validate
-from memcheck.ops import PortOp
-from memcheck.sim.bulk import REPEATS, BulkSpec, bulk_specs, decode, record_size
+from memcheck.ops import OpKind, PortOp
+from memcheck.sim.checking.bulk import REPEATS, BulkSpec, bulk_specs, decode, record_size
 from tests.contract_strategies import contracts
 
 
@@ -29,7 +29,7 @@ def test_decoded_traces_respect_the_contract(data: st.DataObject, contract: Cont
     cycles = cols.to_cycles()
     for cyc in cycles:
         for op in cyc:
-            if op.kind == "read":
+            if op.kind == OpKind.READ:
                 assert op.data == 0 and op.lanes is None
     # ... and the cycle-by-cycle model agrees with the vectorised one on it.
     if len(cycles) <= 400:
@@ -43,9 +43,9 @@ def test_zero_bytes_decode_to_the_plainest_trace() -> None:
     c = Contract.simple(16, 8, lane_width=4, read_latency=2)
     cols = decode(c, BulkSpec((5, 7), (0x3C,), bytes(3 * 10)))
     # One cycle per record, every port idle with clean pins, then the drain.
-    assert cols.to_cycles() == [(PortOp("idle"),)] * (10 + 2)
+    assert cols.to_cycles() == [(PortOp(OpKind.IDLE),)] * (10 + 2)
     no_enable = Contract.simple(16, 8, enable=False)
-    assert decode(no_enable, BulkSpec((0,), (0,), bytes(6))).to_cycles() == [(PortOp("read", 0),)] * 3
+    assert decode(no_enable, BulkSpec((0,), (0,), bytes(6))).to_cycles() == [(PortOp(OpKind.READ, 0),)] * 3
 
 
 def test_records_repeat_step_and_read_back_as_documented() -> None:
@@ -58,8 +58,13 @@ def test_records_repeat_step_and_read_back_as_documented() -> None:
     cols = decode(c, BulkSpec(pool, (0,), bytes([head, 2 | (1 << 3), 1])))
     assert REPEATS[3] == 4
     ops = [cyc[0] for cyc in cols.to_cycles()]
-    assert ops[:4] == [PortOp("write", 20, 0xFF), PortOp("read", 20), PortOp("write", 22, 0xFF), PortOp("read", 22)]
-    assert ops[4:] == [PortOp("idle")]  # drain
+    assert ops[:4] == [
+        PortOp(OpKind.WRITE, 20, 0xFF),
+        PortOp(OpKind.READ, 20),
+        PortOp(OpKind.WRITE, 22, 0xFF),
+        PortOp(OpKind.READ, 22),
+    ]
+    assert ops[4:] == [PortOp(OpKind.IDLE)]  # drain
 
 
 def test_resting_ports_keep_their_pins_so_a_deselected_write_would_show() -> None:
@@ -67,7 +72,7 @@ def test_resting_ports_keep_their_pins_so_a_deselected_write_would_show() -> Non
     # alternation 2: every second repeat the port rests with its pins as they were (write enable too).
     head = 1 | (2 << 5)  # two cycles
     cols = decode(c, BulkSpec((9,), (0,), bytes([head, 2, 1])))
-    assert cols.to_cycles()[:2] == [(PortOp("write", 9, 0xFF),), (PortOp("idle", 9, 0xFF),)]
+    assert cols.to_cycles()[:2] == [(PortOp(OpKind.WRITE, 9, 0xFF),), (PortOp(OpKind.IDLE, 9, 0xFF),)]
 
 
 def test_collision_alternation_puts_every_port_on_the_writers_address() -> None:
@@ -78,7 +83,7 @@ def test_collision_alternation_puts_every_port_on_the_writers_address() -> None:
     head = 3 << 5
     body = bytes([head, 1 | (0 << 3), 0, 2 | (1 << 3), 0])
     cyc = decode(c, BulkSpec((1, 3), (0,), body)).to_cycles()[0]
-    assert cyc == (PortOp("read", 3), PortOp("write", 3, 0))
+    assert cyc == (PortOp(OpKind.READ, 3), PortOp(OpKind.WRITE, 3, 0))
 
 
 def test_generated_examples_are_large() -> None:

@@ -4,14 +4,18 @@ from __future__ import annotations
 
 import json
 from dataclasses import replace
+from typing import Any
 
 import pytest
 
-from memcheck.ops import PortOp, read, write
-from memcheck.sim.engine import EXAMPLE_PREAMBLE, Engine, RunOptions
-from memcheck.sim.result import Failure, RunResult
-from memcheck.sim.sequences import fill_word, smoke_cycles
-from memcheck.sim.shrink import ddmin
+from memcheck.ops import OpKind, PortOp, read, write
+from memcheck.records import Failure
+from memcheck.sim.checking.outcome import RunResult
+from memcheck.sim.checking.phases import PhaseRunner as Engine
+from memcheck.sim.checking.runner import EXAMPLE_PREAMBLE
+from memcheck.sim.checking.sequences import fill_word, smoke_cycles
+from memcheck.sim.checking.shrink import ddmin
+from memcheck.sim.options import SimOptions as RunOptions
 from tests.sim_pyram import PyRam, contract
 
 FAST = RunOptions(examples=40, seed=7, bulk_examples=3)
@@ -52,8 +56,8 @@ def test_property_phase_alone_finds_a_bug_and_shrinks_it() -> None:
     assert len(res.failure.trace) <= 6
     # What is left: a partial write (the bypass register misses it) and a read of the same word.
     ops = [c[0] for c in res.failure.trace.cycles]
-    partial = [op for op in ops if op.kind == "write" and op.lanes is not None]
-    assert partial and any(op.kind == "read" and op.address == partial[0].address for op in ops)
+    partial = [op for op in ops if op.kind == OpKind.WRITE and op.lanes is not None]
+    assert partial and any(op.kind == OpKind.READ and op.address == partial[0].address for op in ops)
 
 
 def test_verdicts_do_not_depend_on_earlier_examples() -> None:
@@ -65,7 +69,7 @@ def test_verdicts_do_not_depend_on_earlier_examples() -> None:
     # Run many unrelated examples first, then the failing one: same verdict and same mismatch.
     eng = Engine(c, PyRam(c, "stale_bypass"), FAST)
     for a in range(16):
-        eng.run_example([(write(a, 0xFF),), (read(a),), (PortOp("idle"),)])
+        eng.run_example([(write(a, 0xFF),), (read(a),), (PortOp(OpKind.IDLE),)])
     assert eng.run_example(trace).signature() == res.failure.checked.signature()
 
 
@@ -92,9 +96,9 @@ def test_run_result_round_trips_through_json() -> None:
 def test_smoke_writes_and_reads_every_lane() -> None:
     c = contract()
     cycles = smoke_cycles(c)
-    lanes = {op.lanes for cyc in cycles for op in cyc if op.kind == "write"}
+    lanes = {op.lanes for cyc in cycles for op in cyc if op.kind == OpKind.WRITE}
     assert lanes == {None, 1, 2}
-    assert any(op.kind == "read" for cyc in cycles for op in cyc)
+    assert any(op.kind == OpKind.READ for cyc in cycles for op in cyc)
 
 
 def test_fill_pattern_is_deterministic_and_never_trivial() -> None:
@@ -113,7 +117,7 @@ def test_ddmin_finds_a_one_minimal_failing_subset() -> None:
     items = [(read(i),) for i in range(1, 9)]
     need = {1, 7, 8}
 
-    def fails(xs: list) -> bool:
+    def fails(xs: list[Any]) -> bool:
         return need <= {c[0].address for c in xs}
 
     assert [c[0].address for c in ddmin(items, fails)] == [1, 7, 8]
@@ -124,9 +128,7 @@ def test_a_sweep_failure_that_needs_history_is_reported_from_the_start_and_repla
 ) -> None:
     """A word that loses a bit when it is not rewritten for a while fails the March sweep, but no short
     window fails on its own: the report keeps the sweep from its start, and a replay reruns it."""
-    import memcheck.sim.engine as engine_mod
-
-    monkeypatch.setattr(engine_mod, "_WINDOW_MAX", 4)
+    monkeypatch.setattr(Engine, "window_max", 4)
     res = _engine("decay", RunOptions(examples=5, seed=1, phases=("smoke", "sweep"))).run()
     f = res.failure
     assert f is not None and f.phase == "sweep"
@@ -176,7 +178,14 @@ def test_columns_and_cycle_paths_agree_on_the_stand_in() -> None:
     from memcheck.model_fast import Columns
 
     c = contract()
-    cycles = [(write(3, 0xA5, 1),), (read(3),), (PortOp("idle"),), (write(3, 0x5A),), (read(3),), (PortOp("idle"),)]
+    cycles = [
+        (write(3, 0xA5, 1),),
+        (read(3),),
+        (PortOp(OpKind.IDLE),),
+        (write(3, 0x5A),),
+        (read(3),),
+        (PortOp(OpKind.IDLE),),
+    ]
     for bug in ("none", "swap_lanes", "late_data"):
         eng = Engine(c, PyRam(c, bug), FAST)
         rows = eng.run_example(cycles)
@@ -189,7 +198,7 @@ def test_vectorised_fill_and_restore_match_the_cycle_versions() -> None:
     import numpy as np
 
     from memcheck.model_fast import limbs_to_ints
-    from memcheck.sim.sequences import fill_words, flush_columns, flush_cycles, restore_columns, restore_cycles
+    from memcheck.sim.checking.sequences import fill_words, flush_columns, flush_cycles, restore_columns, restore_cycles
 
     for width in (1, 2, 8, 63, 64, 65, 1024):
         a = np.arange(300)
@@ -213,9 +222,9 @@ def test_short_examples_put_garbage_addresses_from_the_pool() -> None:
     @given(traces(c, max_pool=3))
     def prop(trace) -> None:  # type: ignore[no-untyped-def]
         ops = [op for cyc in trace.cycles for op in cyc]
-        garbage = [op for op in ops if op.kind == "idle" and (op.address or op.data or op.lanes is not None)]
+        garbage = [op for op in ops if op.kind == OpKind.IDLE and (op.address or op.data or op.lanes is not None)]
         seen_garbage.extend(garbage)
-        assert len({op.address for op in ops if op.kind != "idle" or op in garbage}) <= 3
+        assert len({op.address for op in ops if op.kind != OpKind.IDLE or op in garbage}) <= 3
 
     prop()
     assert seen_garbage
@@ -226,9 +235,7 @@ def test_a_bulk_failure_that_needs_long_history_is_reported_up_to_its_difference
 ) -> None:
     """A word that loses a bit when not rewritten for a while: with windows capped at 4 cycles no short
     window fails on its own, so the bulk example up to its first difference is the trace."""
-    import memcheck.sim.engine as engine_mod
-
-    monkeypatch.setattr(engine_mod, "_WINDOW_MAX", 4)
+    monkeypatch.setattr(Engine, "window_max", 4)
     res = _engine("decay", replace(BULK, bulk_shrink_runs=0)).run()
     f = res.failure
     assert f is not None and f.phase == "property" and f.full_trace is not None

@@ -9,10 +9,11 @@ from hypothesis import strategies as st
 from memcheck.contract import Contract, parse_contract
 from memcheck.errors import InvalidOperation, SimulationError
 from memcheck.model_fast import Columns
-from memcheck.ops import PortOp, idle, read, write
-from memcheck.sim.harness import harness_text
-from memcheck.sim.layout import Layout, Observed
-from memcheck.sim.pins import TopPort, check_pins, read_ports
+from memcheck.ops import OpKind, PortOp, idle, read, write
+from memcheck.records import Observed
+from memcheck.sim.plumbing.harness import harness_text
+from memcheck.sim.plumbing.layout import Layout
+from memcheck.sim.plumbing.pins import TopPort, check_pins, read_ports
 from memcheck.strategies import traces
 from tests.contract_strategies import contracts
 
@@ -70,7 +71,7 @@ def _layout() -> Layout:
 
 def _field(word: int, layout: Layout, port: int, name: str) -> int:
     f = getattr(layout.ports[port], name)
-    return (word >> f.offset) & f.mask
+    return int((word >> f.offset) & f.mask)
 
 
 def test_fields_are_packed_without_overlap() -> None:
@@ -98,7 +99,7 @@ def test_active_low_pins_are_inverted_and_reset_encoded() -> None:
 
 def test_idle_with_garbage_asserts_write_enable_but_not_enable() -> None:
     lay = _layout()
-    clean = lay.encode((PortOp("idle"), read(0)))
+    clean = lay.encode((PortOp(OpKind.IDLE), read(0)))
     assert _field(clean, lay, 0, "enable") == 1 and _field(clean, lay, 0, "write_enable") == 0
     dirty = lay.encode((idle(3, 0x1234, 0b11), read(0)))
     assert _field(dirty, lay, 0, "enable") == 1  # still deselected
@@ -201,7 +202,7 @@ def test_vectorised_capture_matches_the_line_by_line_decoder(lines: list[str], s
         (f"// 0x{i:08x}\n" if i % 16 == 0 else "") + ln + (" \n" if spaced else "\n") for i, ln in enumerate(lines)
     ).encode()
     value, defined = lay.decode_arrays(text, len(lines))
-    from memcheck.sim.engine import observations_from_arrays
+    from memcheck.sim.checking.runner import observations_from_arrays
 
     assert observations_from_arrays(lay.contract, value, defined) == lay.decode(text, len(lines))
     with pytest.raises(ValueError):

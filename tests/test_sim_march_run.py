@@ -11,8 +11,8 @@ from __future__ import annotations
 import json
 from collections.abc import Sequence
 from pathlib import Path
+from typing import Any
 
-import numpy as np
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
@@ -21,21 +21,21 @@ from memcheck.cli import main
 from memcheck.contract import Contract, load_contract
 from memcheck.errors import InvalidOperation, MemcheckError, NotationError, UnknownAlgorithm, UsageError
 from memcheck.examples import examples_dir
+from memcheck.march.expand import Pause
 from memcheck.model_fast import Columns
-from memcheck.ops import Cycle
-from memcheck.sim.engine import Engine
-from memcheck.sim.layout import Observed
-from memcheck.sim.march_job import MarchJob, march_pieces, run_march_job
-from memcheck.sim.march_run import (
-    MarchRunOptions,
-    check_program,
-    choose_ports,
-    failure_from_job,
-    prefix_cycles,
-    prepare,
-    run_march,
-)
-from memcheck.sim.sequences import Segment
+from memcheck.ops import Cycle, OpKind
+from memcheck.records import Observed
+from memcheck.report import render_march_report
+from memcheck.sim.checking.march_job import MarchJob, run_march_job
+from memcheck.sim.checking.march_naming import check_schedule as check_program
+from memcheck.sim.checking.march_naming import failure_from_job
+from memcheck.sim.checking.runner import Runner as Engine
+from memcheck.sim.checking.schedule import choose_ports
+from memcheck.sim.checking.sequences import Segment
+from memcheck.sim.jobs.march import check_by_replay, prepare, run_march
+from memcheck.sim.options import SimOptions
+from memcheck.sim.session import Session
+from memcheck.strategies import drain_cycle
 from tests.contract_strategies import contracts
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -51,9 +51,9 @@ MARCH_C_MINUS = "March C-"  # {⇕(w0); ⇑(r0,w1); ⇑(r1,w0); ⇓(r0,w1); ⇓(
 # -- a small Python memory (independent of memcheck.model) ----------------------------------------
 
 
-def tiny_contract(**memory: object) -> Contract:
+def tiny_contract(**memory: Any) -> Contract:
     """16 x 8, one readwrite port with an enable, read latency 1, read data held on writes and idles."""
-    keys = {"read_latency": 1, "read_during_write": "keep", "idle_read_data": "keep", **memory}
+    keys: dict[str, Any] = {"read_latency": 1, "read_during_write": "keep", "idle_read_data": "keep", **memory}
     return Contract.simple(16, 8, **keys)
 
 
@@ -77,10 +77,10 @@ def stand_in(
     for cyc in cycles:
         out.append((Observed(0, 0) if rdata is None else Observed(rdata, mask),))
         op = cyc[0]
-        if op.kind == "write":
+        if op.kind == OpKind.WRITE:
             mem[op.address] = op.data
             idle = 0
-        elif op.kind == "read":
+        elif op.kind == OpKind.READ:
             v = mem[op.address]
             if stuck is not None and op.address == stuck[0] and v is not None:
                 v = (v | 1 << stuck[1]) if stuck[2] else (v & ~(1 << stuck[1]))
@@ -96,9 +96,9 @@ def stand_in(
 
 
 def program_for(contract: Contract, test: str, **options: object):  # type: ignore[no-untyped-def]
-    opts = MarchRunOptions(**options)  # type: ignore[arg-type]
-    program, _, _ = prepare(contract, test, opts)
-    return program
+    opts = SimOptions().replace(**options)
+    schedule, _ = prepare(contract, test, opts)
+    return schedule
 
 
 # -- ports ---------------------------------------------------------------------------------------
@@ -134,21 +134,23 @@ def test_cycles_one_operation_each_back_to_back_plus_pauses_and_drain() -> None:
     p = program_for(c, "{any(w1); del(10ms); up(r1,w0); del; down(r0)}", backgrounds="solid", pause_cycles=7)
     ops = 16 * 4
     assert p.operations == ops
-    assert len(p.cycles) == ops + 2 * 7 + 2  # two pauses, read_latency quiet cycles at the end
+    cycles = p.cycles()
+    assert len(cycles) == p.total_cycles == ops + 2 * 7 + 2  # two pauses, read_latency quiet cycles at the end
     assert [(s.start, s.stop) for s in p.pauses] == [(16, 23), (55, 62)]
     # Each operation sits on its own cycle, in stream order; quiet cycles carry none.
-    assert list(p.op_cycle[:17]) == [*range(16), 23]
-    assert (p.cycle_op[16:23] == -1).all()
-    assert p.cycles[23][0].kind == "read" and p.cycles[23][0].address == 0
-    assert p.cycles[-1][0].kind == "idle"
+    assert [k for k in range(len(cycles)) if p.op_at(k) >= 0][:17] == [*range(16), 23]
+    assert all(p.op_at(k) == -1 for k in range(16, 23))
+    assert cycles[23][0].kind == OpKind.READ and cycles[23][0].address == 0
+    assert cycles[-1][0].kind == OpKind.IDLE
     # The last element walks down: its first read is address 15.
-    assert p.cycles[62][0].address == 15
+    assert cycles[62][0].address == 15
 
 
 def test_reads_before_the_first_write_are_left_to_the_model() -> None:
     p = program_for(tiny_contract(), "{up(r0); any(w1); up(r1)}", backgrounds="solid")
-    assert list(p.read_checked) == [False] * 16 + [True] * 16
-    assert set(p.read_expected[16:]) == {0xFF}
+    due, expected, ops = p.judged_reads()  # the second element's 16 reads, not the first's
+    assert list(ops) == list(range(32, 48)) and list(due) == [k + 1 for k in range(32, 48)]
+    assert {int(e[0]) for e in expected} == {0xFF}
 
 
 def test_a_test_a_good_memory_fails_is_bad_input() -> None:
@@ -164,7 +166,7 @@ def test_budget_is_checked_before_anything_runs() -> None:
 
 def test_layout_and_orders_reach_the_stream() -> None:
     p = program_for(tiny_contract(), MATS_PLUS, backgrounds="solid", layout=(4, 4), order="row-fast")
-    first = [p.cycles[k][0].address for k in range(5)]
+    first = [p.cycles(5)[k][0].address for k in range(5)]
     assert first == [0, 4, 8, 12, 1]  # row changes fastest: address = row * 4 + col
     with pytest.raises(UsageError):
         program_for(tiny_contract(), MATS_PLUS, layout=(3, 4))
@@ -177,7 +179,7 @@ def test_correct_memory_passes_mats_plus_and_march_c_minus() -> None:
     c = tiny_contract()
     for test in (MATS_PLUS, MARCH_C_MINUS):
         p = program_for(c, test, backgrounds="standard")
-        assert check_program(c, p, stand_in(p.cycles)) is None
+        assert check_program(c, p, stand_in(p.cycles())) is None
 
 
 # Published claim: MATS+ detects every stuck-at fault (M.S. Abadir, H.K. Reghbati, "Functional testing
@@ -191,7 +193,7 @@ def test_mats_plus_finds_every_stuck_at_fault_at_the_operation_the_notation_pred
 ) -> None:
     c = tiny_contract()
     p = program_for(c, MATS_PLUS, backgrounds="solid")
-    f = check_program(c, p, stand_in(p.cycles, stuck=(address, bit, value)))
+    f = check_program(c, p, stand_in(p.cycles(), stuck=(address, bit, value)))
     assert f is not None
     assert f.step is not None and f.activity == "read"
     if value == 1:
@@ -217,7 +219,7 @@ def test_model_alone_judges_reads_of_words_never_written() -> None:
     # initial = "zero" promises zeros at power-up; the March expectation does not apply before a write.
     c = tiny_contract(initial="zero")
     p = program_for(c, "{up(r0); any(w1); up(r1)}", backgrounds="solid")
-    f = check_program(c, p, stand_in(p.cycles))  # the Python memory powers up X
+    f = check_program(c, p, stand_in(p.cycles()))  # the Python memory powers up X
     assert f is not None
     assert f.failed_checks == ("contract model",) and f.march_expected is None
     assert (f.cycle, f.step and f.step.op.address) == (1, 0)
@@ -226,7 +228,7 @@ def test_model_alone_judges_reads_of_words_never_written() -> None:
 def test_idle_read_data_failure_names_the_pause() -> None:
     c = tiny_contract()
     p = program_for(c, "{any(w1); up(r1); del; any(r1)}", backgrounds="solid", pause_cycles=3)
-    f = check_program(c, p, stand_in(p.cycles, clear_when_idle=True))
+    f = check_program(c, p, stand_in(p.cycles(), clear_when_idle=True))
     # The first idle edge (cycle 32, first pause cycle) clears the held read data; it shows at cycle 33.
     assert f is not None and f.activity == "quiet"
     assert (f.issued_cycle, f.cycle) == (32, 33)
@@ -242,9 +244,9 @@ def test_pause_cycles_decide_whether_a_sleeping_memory_fails() -> None:
     c = tiny_contract()
     test = "{any(w1); del; any(r1)}"
     short = program_for(c, test, backgrounds="solid", pause_cycles=4)
-    assert check_program(c, short, stand_in(short.cycles, sleep_after=8)) is None
+    assert check_program(c, short, stand_in(short.cycles(), sleep_after=8)) is None
     long = program_for(c, test, backgrounds="solid", pause_cycles=20)
-    f = check_program(c, long, stand_in(long.cycles, sleep_after=8))
+    f = check_program(c, long, stand_in(long.cycles(), sleep_after=8))
     assert f is not None and f.step is not None
     assert (f.step.element, f.step.op.address, f.issued_cycle) == (2, 0, 36)
 
@@ -361,7 +363,7 @@ def builds(tmp_path_factory: pytest.TempPathFactory) -> Path:
 def test_correct_wrapper_passes_mats_plus_and_march_c_minus(tmp_path: Path, builds: Path) -> None:
     for test in (MATS_PLUS, MARCH_C_MINUS):
         r = run_march(REGFILE, test, out_dir=tmp_path / test, build_dir=builds)
-        assert r.passed, r.render()
+        assert r.passed, render_march_report(r)
         assert (r.writer, r.reader) == ("wr", "rd")
         assert r.backgrounds == ("std0", "std1", "std2", "std3", "std4", "std5")  # log2(32) + 1
         assert r.operations == {MATS_PLUS: 5, MARCH_C_MINUS: 10}[test] * 32 * 6
@@ -437,11 +439,11 @@ def test_quiet_reads_of_a_port_without_enable_are_checked_too(tmp_path: Path, bu
     f = r.failure
     assert f is not None and f.step is not None
     assert (f.port, f.activity, f.issued_cycle, f.cycle) == ("rd", "quiet", 641, 643)
-    assert (f.step.element, f.step.step, f.step.op.kind, f.step.op.address) == (1, 1, "write", 0)
+    assert (f.step.element, f.step.step, f.step.op.kind, f.step.op.address) == (1, 1, OpKind.WRITE, 0)
     assert f.failed_checks == ("contract model",) and f.march_expected is None
     assert f.got == Observed((1 << 30) - 1, (1 << 30) - 1) and f.model_expected.value == 0
     assert "read address 0 (a port without an enable" in f.description
-    assert 'collision = "old"' in r.render()
+    assert 'collision = "old"' in render_march_report(r)
 
 
 @pytest.mark.icarus
@@ -508,53 +510,61 @@ def job_failure(
     contract: Contract,
     test: str,
     batch: int,
-    faults: dict[str, object],
-    vectorised: bool = True,  # type: ignore[no-untyped-def]
-    **options: object,
-):
+    faults: dict[str, Any],
+    vectorised: bool = True,
+    **options: Any,
+) -> tuple[Any, Any, Any, Any]:
     """Run ``test`` through the March job on the stand-in (batches of ``batch`` cycles) and name its
-    failure against a light program; also the failure check_program finds on the whole program."""
-    opts = MarchRunOptions(**options)  # type: ignore[arg-type]
-    full, _, _ = prepare(contract, test, opts)
-    light, _, _ = prepare(contract, test, opts, light=True)
+    failure against the schedule; also the failure check_program finds on the whole run."""
+    opts = SimOptions().replace(**options)
+    full, _ = prepare(contract, test, opts)
+    light = full
     engine = Engine(contract, StandInBackend(**faults))
-    info = run_march_job(
-        engine,
-        light.stream,
-        MarchJob(light.writer, light.reader, light.pause_cycles, "power-up", batch=batch, vectorised=vectorised),
-    )
-    whole = check_program(contract, full, stand_in(full.cycles, **faults))  # type: ignore[arg-type]
+    info = run_march_job(engine, light, MarchJob("power-up", batch=batch, vectorised=vectorised))
+    whole = check_program(contract, full, stand_in(full.cycles(), **faults))
     return failure_from_job(contract, light, info), whole, info, full
 
 
-def test_light_program_names_cycles_as_the_full_one() -> None:
-    for c, test, kw in [
+def test_schedule_names_cycles_as_its_cycles_show() -> None:
+    cases: list[tuple[Contract, str, dict[str, Any]]] = [
         (tiny_contract(read_latency=2), "{any(w1); del; up(r1,w0); del; down(r0)}", {"pause_cycles": 7}),
         (load_contract(REGFILE), MATS_PLUS, {"backgrounds": "solid"}),
         (tiny_contract(), MARCH_C_MINUS, {"backgrounds": "standard"}),
         # Reads of words written earlier in the same element (same chunk) are March-checked too.
         (tiny_contract(), "{up(r0,w1,r1); down(r1,w0,r0)}", {"backgrounds": "solid"}),
-    ]:
-        opts = MarchRunOptions(**kw)  # type: ignore[arg-type]
-        full, _, _ = prepare(c, test, opts)
-        light, _, _ = prepare(c, test, opts, light=True)
-        assert (light.total_cycles, light.operations) == (len(full.cycles), full.operations)
-        assert light.pauses == full.pauses
-        for k in range(-2, len(full.cycles) + 2):
-            assert light.op_at(k) == full.op_at(k)
-            assert light.last_op_before(k) == full.last_op_before(k)
-            if 0 <= k < len(full.cycles):
-                assert light.cycle_at(k) == full.cycles[k]
-        assert prefix_cycles(c, light, 40) == list(full.cycles[:40])
-        # The March job's columns are the full program's cycles, and it March-checks the same reads.
-        written = np.zeros(c.memory.words, dtype=bool)
-        pieces = list(
-            march_pieces(c, light.stream, MarchJob(light.writer, light.reader, light.pause_cycles, "power-up"), written)
-        )
-        cols = Columns.concat([p[0] for p in pieces])
-        assert cols.to_cycles() == list(full.cycles)
-        ops = np.concatenate([p[3] for p in pieces])
-        assert list(ops) == list(full.read_ops[full.read_checked])
+    ]
+    for c, test, kw in cases:
+        p = program_for(c, test, **kw)
+        cycles = p.cycles()
+        # Built independently, one Python object per operation, from the stream's steps.
+        quiet = drain_cycle(c)
+        want: list[Cycle] = []
+        issuing: list[int] = []
+        for item in p.stream.steps():
+            if isinstance(item, Pause):
+                want += [quiet] * p.pause_cycles
+                continue
+            cyc = list(quiet)
+            cyc[p.writer if item.expected is None else p.reader] = item.op
+            issuing.append(len(want))
+            want.append(tuple(cyc))
+        want += [quiet] * c.memory.read_latency
+        assert cycles == want and len(cycles) == p.total_cycles and len(issuing) == p.operations
+        for k in range(-2, len(cycles) + 2):
+            assert p.op_at(k) == (issuing.index(k) if k in issuing else -1)
+            before = [i for i, at in enumerate(issuing) if at <= k]
+            assert p.last_op_before(k) == (before[-1] if before else None)
+            if 0 <= k < len(cycles):
+                assert p.cycle_at(k) == cycles[k]
+        assert p.cycles(40) == cycles[:40]
+        # Every judged read is a read of a word some earlier cycle wrote, due read_latency later.
+        due, _, ops = p.judged_reads()
+        lat = c.memory.read_latency
+        for d, op in zip(due.tolist(), ops.tolist(), strict=True):
+            issued = issuing[op]
+            assert d == issued + lat
+            addr = cycles[issued][p.reader].address
+            assert any(cyc[p.writer].kind == OpKind.WRITE and cyc[p.writer].address == addr for cyc in cycles[:issued])
 
 
 @pytest.mark.parametrize(("batch", "vectorised"), [(3, True), (16, True), (1000, True), (3, False), (16, False)])
@@ -563,8 +573,8 @@ def test_march_job_finds_the_failure_first_failure_finds(batch: int, vectorised:
     # A correct memory passes in any batch size; every read after a write is March-checked.
     f, whole, info, full = job_failure(c, MARCH_C_MINUS, batch, {}, vectorised)
     assert f is None and whole is None and info["failure"] is None
-    assert info["cycles_run"] == len(full.cycles)
-    assert info["march_reads_checked"] == int(full.read_checked.sum())
+    assert info["cycles_run"] == full.total_cycles
+    assert info["march_reads_checked"] == len(full.judged_reads()[0])
     # Stuck-at faults (MATS+ and March C- detect all of them: van de Goor, "Testing Semiconductor
     # Memories", 1991), idle_read_data and a sleeping memory: the same failure, named the same way.
     cases: list[tuple[str, dict[str, object], dict[str, object]]] = [
@@ -576,7 +586,7 @@ def test_march_job_finds_the_failure_first_failure_finds(batch: int, vectorised:
     for test, faults, kw in cases:
         f, whole, info, _ = job_failure(c, test, batch, faults, vectorised, **kw)
         assert f is not None and whole is not None
-        assert f.to_json(8) == whole.to_json(8)
+        assert f == whole
         assert f.description == whole.description and f.window == whole.window
         assert info["cycles_run"] == f.cycle + 1  # the run stops at the first failure
 
@@ -585,7 +595,7 @@ def test_march_job_model_alone_before_the_first_write() -> None:
     c = tiny_contract(initial="zero")
     for batch in (1, 2, 50):
         f, whole, _, _ = job_failure(c, "{up(r0); any(w1); up(r1)}", batch, {}, backgrounds="solid")
-        assert f is not None and whole is not None and f.to_json(8) == whole.to_json(8)
+        assert f is not None and whole is not None and f == whole
         assert f.failed_checks == ("contract model",) and f.march_expected is None
 
 
@@ -593,7 +603,7 @@ def test_march_job_model_alone_before_the_first_write() -> None:
 def test_failure_past_the_replay_limit_is_named_without_a_replay_file(
     tmp_path: Path, builds: Path, monkeypatch: pytest.MonkeyPatch
 ) -> None:
-    import memcheck.sim.march_run as mr
+    import memcheck.sim.jobs.march as mr
 
     monkeypatch.setattr(mr, "REPLAY_MAX_CYCLES", 10)
     c = tiny_rtl(tmp_path, "sa", SA_ADDR=6, SA_BIT=3, SA_VAL=1)
@@ -606,34 +616,19 @@ def test_failure_past_the_replay_limit_is_named_without_a_replay_file(
 
 
 @pytest.mark.icarus
-def test_both_simulator_jobs_report_the_same_failure(tmp_path: Path, builds: Path) -> None:
+def test_the_march_job_and_a_whole_replay_run_report_the_same_failure(tmp_path: Path, builds: Path) -> None:
     c = tiny_rtl(tmp_path, "sa", SA_ADDR=9, SA_BIT=0, SA_VAL=0)
-    runs = [
-        run_march(
-            c,
-            MARCH_C_MINUS,
-            backgrounds="standard",
-            out_dir=tmp_path / job,
-            build_dir=builds,
-            waveform=False,
-            sim_job=job,
-        )
-        for job in ("march", "replay")
-    ]
-    a, b = (r.failure for r in runs)
-    assert a is not None and b is not None
-    assert a.to_json(8) == b.to_json(8) and a.description == b.description and a.window == b.window
-    assert runs[0].render().replace(f"{runs[0].seconds:.1f} s (build {runs[0].build_seconds:.1f} s)", "").replace(
-        str(tmp_path / "march"), ""
-    ) == runs[1].render().replace(f"{runs[1].seconds:.1f} s (build {runs[1].build_seconds:.1f} s)", "").replace(
-        str(tmp_path / "replay"), ""
-    )
+    r = run_march(c, MARCH_C_MINUS, backgrounds="standard", out_dir=tmp_path / "march", build_dir=builds)
+    s = Session.open(c, SimOptions(backgrounds="standard", out_dir=tmp_path / "replay", build_dir=builds), job="march")
+    schedule, _ = prepare(s.contract, MARCH_C_MINUS, s.options)
+    whole, _ = check_by_replay(s, schedule)
+    assert r.failure is not None and r.failure == whole
 
 
 def test_carried_vectorised_model_agrees_with_the_model_batch_by_batch() -> None:
     from memcheck.model_fast import expected_rows
-    from memcheck.sim.checker import start_model
-    from memcheck.sim.march_job import CarriedModel
+    from memcheck.sim.checking.compare import start_model
+    from memcheck.sim.checking.march_job import CarriedModel
 
     contracts = [
         tiny_contract(),
@@ -648,8 +643,8 @@ def test_carried_vectorised_model_agrees_with_the_model_batch_by_batch() -> None
         for test in (MARCH_C_MINUS, "{any(w1); del; up(r1,w0); down(r0,w1,r1)}"):
             p = program_for(c, test, backgrounds="solid", pause_cycles=9)
             start = "reset" if c.reset is not None else "power-up"
-            want = start_model(c, start).run(p.cycles)  # type: ignore[arg-type]
-            cols = Columns.from_cycles(c, p.cycles)
+            want = start_model(c, start).run(p.cycles())  # type: ignore[arg-type]
+            cols = Columns.from_cycles(c, p.cycles())
             for batch in (1, 4, 13, 200):
                 fast = CarriedModel(c, start, p.writer)  # type: ignore[arg-type]
                 got = []
@@ -673,8 +668,8 @@ def test_carried_model_agrees_on_random_contracts(
     from hypothesis import assume
 
     from memcheck.model_fast import expected_rows
-    from memcheck.sim.checker import start_model
-    from memcheck.sim.march_job import CarriedModel
+    from memcheck.sim.checking.compare import start_model
+    from memcheck.sim.checking.march_job import CarriedModel
 
     try:
         p = program_for(contract, test, backgrounds="solid", pause_cycles=data.draw(st.integers(0, 5)))
@@ -682,8 +677,8 @@ def test_carried_model_agrees_on_random_contracts(
         assume(False)
         return
     start = "reset" if contract.reset is not None else "power-up"
-    want = start_model(contract, start).run(p.cycles)  # type: ignore[arg-type]
-    cols = Columns.from_cycles(contract, p.cycles)
+    want = start_model(contract, start).run(p.cycles())  # type: ignore[arg-type]
+    cols = Columns.from_cycles(contract, p.cycles())
     fast = CarriedModel(contract, start, p.writer)  # type: ignore[arg-type]
     got = []
     for lo in range(0, len(cols), batch):

@@ -6,17 +6,16 @@ import json
 import xml.etree.ElementTree as ET
 from collections.abc import Sequence
 from pathlib import Path
+from typing import Any
 
 import pytest
 
 from memcheck.contract import Contract, PortSpec, ResetSpec
-from memcheck.ops import IDLE, Cycle, PortOp, idle, read, write
+from memcheck.ops import IDLE, Cycle, OpKind, PortOp, idle, read, write
+from memcheck.records import CheckedTrace, CheckResult, CheckVerdict, Failure, ModelStart, Observed, PhaseResult
 from memcheck.report import explain, junit_xml, render_report, render_table, report_dict, write_reports
 from memcheck.report.text import binary_known, hex_known
-from memcheck.sim.api import CheckResult
-from memcheck.sim.checker import CheckedTrace, ModelStart, check, start_model
-from memcheck.sim.layout import Observed
-from memcheck.sim.result import Failure, PhaseResult
+from memcheck.sim.checking.compare import check, start_model
 
 
 def _observe(
@@ -49,7 +48,7 @@ def _observe(
     return check(c, start, cycles, obs)
 
 
-def _two_port(**memory: object) -> Contract:
+def _two_port(**memory: Any) -> Contract:
     base = Contract.simple(16, 8, **memory)
     b = PortSpec(
         name="b",
@@ -139,7 +138,7 @@ def test_hex_and_binary_rendering_mark_unknown_bits() -> None:
 def _result(tmp: Path, checked: CheckedTrace, c: Contract) -> CheckResult:
     fail = Failure("property", ("reset", "fill", "flush"), checked)
     return CheckResult(
-        verdict="fail",
+        verdict=CheckVerdict.FAIL,
         contract=c,
         contract_path=tmp / "c.toml",
         seed=42,
@@ -177,10 +176,59 @@ def test_table_json_and_junit_of_a_failure(tmp_path: Path) -> None:
     assert not list(tmp_path.glob(".*.tmp"))  # atomic writes leave no temporary files
 
 
-@pytest.mark.parametrize("op", [PortOp("idle", 3, 0x12, None), PortOp("write", 1, 0xFF, 0b10)])
+@pytest.mark.parametrize("op", [PortOp(OpKind.IDLE, 3, 0x12, None), PortOp(OpKind.WRITE, 1, 0xFF, 0b10)])
 def test_table_shows_pins_of_disabled_ports_and_lanes(op: PortOp) -> None:
     c = Contract.simple(16, 8, lane_width=4)
     ct = _observe(c, [(op,), (IDLE,)], "unknown", at=-1)
     first = next(ln for ln in render_table(c, ct).splitlines() if ln.startswith("0 "))
-    assert ("idle*" in first) == (op.kind == "idle")
+    assert ("idle*" in first) == (op.kind == OpKind.IDLE)
     assert f"{op.address:#x}" in first and f"{op.data:02x}" in first
+
+
+#: The JSON fields of a check report before the layouts were unified (none may disappear).
+_CHECK_FIELDS_BEFORE = {
+    "verdict", "tool", "version", "contract", "top", "seed", "seconds", "build_seconds", "phases",
+    "operations", "cycles", "minimal_trace", "unchecked", "error", "note",
+}  # fmt: skip
+#: ... and of a March run report and of its error report.
+_MARCH_FIELDS_BEFORE = {
+    "verdict", "tool", "version", "contract", "test", "words", "width", "layout", "order", "any_order",
+    "seed", "backgrounds", "write_port", "read_port", "pause_cycles", "operations", "cycles", "seconds",
+    "build_seconds", "first_failure", "replay_file", "waveform", "reproduced_by_replay", "unchecked",
+    "notes", "error", "note",
+}  # fmt: skip
+_ERROR_FIELDS_BEFORE = {"verdict", "tool", "version", "contract", "seed", "phases", "operations", "cycles",
+                        "minimal_trace", "error", "note", "test", "first_failure"}  # fmt: skip
+
+
+def test_one_json_layout_keeps_every_earlier_field(tmp_path: Path) -> None:
+    from memcheck.march import expand
+    from memcheck.records import MarchRunResult
+    from memcheck.report import error_dict
+
+    c = Contract.simple(16, 8, lane_width=4)
+    ct = _observe(c, [(write(2, 0xAB),), (write(2, 0x0C, 0b01),), (read(2),), (IDLE,)], "unknown", at=3, value=0x0C)
+    check = report_dict(_result(tmp_path, ct, c))
+    stream = expand("MATS+", 16, 8)
+    march = report_dict(
+        MarchRunResult(
+            verdict=CheckVerdict.PASS, contract=c, contract_path=None, seed=1, test=stream.test, test_name="MATS+",
+            order="linear", any_order="up", layout=None, backgrounds=("solid",), writer="a", reader="a",
+            pause_cycles=100, operations=80, cycles=81,
+        )
+    )  # fmt: skip
+    assert set(check) >= _CHECK_FIELDS_BEFORE and set(march) >= _MARCH_FIELDS_BEFORE
+    # One layout: what a check and a March run share is every field but the job's own.
+    assert set(check) - {"minimal_trace"} == set(march) - set(march_fields_only())
+    assert check["job"] == "check" and march["job"] == "march run"
+    err = error_dict("c.toml", "bad", 3, job="march run", test="MATS+")
+    assert set(err) >= _ERROR_FIELDS_BEFORE and err["verdict"] == "error" and err["first_failure"] is None
+    assert set(error_dict("c.toml", "bad")) <= set(check) | {"first_failure"}
+    json.dumps([check, march, err])
+
+
+def march_fields_only() -> set[str]:
+    return {
+        "test", "words", "width", "layout", "order", "any_order", "backgrounds", "write_port", "read_port",
+        "pause_cycles", "first_failure",
+    }  # fmt: skip

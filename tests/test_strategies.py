@@ -9,6 +9,7 @@ from hypothesis import strategies as st
 
 from memcheck import Contract, PortOp, Trace
 from memcheck.model import Model
+from memcheck.ops import OpKind
 from memcheck.strategies import hot_addresses, traces
 from tests.contract_strategies import contracts
 
@@ -22,9 +23,9 @@ def test_generated_traces_respect_the_contract(data: st.DataObject, contract: Co
     for cycle in trace.cycles:
         assert len(cycle) == len(contract.ports)
         for port, op in zip(contract.ports, cycle, strict=True):
-            assert op.kind != "write" or port.can_write, "no writes on read ports"
-            assert op.kind != "read" or port.can_read, "no reads on write ports"
-            assert op.kind != "idle" or port.can_idle, "ports without an enable never idle"
+            assert op.kind != OpKind.WRITE or port.can_write, "no writes on read ports"
+            assert op.kind != OpKind.READ or port.can_read, "no reads on write ports"
+            assert op.kind != OpKind.IDLE or port.can_idle, "ports without an enable never idle"
             assert 0 <= op.address < (1 << m.address_bits)
             assert 0 <= op.data <= m.word_mask
             if m.lanes == 0:
@@ -34,7 +35,7 @@ def test_generated_traces_respect_the_contract(data: st.DataObject, contract: Co
     # The trailing drain cycles issue nothing new where possible, so every read result is observed.
     for cycle in trace.cycles[len(trace.cycles) - lat :] if lat else ():
         for port, op in zip(contract.ports, cycle, strict=True):
-            assert op.kind == ("idle" if port.can_idle else "read")
+            assert op.kind == (OpKind.IDLE if port.can_idle else OpKind.READ)
     Model(contract).run(trace.cycles)  # and the model accepts every cycle
 
 
@@ -71,7 +72,7 @@ def test_strategies_find_and_shrink_a_read_after_write_bug() -> None:
             want = model.step(cycle)
             op = cycle[0]
             got = buggy.step(cycle)
-            if prev is not None and prev.kind == "write" and op.kind == "read" and op.address == prev.address:
+            if prev is not None and prev.kind == OpKind.WRITE and op.kind == OpKind.READ and op.address == prev.address:
                 buggy.poke(prev.address, 0)  # ... modelled crudely: the written word reads back as zero
             # The buggy wrapper's RAM starts at zero (initial = "zero"), so it drives clean bits: its
             # read data is defined in every bit, whatever the reference model knows.
@@ -86,5 +87,5 @@ def test_strategies_find_and_shrink_a_read_after_write_bug() -> None:
     assert found, "the strategies never produced a write followed at once by a read of that address"
     smallest = found[-1]  # Hypothesis replays the shrunk example last
     assert len(smallest) <= 6
-    used = {op.address for c_ in smallest.cycles for op in c_ if op.kind != "idle"}
+    used = {op.address for c_ in smallest.cycles for op in c_ if op.kind != OpKind.IDLE}
     assert len(used) == 1, f"shrinks toward a single address: {smallest}"

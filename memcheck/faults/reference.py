@@ -31,6 +31,7 @@ from memcheck.faults.instances import (
 from memcheck.faults.primitives import aggressor_op, pause, settle, victim_op
 from memcheck.march.expand import Pause, expand
 from memcheck.march.notation import MarchTest
+from memcheck.ops import OpKind
 
 NEVER = -2  # event index meaning "did not happen"; -1 is the power-up moment
 
@@ -60,7 +61,7 @@ def _events(test: MarchTest, setup: Arrangement) -> list[_Event]:
             out.append(_Event("T", -1, 0, OpRef(item.background, item.element, -1, -1)))
         else:
             ref = OpRef(item.background, item.element, item.step, item.op.address)
-            out.append(_Event("r" if item.op.kind == "read" else "w", item.op.address, item.op.data, ref))
+            out.append(_Event("r" if item.op.kind == OpKind.READ else "w", item.op.address, item.op.data, ref))
     return out
 
 

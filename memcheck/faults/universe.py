@@ -39,29 +39,12 @@ from memcheck.faults.instances import (
     StuckOpenFault,
 )
 from memcheck.faults.primitives import models_of
+from memcheck.march.library import FAULT_CLASSES
 
 IntArray = npt.NDArray[np.int64]
 
-CLASSES: tuple[str, ...] = (
-    "SAF",
-    "TF",
-    "WDF",
-    "RDF",
-    "DRDF",
-    "IRF",
-    "SOF",
-    "DRF",
-    "CFst",
-    "CFds",
-    "CFtr",
-    "CFwd",
-    "CFrd",
-    "CFdrd",
-    "CFir",
-    "CFin",
-    "CFid",
-    "AF",
-)
+#: Every fault class, in the order of the one list (:data:`memcheck.march.library.FAULT_CLASSES`).
+CLASSES: tuple[str, ...] = tuple(FAULT_CLASSES)
 SINGLE_CLASSES: tuple[str, ...] = ("SAF", "TF", "WDF", "RDF", "DRDF", "IRF", "DRF")
 TWO_CELL_CLASSES: tuple[str, ...] = ("CFst", "CFds", "CFtr", "CFwd", "CFrd", "CFdrd", "CFir", "CFin", "CFid")
 SCOPES: tuple[str, ...] = ("intra-word", "aggressor below", "aggressor above")

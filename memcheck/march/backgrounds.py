@@ -45,6 +45,8 @@ from typing import Literal
 import numpy as np
 import numpy.typing as npt
 
+from memcheck._limbs import int_to_limbs as int_to_limbs
+from memcheck._limbs import limbs_to_int as limbs_to_int
 from memcheck.errors import UsageError
 from memcheck.march.orders import address_to_row_col
 
@@ -52,25 +54,8 @@ Flip = Literal["none", "row", "col", "cell"]
 BACKGROUND_NAMES: tuple[str, ...] = ("solid", "checkerboard", "row-stripe", "col-stripe", "standard")
 MAX_WIDTH = 1024
 
-WordArray = npt.NDArray[np.uint64]
+WordArray = npt.NDArray[np.uint64]  # limbs, see memcheck._limbs
 IntArray = npt.NDArray[np.int64]
-
-
-def limbs(width: int) -> int:
-    """Number of 64-bit limbs for a ``width``-bit word."""
-    return (width + 63) // 64
-
-
-def int_to_limbs(value: int, width: int) -> WordArray:
-    """An integer as ``uint64[L]`` little-endian limbs (masked to ``width`` bits)."""
-    value &= (1 << width) - 1
-    n = limbs(width)
-    return np.array([(value >> (64 * i)) & 0xFFFF_FFFF_FFFF_FFFF for i in range(n)], dtype=np.uint64)
-
-
-def limbs_to_int(row: npt.NDArray[np.uint64]) -> int:
-    """Inverse of :func:`int_to_limbs` for one word."""
-    return int.from_bytes(np.ascontiguousarray(row, dtype="<u8").tobytes(), "little")
 
 
 def all_ones(width: int) -> WordArray:

@@ -28,6 +28,7 @@ from typing import Any, Literal, TypeVar
 import numpy as np
 import numpy.typing as npt
 
+from memcheck._limbs import limbs_of
 from memcheck.errors import BudgetError, UsageError
 from memcheck.march.backgrounds import (
     DataBackground,
@@ -35,7 +36,6 @@ from memcheck.march.backgrounds import (
     _check_width,
     all_ones,
     int_to_limbs,
-    limbs,
     limbs_to_int,
     parity,
     resolve_backgrounds,
@@ -43,10 +43,11 @@ from memcheck.march.backgrounds import (
 from memcheck.march.library import resolve_test
 from memcheck.march.notation import Delay, MarchElement, MarchTest
 from memcheck.march.orders import AddressOrder
-from memcheck.ops import PortOp, read, write
+from memcheck.ops import OpKind, PortOp, read, write
 
-OP_READ = 0
-OP_WRITE = 1
+#: Operation codes of :attr:`OpsChunk.op`: the values of :class:`memcheck.ops.OpKind`.
+OP_READ = OpKind.READ
+OP_WRITE = OpKind.WRITE
 DEFAULT_CHUNK_OPS = 1 << 16
 
 IntArray = npt.NDArray[np.int64]
@@ -65,7 +66,7 @@ def _ro(a: _A) -> _A:
 class OpsChunk:
     """Consecutive operations of one element under one background.
 
-    ``op`` is OP_READ (0) or OP_WRITE (1); ``data`` is the written word (zero on reads) and
+    ``op`` is OP_READ or OP_WRITE (:class:`memcheck.ops.OpKind` codes); ``data`` is the written word (zero on reads) and
     ``expected`` the word a read must return (zero on writes); ``step`` is the operation's position
     inside its element; ``start`` is the stream index of the first operation.
     """
@@ -256,7 +257,7 @@ class MarchStream:
                 f"the stream has {self.total_ops} operations; collect() stops at {limit} (iterate the stream instead)"
             )
         parts = list(self.chunks())
-        nl = limbs(self.width)
+        nl = limbs_of(self.width)
         if not parts:
             z = np.zeros(0, dtype=np.int64)
             return StreamArrays(

@@ -85,7 +85,7 @@ def _nibbles(words: WordArray, digits: int) -> npt.NDArray[np.uint8]:
 def _hex_chunk(chunk: OpsChunk, lay: HexLayout) -> bytes:
     n = len(chunk)
     out = np.empty((n, lay.digits + 1), dtype=np.uint8)
-    out[:, 0] = _HEX[chunk.op]
+    out[:, 0] = _HEX[(chunk.op == OP_WRITE).astype(np.uint8)]  # the file format: 0 read, 1 write
     a0 = 1 + lay.address_digits
     out[:, 1:a0] = _HEX[_nibbles(chunk.address.astype(np.uint64)[:, None], lay.address_digits)]
     d0 = a0 + lay.data_digits

@@ -10,7 +10,8 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from memcheck.contract import Contract
-from memcheck.sim.checker import CheckedTrace, CycleRow
+from memcheck.ops import OpKind, PortOp
+from memcheck.records import CheckedTrace, CycleRow
 
 _RDW = {
     "old": "the old word (the contents before the write)",
@@ -44,61 +45,74 @@ def _lanes_text(contract: Contract, lanes: int | None) -> str:
     return f"{what}{'s' if len(on) > 1 else ''} {', '.join(on)}"
 
 
+@dataclass(frozen=True)
+class _Seen:
+    """The first mismatch and what the explanation needs about it."""
+
+    contract: Contract
+    checked: CheckedTrace
+    row: CycleRow
+    port: int
+    prefix: str  # what the pins showed, in words
+    timing: str  # a latency hint, or ""
+
+    @property
+    def issue_cycle(self) -> int:
+        return self.row.cycle - self.contract.memory.read_latency
+
+    @property
+    def when(self) -> str:
+        lat = self.contract.memory.read_latency
+        return "in the same cycle" if lat == 0 else f"{lat} cycle{'s' if lat > 1 else ''} earlier"
+
+    @property
+    def name(self) -> str:
+        return self.contract.ports[self.port].name
+
+    def says(self, rule: str, detail: str, key: str) -> Explanation:
+        return Explanation(self.row.cycle, self.name, self.prefix + rule, f"{detail} {self.timing}".strip(), key)
+
+
 def explain(contract: Contract, checked: CheckedTrace) -> Explanation | None:
     """Explain the first mismatch of ``checked`` (None when it has none)."""
-    rows = checked.rows
-    first = next((r for r in rows if not r.ok), None)
+    first = next((r for r in checked.rows if not r.ok), None)
     if first is None:
         return None
     p = next(i for i, d in enumerate(first.diff) if d)
-    port = contract.ports[p]
-    diff = first.diff[p]
-    obs = first.observed[p]
-    exp = first.expected[p]
-    m = contract.memory
-    lat = m.read_latency
-    issue_cycle = first.cycle - lat
-    by_cycle = {r.cycle: r for r in rows}
-    issued: CycleRow | None = by_cycle.get(issue_cycle)
+    diff, obs = first.diff[p], first.observed[p]
     xz = obs is not None and (diff & ~obs.defined) != 0
     bits = f"bit{'s' if bin(diff).count('1') > 1 else ''} {_bit_list(diff)}"
+    name = contract.ports[p].name
     prefix = (
-        f"Port {port.name} showed X/Z on {bits} where the contract promises known data. "
+        f"Port {name} showed X/Z on {bits} where the contract promises known data. "
         if xz
-        else f"Port {port.name} read data differs in {bits}. "
+        else f"Port {name} read data differs in {bits}. "
     )
-    when = "in the same cycle" if lat == 0 else f"{lat} cycle{'s' if lat > 1 else ''} earlier"
-
-    timing = _timing_hint(checked, first, p)
+    seen = _Seen(contract, checked, first, p, prefix, _timing_hint(checked, first, p))
+    issued = next((r for r in checked.rows if r.cycle == seen.issue_cycle), None)
     if issued is None:
-        return Explanation(
-            first.cycle, port.name, prefix + "Read data should follow the model here.", timing, "read data"
-        )
+        return seen.says("Read data should follow the model here.", "", "read data")
     op = issued.ops[p]
-    if op.kind == "write":
+    if op.kind == OpKind.WRITE:
+        m = contract.memory
         rule = (
             f'read_during_write = "{m.read_during_write}": in a cycle that writes, the port\'s read data '
             f"should be {_RDW.get(m.read_during_write, 'unknown')}."
         )
-        return Explanation(
-            first.cycle,
-            port.name,
-            prefix + rule,
-            f"The write was issued at cycle {issue_cycle} ({op.describe()}), {when}. {timing}".strip(),
-            "read_during_write",
-        )
-    if op.kind == "idle":
+        detail = f"The write was issued at cycle {seen.issue_cycle} ({op.describe()}), {seen.when}."
+        return seen.says(rule, detail, "read_during_write")
+    if op.kind == OpKind.IDLE:
         rule = 'idle_read_data = "keep": while a port issues no read, its read data should hold the last read result.'
-        return Explanation(
-            first.cycle,
-            port.name,
-            prefix + rule,
-            f"Port {port.name} was idle at cycle {issue_cycle}, {when}. {timing}".strip(),
-            "idle_read_data",
-        )
-    # A read.
-    addr = op.address
-    others = [(q, o) for q, o in enumerate(issued.ops) if q != p and o.kind == "write" and o.address == addr]
+        return seen.says(rule, f"Port {seen.name} was idle at cycle {seen.issue_cycle}, {seen.when}.", "idle_read_data")
+    return _explain_read(seen, issued, op.address)
+
+
+def _explain_read(seen: _Seen, issued: CycleRow, addr: int) -> Explanation:
+    """The mismatch answers a read of ``addr``: a collision, a word never written, or the last write."""
+    c, m = seen.contract, seen.contract.memory
+    others = [
+        (q, o) for q, o in enumerate(issued.ops) if q != seen.port and o.kind == OpKind.WRITE and o.address == addr
+    ]
     if others and m.collision in ("old", "new"):
         q, o = others[0]
         word = "old data (before the write)" if m.collision == "old" else "new data (after the write)"
@@ -106,51 +120,44 @@ def explain(contract: Contract, checked: CheckedTrace) -> Explanation | None:
             f'collision = "{m.collision}": a read while another port writes the same address on the '
             f"same edge should return the {word}."
         )
-        return Explanation(
-            first.cycle,
-            port.name,
-            prefix + rule,
-            f"At cycle {issue_cycle} port {contract.ports[q].name} did {o.describe()} while port "
-            f"{port.name} read it. {timing}".strip(),
-            "collision",
+        detail = (
+            f"At cycle {seen.issue_cycle} port {c.ports[q].name} did {o.describe()} while port {seen.name} read it."
         )
+        return seen.says(rule, detail, "collision")
     last = None
-    for r in rows:
-        if r.cycle >= issue_cycle:
+    for r in seen.checked.rows:
+        if r.cycle >= seen.issue_cycle:
             break
         for q, o in enumerate(r.ops):
-            if o.kind == "write" and o.address == addr:
+            if o.kind == OpKind.WRITE and o.address == addr:
                 last = (r.cycle, q, o)
     if last is None:
-        if m.initial == "zero" and checked.start in ("reset", "power-up"):
-            where = "after the reset sequence" if contract.reset is not None else "at power-up"
-            rule = f'initial = "zero": a word never written should read as zero {where}.'
-            return Explanation(
-                first.cycle,
-                port.name,
-                prefix + rule,
-                f"The read of address {addr:#x} was issued at cycle {issue_cycle}. {timing}".strip(),
-                "initial",
-            )
-        rule = "A read should return the data last written to its address."
-        return Explanation(
-            first.cycle,
-            port.name,
-            prefix + rule,
-            f"The read of address {addr:#x} was issued at cycle {issue_cycle}. {timing}".strip(),
-            "read data",
-        )
-    wc, q, w = last
-    # A disabled port with this address on its pins in between: it must not have written.
-    for r in rows:
-        if not wc < r.cycle < issue_cycle + (1 if lat == 0 else 0):
+        detail = f"The read of address {addr:#x} was issued at cycle {seen.issue_cycle}."
+        if m.initial == "zero" and seen.checked.start in ("reset", "power-up"):
+            where = "after the reset sequence" if c.reset is not None else "at power-up"
+            return seen.says(f'initial = "zero": a word never written should read as zero {where}.', detail, "initial")
+        return seen.says("A read should return the data last written to its address.", detail, "read data")
+    return (
+        _disabled_port(seen, addr, last[0]) or _write_collision(seen, addr, last[0]) or _last_write(seen, addr, *last)
+    )
+
+
+def _disabled_port(seen: _Seen, addr: int, wc: int) -> Explanation | None:
+    """A disabled port with this address on its pins between the last write and the read."""
+    c = seen.contract
+    obs = seen.row.observed[seen.port]
+    diff = seen.row.diff[seen.port]
+    stop = seen.issue_cycle + (1 if c.memory.read_latency == 0 else 0)
+    for r in seen.checked.rows:
+        if not wc < r.cycle < stop:
             continue
         for q2, o in enumerate(r.ops):
+            garbage = o.address or o.data or o.lanes is not None
             if (
-                o.kind == "idle"
+                o.kind == OpKind.IDLE
                 and o.address == addr
-                and contract.ports[q2].can_write
-                and (o.address or o.data or o.lanes is not None)
+                and c.ports[q2].can_write
+                and garbage
                 and obs is not None
                 and not (obs.value ^ o.data) & diff
             ):
@@ -158,54 +165,60 @@ def explain(contract: Contract, checked: CheckedTrace) -> Explanation | None:
                     "Enables: with its enable deasserted a port must do nothing, whatever its other pins "
                     "carry; the read returns the data that was on a disabled port's pins."
                 )
-                return Explanation(
-                    first.cycle,
-                    port.name,
-                    prefix + rule,
-                    f"At cycle {r.cycle} port {contract.ports[q2].name} was disabled with address "
+                detail = (
+                    f"At cycle {r.cycle} port {c.ports[q2].name} was disabled with address "
                     f"{o.address:#x} and data {o.data:#x} on its pins (write enable asserted); "
-                    f"address {addr:#x} was last written at cycle {wc}. {timing}".strip(),
-                    "enable",
+                    f"address {addr:#x} was last written at cycle {wc}."
                 )
-    same_edge = [(q2, o) for q2, o in enumerate(by_cycle[wc].ops) if o.kind == "write" and o.address == addr]
-    if len(same_edge) > 1 and m.write_collision == "first":
-        q1 = same_edge[0][0]
-        names = " and ".join(f"port {contract.ports[x].name} ({o.describe()})" for x, o in same_edge)
-        rule = (
-            'write_collision = "first": when two ports write one address on the same edge, the '
-            "earlier-listed port's data should win."
-        )
-        return Explanation(
-            first.cycle,
-            port.name,
-            prefix + rule,
-            f"At cycle {wc} {names} both wrote address {addr:#x}; port "
-            f"{contract.ports[q1].name} is listed first. {timing}".strip(),
-            "write_collision",
-        )
+                return seen.says(rule, detail, "enable")
+    return None
+
+
+def _write_collision(seen: _Seen, addr: int, wc: int) -> Explanation | None:
+    c = seen.contract
+    at = next(r for r in seen.checked.rows if r.cycle == wc)
+    same_edge = [(q2, o) for q2, o in enumerate(at.ops) if o.kind == OpKind.WRITE and o.address == addr]
+    if len(same_edge) < 2 or c.memory.write_collision != "first":
+        return None
+    names = " and ".join(f"port {c.ports[x].name} ({o.describe()})" for x, o in same_edge)
+    rule = (
+        'write_collision = "first": when two ports write one address on the same edge, the '
+        "earlier-listed port's data should win."
+    )
+    detail = (
+        f"At cycle {wc} {names} both wrote address {addr:#x}; port {c.ports[same_edge[0][0]].name} is listed first."
+    )
+    return seen.says(rule, detail, "write_collision")
+
+
+def _last_write(seen: _Seen, addr: int, wc: int, q: int, w: PortOp) -> Explanation:
+    """The read should return what the last write left: lane enables, or the data itself."""
+    c, m = seen.contract, seen.contract.memory
+    diff = seen.row.diff[seen.port]
     written = m.word_mask if w.lanes is None else m.lane_bits(w.lanes)
-    src = f"port {contract.ports[q].name} at cycle {wc} ({w.describe()})"
+    src = f"port {c.ports[q].name} at cycle {wc} ({w.describe()})"
     if diff & ~written and not diff & written:
         rule = (
-            f"Lane enables: a write with {_lanes_text(contract, w.lanes)} enabled should leave the other "
+            f"Lane enables: a write with {_lanes_text(c, w.lanes)} enabled should leave the other "
             "bits of the word unchanged."
         )
         key = "lane_enable"
     elif w.lanes is not None and m.lanes and diff & written:
-        rule = f"Lane enables: a write with {_lanes_text(contract, w.lanes)} enabled should update those bits."
+        rule = f"Lane enables: a write with {_lanes_text(c, w.lanes)} enabled should update those bits."
         key = "lane_enable"
     else:
         rule = "A read should return the data last written to its address."
         key = "read data"
-    detail = f"Address {addr:#x} was last written by {src}; the read was issued at cycle {issue_cycle}."
+    lat = m.read_latency
+    detail = f"Address {addr:#x} was last written by {src}; the read was issued at cycle {seen.issue_cycle}."
     if lat:
         detail = (
-            f"Address {addr:#x} was last written by {src}; the read was issued at cycle {issue_cycle}, "
-            f"its data due at cycle {first.cycle} (read_latency = {lat})."
+            f"Address {addr:#x} was last written by {src}; the read was issued at cycle {seen.issue_cycle}, "
+            f"its data due at cycle {seen.row.cycle} (read_latency = {lat})."
         )
-    if exp.known != m.word_mask:
+    if seen.row.expected[seen.port].known != m.word_mask:
         detail += " Bits the model does not know are not compared."
-    return Explanation(first.cycle, port.name, prefix + rule, f"{detail} {timing}".strip(), key)
+    return seen.says(rule, detail, key)
 
 
 def _bit_list(mask: int) -> str:

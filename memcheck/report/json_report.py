@@ -5,75 +5,108 @@ from __future__ import annotations
 import json
 import xml.etree.ElementTree as ET
 from pathlib import Path
-from typing import TYPE_CHECKING, Any
+from typing import Any
 
 from memcheck import __version__
 from memcheck._atomic import write_text_atomic
+from memcheck.records import CheckResult, MarchRunResult, RunRecord
 from memcheck.report.explain import explain
+from memcheck.report.march_report import march_fields, render_march_report
 from memcheck.report.text import DISCLAIMER, render_report
 
-if TYPE_CHECKING:
-    from memcheck.sim.api import CheckResult
 
-
-def report_dict(result: CheckResult) -> dict[str, Any]:
-    """The JSON report of a check: verdict, phases, counts, time, and the minimal trace when it failed."""
+def _common(result: RunRecord[Any], job: str) -> dict[str, Any]:
+    """The fields every job's JSON report has (docs/check.md, "JSON report")."""
     c = result.contract
-    out: dict[str, Any] = {
-        "verdict": result.verdict,
+    return {
+        "verdict": str(result.verdict),
         "tool": "memcheck",
         "version": __version__,
+        "job": job,
         "contract": None if result.contract_path is None else str(result.contract_path),
         "top": c.rtl.top if c.rtl else None,
         "seed": result.seed,
         "seconds": round(result.seconds, 3),
         "build_seconds": round(result.build_seconds, 3),
         "phases": [p.to_json() for p in result.phases],
-        "operations": result.operations,
-        "cycles": result.cycles,
-        "minimal_trace": None,
+        "out_dir": None if result.out_dir is None else str(result.out_dir),
+        "replay_file": None if result.replay_file is None else str(result.replay_file),
+        "replay_command": result.replay_command,
+        "waveform": None if result.waveform_file is None else str(result.waveform_file),
+        "reproduced_by_replay": result.reproduced,
         "unchecked": result.unchecked,
-        "error": result.error,
+        "unconnected_inputs": list(result.unconnected_inputs),
+        "notes": list(result.notes),
+        "error": None,
         "note": DISCLAIMER,
     }
+
+
+def _minimal_trace(result: CheckResult) -> dict[str, Any] | None:
     f = result.failure
-    if f is not None:
-        ex = explain(c, f.checked)
-        out["minimal_trace"] = {
-            "phase": f.phase,
-            "cycles": len(f.trace),
-            "first_mismatch": f.checked.first_mismatch,
-            "start": {"preamble": list(f.preamble), "model": f.checked.start},
-            "trace": f.trace.to_json(),
-            "rows": [r.to_json() for r in f.checked.rows],
-            "ports": [p.name for p in c.ports],
-            "violated": None
-            if ex is None
-            else {"rule": ex.rule, "detail": ex.detail, "key": ex.key, "cycle": ex.cycle, "port": ex.port},
-            "note": f.note,
-            "replay_file": None if result.replay_file is None else str(result.replay_file),
-            "replay_command": result.replay_command,
-            "waveform": None if result.waveform_file is None else str(result.waveform_file),
-            "reproduced_by_replay": result.reproduced,
-        }
+    if f is None:
+        return None
+    c = result.contract
+    ex = explain(c, f.checked)
+    return {
+        "phase": f.phase,
+        "cycles": len(f.trace),
+        "first_mismatch": f.checked.first_mismatch,
+        "start": {"preamble": list(f.preamble), "model": f.checked.start},
+        "trace": f.trace.to_json(),
+        "rows": [r.to_json() for r in f.checked.rows],
+        "ports": [p.name for p in c.ports],
+        "violated": None
+        if ex is None
+        else {"rule": ex.rule, "detail": ex.detail, "key": ex.key, "cycle": ex.cycle, "port": ex.port},
+        "note": f.note,
+        "replay_file": None if result.replay_file is None else str(result.replay_file),
+        "replay_command": result.replay_command,
+        "waveform": None if result.waveform_file is None else str(result.waveform_file),
+        "reproduced_by_replay": result.reproduced,
+    }
+
+
+def report_dict(result: CheckResult | MarchRunResult) -> dict[str, Any]:
+    """The JSON report of a job: the common fields, then the job's own (a check's ``minimal_trace``;
+    a March run's test, geometry, ports and ``first_failure``)."""
+    if isinstance(result, MarchRunResult):
+        out = _common(result, "march run")
+        out.update(march_fields(result))
+        out.update(operations=result.operations, cycles=result.cycles)
+        return out
+    out = _common(result, "check")
+    out.update(
+        operations=result.operations,
+        cycles=result.cycles,
+        minimal_trace=_minimal_trace(result),
+        error=result.error,
+    )
     return out
 
 
-def error_dict(contract: str | None, message: str, seed: int | None = None) -> dict[str, Any]:
-    """The JSON report when the check could not run (bad input or tool failure)."""
-    return {
+def error_dict(
+    contract: str | None, message: str, seed: int | None = None, *, job: str = "check", **fields: Any
+) -> dict[str, Any]:
+    """The JSON report when a job could not run (bad input or tool failure): the common fields that
+    are known, ``error`` set, and the job's own result fields empty (``fields`` adds known ones)."""
+    out: dict[str, Any] = {
         "verdict": "error",
         "tool": "memcheck",
         "version": __version__,
+        "job": job,
         "contract": contract,
         "seed": seed,
         "phases": [],
         "operations": 0,
         "cycles": 0,
         "minimal_trace": None,
+        "first_failure": None,
         "error": message,
         "note": DISCLAIMER,
     }
+    out.update(fields)
+    return out
 
 
 def write_json(path: str | Path, report: dict[str, Any]) -> Path:
@@ -125,15 +158,15 @@ def write_junit(path: str | Path, report: dict[str, Any], details: str = "") -> 
 
 
 def write_reports(
-    result: CheckResult,
+    result: CheckResult | MarchRunResult,
     *,
     json_file: str | Path | None = None,
     junit_file: str | Path | None = None,
     text_file: str | Path | None = None,
 ) -> None:
-    """Write the requested reports of a check, each atomically."""
+    """Write the requested reports of a job, each atomically."""
     rep = report_dict(result)
-    text = render_report(result)
+    text = render_march_report(result) if isinstance(result, MarchRunResult) else render_report(result)
     if json_file is not None:
         write_json(json_file, rep)
     if junit_file is not None:

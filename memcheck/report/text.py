@@ -5,16 +5,12 @@ Plain text on purpose: it reads the same on a terminal, in a CI log and in a fil
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING
+from typing import Any
 
 from memcheck.contract import Contract
-from memcheck.ops import Expected, PortOp
+from memcheck.ops import Expected, OpKind, PortOp
+from memcheck.records import CheckedTrace, CheckResult, Observed, RunRecord
 from memcheck.report.explain import explain
-from memcheck.sim.checker import CheckedTrace
-from memcheck.sim.layout import Observed
-
-if TYPE_CHECKING:
-    from memcheck.sim.api import CheckResult
 
 DISCLAIMER = (
     "Verdicts cover the behaviour modelled by the contract only (behaviours it leaves unknown "
@@ -64,10 +60,10 @@ def _op_cells(contract: Contract, op: PortOp) -> tuple[str, str, str, str]:
     m = contract.memory
     hexw = (m.width + 3) // 4
     lanes = "" if m.lanes == 0 or op.lanes is None else f"{op.lanes:0{max(1, (m.lanes + 3) // 4)}x}"
-    if op.kind == "write":
-        return "write", f"{op.address:#x}", f"{op.data:0{hexw}x}", lanes or ("all" if m.lanes else "")
-    if op.kind == "read":
-        return "read", f"{op.address:#x}", "", ""
+    if op.kind == OpKind.WRITE:
+        return op.kind.label, f"{op.address:#x}", f"{op.data:0{hexw}x}", lanes or ("all" if m.lanes else "")
+    if op.kind == OpKind.READ:
+        return op.kind.label, f"{op.address:#x}", "", ""
     if op.address or op.data or op.lanes is not None:
         return "idle*", f"{op.address:#x}", f"{op.data:0{hexw}x}", lanes
     return "idle", "", "", ""
@@ -211,15 +207,21 @@ def render_report(result: CheckResult) -> str:
             )
         if files:
             parts.append("\n".join(files))
-    unchecked = result.unchecked
-    if unchecked:
+    parts += render_notes(result)
+    parts.append(DISCLAIMER)
+    return "\n\n".join(parts)
+
+
+def render_notes(result: RunRecord[Any]) -> list[str]:
+    """What every job's report ends with: behaviours not checked, inputs left unconnected."""
+    parts = []
+    if result.unchecked:
         parts.append(
-            "Not checked, because the contract leaves them unknown:\n" + "\n".join(f"  - {u}" for u in unchecked)
+            "Not checked, because the contract leaves them unknown:\n" + "\n".join(f"  - {u}" for u in result.unchecked)
         )
     if result.unconnected_inputs:
         parts.append(
             "Inputs of the top module that the contract does not name were left unconnected: "
             + ", ".join(result.unconnected_inputs)
         )
-    parts.append(DISCLAIMER)
-    return "\n\n".join(parts)
+    return parts

@@ -15,7 +15,7 @@ from typing import Any
 
 from memcheck._atomic import write_text_atomic
 from memcheck.errors import ReplayError
-from memcheck.sim.result import Failure
+from memcheck.records import Failure
 
 FORMAT = "memcheck-replay"
 VERSION = 1

@@ -19,12 +19,16 @@ import numpy as np
 
 from memcheck.contract import Contract
 from memcheck.model_fast import READ, WRITE, Columns, limbs_of
-from memcheck.ops import Cycle, PortOp
+from memcheck.ops import Cycle, OpKind, PortOp
+from memcheck.sim.checking.schedule import MarchSchedule, march_schedule, sweep_ports
+from memcheck.sim.options import SimOptions
 from memcheck.strategies import drain_cycle
 
 #: Memories up to this many addresses get the canonical fill; above it examples start from
 #: whatever earlier examples left (documented in docs/check.md).
 FILL_LIMIT = 1 << 16
+#: Stream operations per chunk of a sweep (one segment each, at most a batch of the harness).
+_SWEEP_CHUNK = 8192
 _M64 = (1 << 64) - 1
 
 
@@ -157,7 +161,7 @@ def restore_cycles(contract: Contract, addresses: Iterable[int]) -> list[Cycle]:
     if w is None:
         return []
     width = contract.memory.width
-    return [_with(contract, {w: PortOp("write", a, fill_word(width, a))}) for a in sorted(set(addresses))]
+    return [_with(contract, {w: PortOp(OpKind.WRITE, a, fill_word(width, a))}) for a in sorted(set(addresses))]
 
 
 def fill_segments(contract: Contract, chunk: int) -> Iterator[Segment]:
@@ -172,17 +176,17 @@ def flush_cycles(contract: Contract) -> list[Cycle]:
     out: list[Cycle] = []
     w = writer_index(contract)
     if w is not None and fill_limit(contract):
-        out.append(_with(contract, {w: PortOp("write", 0, fill_word(contract.memory.width, 0))}))
+        out.append(_with(contract, {w: PortOp(OpKind.WRITE, 0, fill_word(contract.memory.width, 0))}))
     readers = reader_indices(contract)
     if readers:
-        out.append(_with(contract, {r: PortOp("read", 0) for r in readers}))
+        out.append(_with(contract, {r: PortOp(OpKind.READ, 0) for r in readers}))
     out.extend(quiet(contract) for _ in range(contract.memory.read_latency + 1))
     return out
 
 
 def written_addresses(cycles: Iterable[Cycle]) -> set[int]:
     """Every address a cycle wrote (or tried to: lanes all zero and beyond ``words`` included)."""
-    return {op.address for c in cycles for op in c if op.kind == "write"}
+    return {op.address for c in cycles for op in c if op.kind == OpKind.WRITE}
 
 
 # -- smoke ---------------------------------------------------------------------------------
@@ -213,7 +217,7 @@ def smoke_cycles(contract: Contract) -> list[Cycle]:
 
     def read_all(a: int) -> None:
         if readers:
-            out.append(_with(contract, {r: PortOp("read", a) for r in readers}))
+            out.append(_with(contract, {r: PortOp(OpKind.READ, a) for r in readers}))
 
     if m.initial == "zero":
         for a in addrs:
@@ -221,11 +225,11 @@ def smoke_cycles(contract: Contract) -> list[Cycle]:
     for w in writers:
         for a in addrs:
             d1 = fill_word(m.width, a + 0x5A5A)
-            out.append(_with(contract, {w: PortOp("write", a, d1)}))
+            out.append(_with(contract, {w: PortOp(OpKind.WRITE, a, d1)}))
             read_all(a)
             for lane in _lane_list(contract):
                 d2 = ~d1 & m.word_mask
-                out.append(_with(contract, {w: PortOp("write", a, d2, 1 << lane)}))
+                out.append(_with(contract, {w: PortOp(OpKind.WRITE, a, d2, 1 << lane)}))
                 read_all(a)
                 d1 = (d1 & ~m.lane_bits(1 << lane)) | (d2 & m.lane_bits(1 << lane))
     out.extend(quiet(contract) for _ in range(m.read_latency))
@@ -237,57 +241,44 @@ def smoke_cycles(contract: Contract) -> list[Cycle]:
 
 @dataclass(frozen=True)
 class SweepPlan:
-    """A March test run through one writing and one reading port."""
+    """A March test run through one writing and one reading port (its schedule, pauses included)."""
 
     algorithm: str
     backgrounds: str
-    writer: int
-    reader: int
+    schedule: MarchSchedule
+
+    @property
+    def writer(self) -> int:
+        return self.schedule.writer
+
+    @property
+    def reader(self) -> int:
+        return self.schedule.reader
 
     def describe(self, contract: Contract) -> str:
         w, r = contract.ports[self.writer].name, contract.ports[self.reader].name
         via = f"port {w}" if w == r else f"write port {w}, read port {r}"
         return f"{self.algorithm} ({self.backgrounds} backgrounds) via {via}"
 
-
-def sweep_plans(contract: Contract, algorithm: str, backgrounds: str) -> list[SweepPlan]:
-    """One plan per port that can read: through itself when it also writes, else with the first writer."""
-    w0 = writer_index(contract)
-    if w0 is None:
-        return []
-    plans = []
-    for r in reader_indices(contract):
-        w = r if contract.ports[r].can_write else w0
-        plans.append(SweepPlan(algorithm, backgrounds, w, r))
-    return plans
+    def segments(self, chunk: int) -> Iterator[Segment]:
+        """The schedule as cycles, in segments of at most ``chunk`` cycles."""
+        for piece in self.schedule.pieces():
+            for lo in range(0, len(piece.cols), chunk):
+                yield Segment(tuple(piece.cols[lo : lo + chunk].to_cycles()))
 
 
-def sweep_ops(contract: Contract, plan: SweepPlan) -> int:
+def sweep_plans(contract: Contract, options: SimOptions) -> list[SweepPlan]:
+    """One plan per port that can read (the port rule of :func:`~memcheck.sim.checking.schedule.sweep_ports`)."""
     from memcheck.march import expand
 
     m = contract.memory
-    return expand(plan.algorithm, m.words, m.width, backgrounds=plan.backgrounds).total_ops
-
-
-def sweep_segments(contract: Contract, plan: SweepPlan, chunk: int) -> Iterator[Segment]:
-    """The March stream as cycles, one operation per cycle, back to back, in chunks."""
-    from memcheck.march import OP_WRITE, expand, limbs_to_int
-
-    m = contract.memory
-    stream = expand(plan.algorithm, m.words, m.width, backgrounds=plan.backgrounds, chunk_ops=chunk)
-    q = quiet(contract)
-    for ch in stream.chunks():
-        cycles: list[Cycle] = []
-        for i in range(len(ch)):
-            cyc = list(q)
-            addr = int(ch.address[i])
-            if ch.op[i] == OP_WRITE:
-                cyc[plan.writer] = PortOp("write", addr, limbs_to_int(ch.data[i]))
-            else:
-                cyc[plan.reader] = PortOp("read", addr)
-            cycles.append(tuple(cyc))
-        yield Segment(tuple(cycles))
-    yield Segment(tuple(q for _ in range(m.read_latency)))
+    plans = []
+    for w, r in sweep_ports(contract):
+        stream = expand(options.march, m.words, m.width, backgrounds=options.backgrounds, chunk_ops=_SWEEP_CHUNK)
+        plans.append(
+            SweepPlan(options.march, options.backgrounds, march_schedule(contract, stream, w, r, options.pause_cycles))
+        )
+    return plans
 
 
 def concat(segments: Sequence[Segment]) -> list[Cycle]:

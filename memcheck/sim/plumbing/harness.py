@@ -15,7 +15,7 @@ from __future__ import annotations
 from collections.abc import Mapping
 
 from memcheck.contract import Contract
-from memcheck.sim.layout import BATCH_CYCLES, Field, Layout
+from memcheck.sim.plumbing.layout import BATCH_CYCLES, Field, Layout
 
 HARNESS_TOP = "memcheck_harness"
 STIM_FILE = "stim.hex"

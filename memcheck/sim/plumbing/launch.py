@@ -1,6 +1,6 @@
 """Start one simulation of a built harness and collect what it found.
 
-The simulator runs :mod:`memcheck.sim._cocotb_entry` with a job file; we watch its progress file
+The simulator runs :mod:`memcheck.sim.plumbing._cocotb_entry` with a job file; we watch its progress file
 (stall watchdog, progress display) and read its result file.
 """
 
@@ -19,13 +19,14 @@ from typing import Any
 
 from memcheck.contract import Contract
 from memcheck.errors import SimulationError
-from memcheck.sim.build import Build
-from memcheck.sim.harness import HARNESS_TOP, PERIOD_NS, WAVE_FILE
-from memcheck.sim.icarus import CommandFailed, ProgressCallback, QuietIcarus, Stalled, Watch
-from memcheck.sim.result import RunResult
+from memcheck.sim.checking.outcome import RunResult
+from memcheck.sim.options import SimOptions
+from memcheck.sim.plumbing.build import Build
+from memcheck.sim.plumbing.harness import HARNESS_TOP, PERIOD_NS, WAVE_FILE
+from memcheck.sim.plumbing.icarus import CommandFailed, ProgressCallback, QuietIcarus, Stalled, Watch
 
-ENTRY_MODULE = "memcheck.sim._cocotb_entry"
-DEFAULT_STALL_SECONDS = 30.0
+ENTRY_MODULE = "memcheck.sim.plumbing._cocotb_entry"
+DEFAULT_STALL_SECONDS = SimOptions.stall_timeout
 
 
 def _picklable(contract: Contract) -> Contract:

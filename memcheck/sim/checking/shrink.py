@@ -10,7 +10,7 @@ from __future__ import annotations
 from collections.abc import Callable, Sequence
 from dataclasses import replace
 
-from memcheck.ops import Cycle, PortOp
+from memcheck.ops import Cycle, OpKind, PortOp
 
 
 def ddmin(items: Sequence[Cycle], fails: Callable[[list[Cycle]], bool], *, budget: int = 2000) -> list[Cycle]:
@@ -72,9 +72,9 @@ def simplify_values(cycles: Sequence[Cycle], fails: Callable[[list[Cycle]], bool
     """Make the trace easier to read where the failure survives: addresses renamed to 0, write data
     zero, all lanes enabled."""
     current = list(cycles)
-    used = {op.address for c in current for op in c if op.kind != "idle"}
+    used = {op.address for c in current for op in c if op.kind != OpKind.IDLE}
     for a in sorted(used - {0}):
-        if any(op.address == 0 and op.kind != "idle" for c in current for op in c):
+        if any(op.address == 0 and op.kind != OpKind.IDLE for c in current for op in c):
             break
         # Rename the address everywhere, disabled ports' pins included (they may matter to the bug).
         cand = [tuple(replace(op, address=0) if op.address == a else op for op in c) for c in current]
@@ -82,7 +82,7 @@ def simplify_values(cycles: Sequence[Cycle], fails: Callable[[list[Cycle]], bool
             current = cand
     for k in range(len(current)):
         for p, op in enumerate(current[k]):
-            if op.kind != "write":
+            if op.kind != OpKind.WRITE:
                 continue
             for simpler in (replace(op, data=0), replace(op, lanes=None)):
                 if simpler != current[k][p]:

@@ -33,7 +33,7 @@ from hypothesis import strategies as st
 
 from memcheck.contract import Contract
 from memcheck.model_fast import IDLE, READ, WRITE, Columns, int_limbs, limbs_of
-from memcheck.sim.sequences import mix64
+from memcheck.sim.checking.sequences import mix64
 from memcheck.strategies import addresses, data_words
 
 __all__ = ["BulkSpec", "bulk_specs", "decode", "record_size"]

@@ -16,27 +16,15 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from memcheck._limbs import bits_to_limbs, limbs_to_bits
 from memcheck.contract import Contract, PortSpec
 from memcheck.errors import InvalidOperation
 from memcheck.model_fast import IDLE, WRITE, Columns, limbs_of
-from memcheck.ops import Cycle, PortOp
+from memcheck.ops import Cycle, OpKind, PortOp
+from memcheck.records import Observed
 
 #: Cycles the harness holds per batch; longer runs are split into several batches.
 BATCH_CYCLES = 8192
-
-
-@dataclass(frozen=True, slots=True)
-class Observed:
-    """Read data as sampled: ``value`` bits, and ``defined`` with a 1 for every bit that was 0 or 1."""
-
-    value: int
-    defined: int
-
-    def render(self, width: int) -> str:
-        """Binary, MSB first, with 'x' for X/Z bits."""
-        return "".join(
-            ("1" if self.value >> b & 1 else "0") if self.defined >> b & 1 else "x" for b in range(width - 1, -1, -1)
-        )
 
 
 @dataclass(frozen=True, slots=True)
@@ -130,8 +118,8 @@ class Layout:
         return word
 
     def _encode_port(self, pf: PortFields, op: PortOp) -> int:
-        garbage = op.kind == "idle" and (op.address or op.data or op.lanes is not None)
-        clean_idle = op.kind == "idle" and not garbage
+        garbage = op.kind == OpKind.IDLE and (op.address or op.data or op.lanes is not None)
+        clean_idle = op.kind == OpKind.IDLE and not garbage
         word = 0
 
         def put(f: Field | None, value: int) -> None:
@@ -142,10 +130,10 @@ class Layout:
                 value = ~value
             word |= (value & f.mask) << f.offset
 
-        put(pf.enable, int(op.kind != "idle"))
+        put(pf.enable, int(op.kind != OpKind.IDLE))
         # A disabled port with garbage on its pins also sees its write enable asserted: it must
         # ignore it (a wrapper that writes without its enable is a classic bug).
-        put(pf.write_enable, int(op.kind == "write" or bool(garbage)))
+        put(pf.write_enable, int(op.kind == OpKind.WRITE or bool(garbage)))
         if op.address >> pf.address.width:
             raise InvalidOperation(
                 f"port {pf.spec.name!r}: address {op.address:#x} does not fit the {pf.address.width}-bit "
@@ -159,7 +147,7 @@ class Layout:
 
     def idle_word(self) -> int:
         """Stimulus with every port disabled and clean pins (reset deasserted)."""
-        cycle = tuple(PortOp("idle") if p.spec.can_idle else PortOp("read", 0) for p in self.ports)
+        cycle = tuple(PortOp(OpKind.IDLE) if p.spec.can_idle else PortOp(OpKind.READ, 0) for p in self.ports)
         return self.encode(cycle)
 
     def stim_text(self, cycles: Sequence[Cycle], resets: Sequence[bool] | None = None) -> str:
@@ -190,7 +178,7 @@ class Layout:
                     v = v ^ np.uint64(f.mask)
                 word |= v << np.uint64(f.offset)
                 return
-            b = _limb_bits(value, f.width)
+            b = limbs_to_bits(value, f.width)
             if f.active_low:
                 b ^= 1
             bits[:, f.offset : f.offset + f.width] = b
@@ -241,8 +229,8 @@ class Layout:
             hi = self.cap_width - f.offset
             cols = arr[:, hi - f.width : hi][:, ::-1]  # least significant bit first
             ones = cols == ord("1")
-            value[:, i] = _pack_limbs(ones, limbs)
-            defined[:, i] = _pack_limbs(ones | (cols == ord("0")), limbs)
+            value[:, i] = bits_to_limbs(ones, limbs)
+            defined[:, i] = bits_to_limbs(ones | (cols == ord("0")), limbs)
         return value, defined
 
     def _capture_chars(self, data: bytes, count: int) -> np.ndarray:
@@ -307,27 +295,6 @@ class Layout:
 _COMMENT = re.compile(rb"//[^\n]*")
 _HEX = np.frombuffer(b"0123456789abcdef", dtype=np.uint8)
 _ICARUS_COMMENT = len(b"// 0x00000000\n")
-
-
-def _limb_bits(value: np.ndarray, width: int) -> np.ndarray:
-    """(n, limbs) uint64 to (n, width) uint8 bits, least significant first (missing limbs are zero)."""
-    n = value.shape[0]
-    out = np.zeros((n, width), dtype=np.uint8)
-    for limb in range(min(value.shape[1], (width + 63) // 64)):
-        lo = 64 * limb
-        hi = min(width, lo + 64)
-        shifts = np.arange(hi - lo, dtype=np.uint64)
-        out[:, lo:hi] = (value[:, limb, None] >> shifts) & np.uint64(1)
-    return out
-
-
-def _pack_limbs(bits: np.ndarray, limbs: int) -> np.ndarray:
-    """(n, w) bool, least significant first, to (n, limbs) uint64."""
-    n, w = bits.shape
-    padded = np.zeros((n, limbs * 64), dtype=bool)
-    padded[:, :w] = bits
-    packed = np.packbits(padded.reshape(n, limbs, 64), axis=-1, bitorder="little")
-    return np.ascontiguousarray(packed).view("<u8").reshape(n, limbs).astype(np.uint64)
 
 
 def _to_ints(bits: np.ndarray) -> list[int]:

@@ -24,9 +24,9 @@ from pathlib import Path
 
 from memcheck.contract import Contract, RtlSpec
 from memcheck.errors import SimulationError
-from memcheck.sim.harness import HARNESS_TOP, harness_text
-from memcheck.sim.layout import Layout
-from memcheck.sim.pins import PinCheck, check_pins, read_ports
+from memcheck.sim.plumbing.harness import HARNESS_TOP, harness_text
+from memcheck.sim.plumbing.layout import Layout
+from memcheck.sim.plumbing.pins import PinCheck, check_pins, read_ports
 
 #: Bump when the harness or build steps change, so old build folders are not reused.
 BUILD_FORMAT = 4
@@ -103,7 +103,7 @@ def _locked(folder: Path) -> Iterator[None]:
 
 
 def _compile(rtl: RtlSpec, sources: list[Path], top: str, build_dir: Path, log: Path, *, parameters: bool) -> None:
-    from memcheck.sim.icarus import CommandFailed, QuietIcarus
+    from memcheck.sim.plumbing.icarus import CommandFailed, QuietIcarus
 
     runner = QuietIcarus()
     try:

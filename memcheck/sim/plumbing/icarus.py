@@ -122,7 +122,7 @@ def _kill(proc: subprocess.Popen[bytes]) -> None:
         proc.wait(timeout=5)
 
 
-class QuietIcarus(Icarus):  # type: ignore[misc]
+class QuietIcarus(Icarus):
     """Icarus runner that writes command output to the log file only and can be watched."""
 
     def __init__(self, watch: Watch | None = None, vcd: bool = False) -> None:

@@ -1,0 +1,273 @@
+"""A March test run alone on the RTL, checked batch by batch inside the simulator process.
+
+The stream is expanded chunk by chunk, turned into cycles with numpy, run through the harness and
+compared with the reference model (carried across batches) and with the March expectations; only
+counts and the first failure come back, so memory is bounded by a batch, not by the stream.
+Used by :mod:`memcheck.sim.jobs.march` through the ``march`` job of the cocotb entry point.
+"""
+
+from __future__ import annotations
+
+import time
+from dataclasses import dataclass, replace
+from typing import Any
+
+import numpy as np
+
+from memcheck.contract import Contract
+from memcheck.model_fast import (
+    IDLE,
+    READ,
+    WRITE,
+    Columns,
+    expected,
+    expected_rows,
+    int_limbs,
+    ints_to_limbs,
+    limbs_of,
+    limbs_to_ints,
+    mismatch,
+)
+from memcheck.ops import Cycle, Expected
+from memcheck.records import CheckedTrace, ModelStart
+from memcheck.sim.checking.compare import compare, start_contents, start_model
+from memcheck.sim.checking.runner import Runner, observations_from_arrays
+from memcheck.sim.checking.schedule import MarchSchedule
+
+#: Cycles the March job checks at a time (the harness still runs them BATCH_CYCLES at a time); its
+#: memory is bounded by this many cycles, whatever the stream length.
+MARCH_BATCH_CYCLES = 1 << 16
+
+
+@dataclass(frozen=True)
+class MarchJob:
+    """How the simulation side runs a March schedule: how the model starts, the cycles kept for the
+    report (``window``), cycles checked at a time and which model checks them."""
+
+    start: ModelStart
+    window: int = 12
+    batch: int = MARCH_BATCH_CYCLES
+    vectorised: bool = True  # False: memcheck.model.Model steps through every cycle (slower; same answers)
+
+
+class CarriedModel:
+    """The vectorised model (:func:`memcheck.model_fast.expected`) over consecutive batches of a March
+    run, its state carried from one batch to the next; agrees with :class:`memcheck.model.Model`.
+
+    A March run writes whole words through one port, so the stored state is, per word, the last data
+    written (else the start contents). Each batch is modelled as: one restoring write per word the
+    batch and the kept tail touch, the kept *tail* of earlier cycles, then the batch. The tail holds at
+    least ``read_latency`` cycles and reaches back to every port's last read result, so what each port
+    shows (pipeline, ``idle_read_data``) comes from real cycles, not from the restoring writes. The
+    tail is usually a few cycles; it grows while a port shows a held result (a long write-only
+    element on a port that keeps its read data, a pause), up to that stretch."""
+
+    def __init__(self, contract: Contract, start: ModelStart, writer: int) -> None:
+
+        m = contract.memory
+        self.contract = contract
+        self.writer = writer
+        self.contents = start_contents(contract, start)
+        self.data = np.zeros((m.words, limbs_of(m.width)), dtype=np.uint64)
+        self.written = np.zeros(m.words, dtype=bool)
+        self.tail = Columns.quiet(contract, 0)
+        self._results = [i for i, p in enumerate(contract.ports) if p.can_read]
+
+    def run(self, cols: Columns) -> tuple[np.ndarray, np.ndarray]:
+        """Expected ``(value, known)`` of the batch ``cols`` (the cycles right after the last batch)."""
+
+        c = self.contract
+        m = c.memory
+        w = self.writer
+        work = Columns.concat([self.tail, cols])
+        used = np.unique(work.address[work.kind != IDLE])
+        used = used[(used >= 0) & (used < m.words)]
+        back = used[self.written[used]]
+        restore = Columns.quiet(c, len(back))
+        restore.kind[:, w] = WRITE
+        restore.address[:, w] = back
+        restore.data[:, w] = self.data[back]
+        value, known = expected(c, Columns.concat([restore, work]), self.contents, check=False)
+        n = len(cols)
+        # The next tail: from every port's last result the next batch may still show.
+        length = len(work)
+        lat = m.read_latency
+        upto = min(length, length - lat + 1)
+        cut = max(0, length - lat)
+        for i in self._results:
+            k = work.kind[:upto, i]
+            res = k == READ
+            if m.read_during_write != "keep":
+                res |= k == WRITE
+            if m.idle_read_data == "unknown":
+                res |= k == IDLE
+            hits = np.flatnonzero(res)
+            if len(hits):
+                cut = min(cut, int(hits[-1]))
+        gone = work[:cut]
+        wt = np.flatnonzero(gone.kind[:, w] == WRITE)
+        if len(wt):
+            addr = gone.address[wt, w]
+            # The last write of each word wins.
+            rev = wt[::-1]
+            a_last, first_rev = np.unique(addr[::-1], return_index=True)
+            keep = (a_last >= 0) & (a_last < m.words)
+            self.data[a_last[keep]] = gone.data[rev[first_rev[keep]], w]
+            self.written[a_last[keep]] = True
+        self.tail = work[cut:]
+        return value[-n:], known[-n:]
+
+
+#: The last cycles already run: (cycles, expected rows, value, defined).
+_Tail = tuple[list[Cycle], list[tuple[Expected, ...]], np.ndarray, np.ndarray]
+
+
+class _MarchRun:
+    """One March schedule run batch by batch: counts, the carried models, the March reads still due."""
+
+    def __init__(self, runner: Runner, schedule: MarchSchedule, job: MarchJob) -> None:
+        c = runner.contract
+        self.runner, self.schedule, self.job, self.contract = runner, schedule, job, c
+        self.limbs = limbs_of(c.memory.width)
+        self.word = int_limbs(c.memory.word_mask, self.limbs)
+        self.model = start_model(c, job.start)
+        self.fast = CarriedModel(c, job.start, schedule.writer) if job.vectorised else None
+        self.readable = [i for i, p in enumerate(c.ports) if p.read_data is not None]
+        self.done = 0  # cycles run
+        self.march_reads = 0
+        self.t_model = 0.0
+        self.tail: _Tail | None = None
+        self.due = np.zeros(0, dtype=np.int64)
+        self.exp = np.zeros((0, self.limbs), dtype=np.uint64)
+        self.op = np.zeros(0, dtype=np.int64)
+
+    def expect(self, due: np.ndarray, exp: np.ndarray, op: np.ndarray) -> None:
+        """Queue March reads (due cycles counted from the schedule's start)."""
+        if len(due):
+            self.due = np.concatenate([self.due, due])
+            self.exp = np.concatenate([self.exp, exp])
+            self.op = np.concatenate([self.op, op])
+
+    def _model(self, cols: Columns) -> tuple[np.ndarray, np.ndarray]:
+        if self.fast is not None:
+            return self.fast.run(cols)
+        exp = self.model.run(cols.to_cycles())
+        shape = (len(cols), len(self.contract.ports), self.limbs)
+        ev = ints_to_limbs([e.value for row in exp for e in row], self.limbs).reshape(shape)
+        ek = ints_to_limbs([e.known for row in exp for e in row], self.limbs).reshape(shape)
+        return ev, ek
+
+    def batch(self, cols: Columns) -> dict[str, Any] | None:
+        """Run and check one batch; the first failure (as the job reports it) or None."""
+        n = len(cols)
+        r = self.runner
+        r.where = {"phase": "march", "what": "March test", "total": self.schedule.operations, "done": self.done}
+        value, defined = r._run_columns(cols)
+        t0 = time.perf_counter()
+        ev, ek = self._model(cols)
+        diff_any = np.zeros(n, dtype=bool)
+        for i in self.readable:
+            diff_any |= mismatch(ev[:, i], ek[:, i], value[:, i], defined[:, i]).any(axis=1)
+        model_first = int(np.argmax(diff_any)) if diff_any.any() else None
+        # March expectations due in this batch.
+        now = self.due < self.done + n
+        d_due, d_exp, d_op = self.due[now] - self.done, self.exp[now], self.op[now]
+        self.due, self.exp, self.op = self.due[~now], self.exp[~now], self.op[~now]
+        rd = self.schedule.reader
+        mdiff = self.word & ((value[d_due, rd] ^ d_exp) | ~defined[d_due, rd])
+        bad = mdiff.any(axis=1)
+        march_first = int(d_due[np.argmax(bad)]) if bad.any() else None
+        self.t_model += time.perf_counter() - t0
+        if model_first is None and march_first is None:
+            self.march_reads += len(d_due)
+            self._keep_tail(cols, ev, ek, value, defined)
+            self.done += n
+            return None
+        k = min(x for x in (model_first, march_first) if x is not None)
+        at = np.flatnonzero(d_due == k)
+        march = None
+        if len(at):
+            j = int(at[0])
+            march = {
+                "expected": hex(limbs_to_ints(d_exp[j : j + 1])[0]),
+                "diff": hex(limbs_to_ints(mdiff[j : j + 1])[0]),
+                "operation": int(d_op[j]),
+            }
+        window = self._window(cols, ev, ek, value, defined, k)
+        self.march_reads += int(np.count_nonzero(d_due <= k))
+        self.done += k + 1
+        return {"cycle": self.done - 1, "window": window.to_json(), "march": march}
+
+    def _keep_tail(self, cols: Columns, ev: np.ndarray, ek: np.ndarray, value: np.ndarray, defined: np.ndarray) -> None:
+        n, w = len(cols), self.job.window
+        keep = min(w, n)
+        part: _Tail = (
+            cols[n - keep :].to_cycles(),
+            expected_rows(ev[n - keep :], ek[n - keep :]),
+            value[n - keep :],
+            defined[n - keep :],
+        )
+        self.tail = part if self.tail is None or keep >= w else _join_tail(self.tail, part, w - keep)
+
+    def _window(
+        self, cols: Columns, ev: np.ndarray, ek: np.ndarray, value: np.ndarray, defined: np.ndarray, k: int
+    ) -> CheckedTrace:
+        """The last ``window`` cycles up to ``k``, from the previous batches' tail and this one."""
+        lo = max(0, k - self.job.window + 1)
+        part: _Tail = (
+            cols[lo : k + 1].to_cycles(),
+            expected_rows(ev[lo : k + 1], ek[lo : k + 1]),
+            value[lo : k + 1],
+            defined[lo : k + 1],
+        )
+        if self.tail is not None and len(part[0]) < self.job.window:
+            part = _join_tail(self.tail, part, min(self.job.window - len(part[0]), len(self.tail[0])))
+        cyc, exp, val, dfd = part
+        first = self.done + k - len(cyc) + 1
+        checked = compare(exp, observations_from_arrays(self.contract, val, dfd), cyc, self.job.start)
+        return CheckedTrace(self.job.start, tuple(replace(r, cycle=first + r.cycle) for r in checked.rows))
+
+
+def _join_tail(prev: _Tail, part: _Tail, more: int) -> _Tail:
+    """The last ``more`` cycles of ``prev`` followed by ``part``."""
+    if not more:
+        return part
+    return (
+        prev[0][-more:] + part[0],
+        prev[1][-more:] + part[1],
+        np.concatenate([prev[2][-more:], part[2]]),
+        np.concatenate([prev[3][-more:], part[3]]),
+    )
+
+
+def run_march_job(runner: Runner, schedule: MarchSchedule, job: MarchJob) -> dict[str, Any]:
+    """Run a March schedule on the backend in batches, checking each batch against the contract model
+    (carried across batches) and the March expectations; returns counts and the first failure only.
+
+    Memory is bounded by one batch: nothing is kept per cycle beyond the last ``window`` cycles."""
+    runner.where = {"phase": "march", "what": "preamble"}
+    if job.start == "reset":
+        runner.run_steps(["reset"])
+    run = _MarchRun(runner, schedule, job)
+    failure = None
+    pieces: list[Columns] = []
+    queued = 0
+    for piece in schedule.pieces():
+        run.expect(piece.due, piece.expected, piece.op_index)
+        pieces.append(piece.cols)
+        queued += len(piece.cols)
+        while queued >= job.batch and failure is None:
+            allc = Columns.concat(pieces)
+            failure = run.batch(allc[: job.batch])
+            rest = allc[job.batch :]
+            pieces, queued = ([rest] if len(rest) else []), len(rest)
+        if failure is not None:
+            break
+    if failure is None and pieces:
+        failure = run.batch(Columns.concat(pieces))
+    return {
+        "failure": failure,
+        "cycles_run": run.done,
+        "march_reads_checked": run.march_reads,
+        "seconds_model": round(run.t_model, 4),
+    }
