@@ -33,6 +33,13 @@ FAULT_CLASSES: dict[str, str] = {
     "CFin": "inversion coupling fault",
     "CFid": "idempotent coupling fault",
     "AF": "address decoder fault",
+    "dRDF": "dynamic read destructive fault",
+    "dDRDF": "dynamic deceptive read destructive fault",
+    "dIRF": "dynamic incorrect read fault",
+    "dCFds": "dynamic disturb coupling fault",
+    "dCFrd": "dynamic read destructive coupling fault",
+    "dCFdrd": "dynamic deceptive read destructive coupling fault",
+    "dCFir": "dynamic incorrect read coupling fault",
 }
 
 

@@ -219,7 +219,8 @@ def builder_for(cls: str) -> Builder | None:
     """The row builder of a class: registered by name, or the generic one for FP-based classes."""
     if cls in ROW_BUILDERS:
         return ROW_BUILDERS[cls]
-    return fp_builder if models_of(cls) else None
+    models = models_of(cls)
+    return fp_builder if models and not any(m.dynamic for m in models) else None
 
 
 # ---------------------------------------------------------------------------------------------------
