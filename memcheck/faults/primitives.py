@@ -127,6 +127,8 @@ def parse_sens(text: str) -> Sens:
     op = m["op"]
     if op is None:
         return Sens(state)
+    if op == "T" and m["op2"] is not None:
+        raise FaultModelError(f"bad sensitising sequence {text!r}: a pause is not followed by an operation")
     if op == "T":
         return Sens(state, "T")
     if m["val"] is None:
@@ -136,8 +138,6 @@ def parse_sens(text: str) -> Sens:
         raise FaultModelError(f"bad sensitising sequence {text!r}: a read returns the value the cell holds")
     if m["op2"] is None:
         return Sens(state, "r" if op == "r" else "w", value)
-    if op == "T":
-        raise FaultModelError(f"bad sensitising sequence {text!r}: a pause is not followed by an operation")
     value2 = int(m["val2"])
     if m["op2"] == "r" and value2 != value:
         raise FaultModelError(f"bad sensitising sequence {text!r}: a read returns the value the cell holds")
