@@ -17,8 +17,16 @@ from memcheck.faults.instances import (
     FaultInstance,
     StuckOpenFault,
 )
-from memcheck.faults.primitives import SINGLE_CELL_MODELS, TWO_CELL_MODELS
+from memcheck.faults.primitives import (
+    DYNAMIC_SINGLE_CELL_MODELS,
+    DYNAMIC_TWO_CELL_MODELS,
+    SINGLE_CELL_MODELS,
+    TWO_CELL_MODELS,
+)
 from memcheck.march.notation import Bit, Delay, MarchElement, MarchOp, MarchTest, Order
+
+CELL_MODELS = SINGLE_CELL_MODELS + DYNAMIC_SINGLE_CELL_MODELS
+PAIR_MODELS = TWO_CELL_MODELS + DYNAMIC_TWO_CELL_MODELS
 
 BITS: tuple[Bit, ...] = (0, 1)
 ORDERS: tuple[Order, ...] = ("up", "down", "any")
@@ -85,13 +93,13 @@ def faults(draw: st.DrawFn, setup: Arrangement) -> FaultInstance:
     choices = ["cell", "sof"] + (["pair"] if len(cells) > 1 else []) + (["af"] if setup.words > 1 else [])
     kind = draw(st.sampled_from(choices))
     if kind == "cell":
-        return CellFault(draw(st.sampled_from(SINGLE_CELL_MODELS)), draw(cell))
+        return CellFault(draw(st.sampled_from(CELL_MODELS)), draw(cell))
     if kind == "sof":
         return StuckOpenFault(draw(cell))
     if kind == "pair":
         a = draw(cell)
         v = draw(cell.filter(lambda c: c != a))
-        return CouplingFault(draw(st.sampled_from(TWO_CELL_MODELS)), a, v)
+        return CouplingFault(draw(st.sampled_from(PAIR_MODELS)), a, v)
     k, wired = draw(st.sampled_from(AF_VARIANTS))
     x = draw(st.integers(0, setup.words - 1))
     y = None if k == "no-cell" else draw(st.integers(0, setup.words - 1).filter(lambda w: w != x))

@@ -52,6 +52,28 @@ PUBLISHED = {
     # S. Hamdioui, A.J. van de Goor and M. Rodgers, "March SS: a Test for All Static Simple RAM Faults", MTDT 2002
     # (notation: value written from memory, table/page not checked; length 22n as recalled from the abstract).
     "March SS": ("{⇕(w0); ⇑(r0,r0,w0,r0,w1); ⇑(r1,r1,w1,r1,w0); ⇓(r0,r0,w0,r0,w1); ⇓(r1,r1,w1,r1,w0); ⇕(r0)}", 22),
+    # Additions for static and dynamic faults; every notation and length below: value written from memory;
+    # table/page not checked.
+    # R.D. Adams, "High Performance Memory Testing", Kluwer 2003: March C+ 14n (March C- with read-backs).
+    "March C+": ("{⇕(w0); ⇑(r0,w1,r1); ⇑(r1,w0,r0); ⇓(r0,w1,r1); ⇓(r1,w0,r0); ⇕(r0)}", 14),
+    # J.H. de Jonge and A.J. Smeulders, "Moving Inversions Test Pattern is Thorough, Yet Speedy", Computer Design
+    # 1976: PMOVI 13n.
+    "PMOVI": ("{⇓(w0); ⇑(r0,w1,r1); ⇑(r1,w0,r0); ⇓(r0,w1,r1); ⇓(r1,w0,r0)}", 13),
+    # A.J. van de Goor, G.N. Gaydadjiev, V.G. Mikitjuk and V.N. Yarmolik, "March LA: a Test for Linked Memory
+    # Faults", ED&TC 1997: 22n.
+    "March LA": ("{⇕(w0); ⇑(r0,w1,w0,w1,r1); ⇑(r1,w0,w1,w0,r0); ⇓(r0,w1,w0,w1,r1); ⇓(r1,w0,w1,w0,r0); ⇓(r0)}", 22),
+    # G. Harutunyan, V.A. Vardanian and Y. Zorian, "Minimal March Tests for Unlinked Static Faults in Random Access
+    # Memories", VTS 2005: March MSS 18n.
+    "March MSS": ("{⇕(w0); ⇑(r0,r0,w1,w1); ⇑(r1,r1,w0,w0); ⇓(r0,r0,w1,w1); ⇓(r1,r1,w0,w0); ⇕(r0)}", 18),
+    # S. Hamdioui, Z. Al-Ars and A.J. van de Goor, "Testing Static and Dynamic Faults in Random Access Memories",
+    # VTS 2002: March RAW 26n.
+    "March RAW": (
+        "{⇕(w0); ⇑(r0,w0,r0,r0,w1,r1); ⇑(r1,w1,r1,r1,w0,r0); ⇓(r0,w0,r0,r0,w1,r1); ⇓(r1,w1,r1,r1,w0,r0); ⇕(r0)}",
+        26,
+    ),
+    # A. Benso, A. Bosio, S. Di Carlo, G. Di Natale and P. Prinetto, "March AB, March AB1: New March Tests for
+    # Unlinked Dynamic Memory Faults", ITC 2005: March AB 22n.
+    "March AB": ("{⇕(w1); ⇓(r1,w0,r0,w0,r0); ⇓(r0,w1,r1,w1,r1); ⇑(r1,w0,r0,w0,r0); ⇑(r0,w1,r1,w1,r1); ⇕(r1)}", 22),
 }
 
 

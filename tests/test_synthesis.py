@@ -132,7 +132,29 @@ def _consistent(raw: list[tuple[list[str], int]]) -> tuple[Step, ...]:
 @settings(max_examples=60)
 @given(
     raw=st.lists(_ELEMENT, min_size=1, max_size=4),
-    cls=st.sampled_from(["SAF", "TF", "WDF", "RDF", "DRDF", "IRF", "CFst", "CFds", "CFin", "CFid", "CFir", "AF"]),
+    cls=st.sampled_from(
+        [
+            "SAF",
+            "TF",
+            "WDF",
+            "RDF",
+            "DRDF",
+            "IRF",
+            "CFst",
+            "CFds",
+            "CFin",
+            "CFid",
+            "CFir",
+            "AF",
+            "dRDF",
+            "dDRDF",
+            "dIRF",
+            "dCFds",
+            "dCFrd",
+            "dCFdrd",
+            "dCFir",
+        ]
+    ),
     words=st.integers(2, 3),
     width=st.integers(1, 2),
 )
@@ -184,3 +206,15 @@ def test_cli_exit_codes(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> N
     assert main(["march", "synthesize", "--faults", "SAF,XYZ"]) == 2
     err = capsys.readouterr().err
     assert "unknown fault class" in err and "Traceback" not in err
+
+
+def test_single_cell_dynamic_faults_need_11n() -> None:
+    # Two-operation (write then read) single-cell dynamic faults: the search proves nothing shorter than 11n
+    # exists in its space, the fast engine confirms on the memory and the reference engine re-verifies. 11n is
+    # also the length of March AB1 (A. Benso et al., ITC 2005), published for single-cell dynamic faults; value
+    # written from memory, table/page not checked, so only the length is compared, not the test.
+    classes = "dRDF,dDRDF,dIRF"
+    result = synthesize(classes, words=16)
+    assert result.test is not None and result.length == 11
+    assert result.proof.complete_below == 11 and not result.proof.timed_out
+    assert _reference_all_detected(result.test, classes, Arrangement(4))

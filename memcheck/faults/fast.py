@@ -19,320 +19,57 @@ cell from the ⇑ order.
 from __future__ import annotations
 
 from collections.abc import Sequence
-from dataclasses import dataclass, field
 
 import numpy as np
 import numpy.typing as npt
 
-from memcheck.faults.geometry import Arrangement, Resolved, Slot, check_consistent, schedule
+from memcheck.faults.fast_cells import _cell_results, cell_relation, run_cell_classes
+from memcheck.faults.fast_stream import (
+    _DETECTION_NAMES,
+    AF_RELATIONS,
+    AF_VARIANTS,
+    CELL_RELATIONS,
+    NEVER,
+    ClassRun,
+    Plan,
+    Stream,
+    _track,
+    build_stream,
+)
+from memcheck.faults.geometry import Arrangement, Slot
 from memcheck.faults.instances import (
     Cell,
     CellFault,
     CouplingFault,
     DecoderFault,
-    DecoderKind,
     Detection,
     FaultInstance,
     FaultResult,
-    OpRef,
     StuckOpenFault,
-    Wired,
     Witness,
 )
-from memcheck.faults.primitives import FaultModel, aggressor_op, pause, settle, victim_op
 from memcheck.march.notation import MarchTest
 
 IntArray = npt.NDArray[np.int64]
 BoolArray = npt.NDArray[np.bool_]
-ByteArray = npt.NDArray[np.uint8]
 
-NEVER = -2  # step index meaning "did not happen"; -1 is the power-up moment
-
-CELL_RELATIONS = ("single", "same", "AV", "VA")
-AF_RELATIONS = ("X", "XY", "YX")
-
-# (kind, wired) of every decoder-fault variant, in a fixed order
-AF_VARIANTS: tuple[tuple[DecoderKind, Wired | None], ...] = (
-    ("no-cell", None),
-    ("no-cell-shared", "and"),
-    ("no-cell-shared", "or"),
-    ("wrong-cell", None),
-    ("extra-cell", "and"),
-    ("extra-cell", "or"),
-)
-
-
-# ---------------------------------------------------------------------------------------------------
-# Streams
-# ---------------------------------------------------------------------------------------------------
-
-
-@dataclass(frozen=True)
-class Stream:
-    """The operations on a fault's cells in time order. ``sides[t]`` names the cells operated on:
-    ``V``/``A`` (victim/aggressor word), ``VA`` (one word holding both), ``X``/``Y`` (the two words
-    of a decoder fault) or ``T`` (a pause). ``written_before[t]`` says whether that word has been
-    written before step ``t`` (only then is a read compared)."""
-
-    sides: tuple[str, ...]
-    kinds: tuple[str, ...]
-    values: tuple[int, ...]
-    slots: tuple[Slot, ...]
-    written_before: tuple[bool, ...]
-
-    def __len__(self) -> int:
-        return len(self.sides)
-
-    def ref(self, t: int, words: dict[str, int]) -> OpRef | None:
-        """The place of step ``t`` for a fault whose side words are ``words`` (e.g. {"V": 9, "A": 4})."""
-        if t == NEVER:
-            return None
-        if t < 0:
-            return OpRef.power_up()
-        s = self.slots[t]
-        if self.sides[t] == "T":
-            return OpRef(s.background, s.element, -1, -1)
-        return OpRef(s.background, s.element, s.op, words[self.sides[t][0]])
-
-
-def build_stream(slots: Sequence[Slot], relation: str) -> Stream:
-    """The interleaved stream of one relation (see the module docstring)."""
-    steps: list[tuple[str, Slot]] = []
-    if relation in ("single", "same", "X"):
-        side = {"single": "V", "same": "VA", "X": "X"}[relation]
-        for s in slots:
-            if s.kind == "T":
-                if relation == "single":
-                    steps.append(("T", s))
-            else:
-                steps.append((side, s))
-    else:
-        first_up, second_up = relation[0], relation[1]
-        i = 0
-        while i < len(slots):
-            s = slots[i]
-            if s.kind == "T":
-                i += 1
-                continue
-            j = i
-            while j < len(slots) and (slots[j].background, slots[j].element) == (s.background, s.element):
-                j += 1
-            element = slots[i:j]
-            first, second = (first_up, second_up) if s.direction == "up" else (second_up, first_up)
-            steps.extend((first, x) for x in element)
-            steps.extend((second, x) for x in element)
-            i = j
-    written: set[str] = set()
-    before: list[bool] = []
-    for side, s in steps:
-        before.append(any(c in written for c in side) and side != "T")
-        if s.kind == "w":
-            written.update(side)
-    return Stream(
-        tuple(sd for sd, _ in steps),
-        tuple(s.kind for _, s in steps),
-        tuple(s.value for _, s in steps),
-        tuple(s for _, s in steps),
-        tuple(before),
-    )
-
-
-@dataclass(eq=False)
-class Plan:
-    """A test resolved over one setup, with its streams built on demand."""
-
-    test: MarchTest
-    setup: Arrangement
-    rs: Resolved
-    slots: tuple[Slot, ...]
-    _streams: dict[str, Stream] = field(default_factory=dict)
-
-    @classmethod
-    def build(cls, test: MarchTest, setup: Arrangement) -> Plan:
-        rs = setup.resolve()
-        check_consistent(test, rs.nbg)
-        return cls(test, setup, rs, schedule(test, rs.nbg, setup.any_order))
-
-    def stream(self, relation: str) -> Stream:
-        if relation not in self._streams:
-            self._streams[relation] = build_stream(self.slots, relation)
-        return self._streams[relation]
-
-
-# ---------------------------------------------------------------------------------------------------
-# Single- and two-cell FP faults
-# ---------------------------------------------------------------------------------------------------
-
-
-@dataclass(frozen=True)
-class _Tables:
-    """Fault semantics as flat lookup tables, index ``((m*2 + a)*2 + v)`` (times 3 plus the
-    operation code 0=read, 1=w0, 2=w1 where there is an operation)."""
-
-    victim: ByteArray
-    read_out: ByteArray
-    aggressor: ByteArray
-    settle: ByteArray
-    pause: ByteArray
-
-
-def _tables(models: Sequence[FaultModel]) -> _Tables:
-    nm = len(models)
-    tv = np.zeros(nm * 12, np.uint8)
-    tr = np.zeros(nm * 4, np.uint8)
-    ta = np.zeros(nm * 12, np.uint8)
-    ts = np.zeros(nm * 4, np.uint8)
-    tp = np.zeros(nm * 2, np.uint8)
-    for m, model in enumerate(models):
-        for v in (0, 1):
-            tp[m * 2 + v] = pause(model, v)
-            for a in (0, 1):
-                base = (m * 2 + a) * 2 + v
-                new_v, out = victim_op(model, a, v, "r", v)
-                tv[base * 3], tr[base] = new_v, out
-                ta[base * 3] = aggressor_op(model, a, v, "r", a)
-                ts[base] = settle(model, a, v)
-                for d in (0, 1):
-                    tv[base * 3 + 1 + d] = victim_op(model, a, v, "w", d)[0]
-                    ta[base * 3 + 1 + d] = aggressor_op(model, a, v, "w", d)
-    return _Tables(tv, tr, ta, ts, tp)
-
-
-@dataclass(frozen=True)
-class ClassRun:
-    """Per (class, model, power-up state): detection and the first excitation/masking step."""
-
-    stream: Stream
-    detected: BoolArray  # (C, M, S)
-    excited: IntArray
-    masked: IntArray
-
-    def verdicts(self) -> npt.NDArray[np.int8]:
-        """(C, M): 0 detected, 1 partial, 2 escaped."""
-        all_d = self.detected.all(axis=2)
-        any_d = self.detected.any(axis=2)
-        return np.where(all_d, 0, np.where(any_d, 1, 2)).astype(np.int8)
-
-    def escape_state(self) -> IntArray:
-        """(C, M): the first power-up state that escapes (0 when none does)."""
-        out: IntArray = np.argmin(self.detected, axis=2).astype(np.int64)
-        return out
-
-
-def _track(t: int, diff: BoolArray, exc: IntArray, mask: IntArray) -> None:
-    exc[diff & (exc == NEVER)] = t
-    mask[~diff & (exc != NEVER) & (mask == NEVER)] = t
-
-
-def run_cell_classes(
-    plan: Plan, relation: str, code_a: IntArray, code_v: IntArray, models: Sequence[FaultModel]
-) -> ClassRun:
-    """Simulate every (signature pair, model, power-up state) row of one relation at once."""
-    stream = plan.stream(relation)
-    single = relation == "single"
-    nc, nm, ns = len(code_v), len(models), (2 if single else 4)
-    tab = _tables(models)
-    rows = nc * nm * ns
-    r = np.arange(rows, dtype=np.int64)
-    row_c = r // (nm * ns)
-    row_m = (r // ns) % nm
-    s = r % ns
-    a = np.zeros(rows, np.int64) if single else (s >> 1)
-    v = s & 1
-    gv = v.copy()
-    cv = np.asarray(code_v, np.int64)[row_c]
-    ca = np.asarray(code_a, np.int64)[row_c]
-    m2 = row_m * 2
-    v = tab.settle[(m2 + a) * 2 + v].astype(np.int64)
-    det = np.zeros(rows, bool)
-    exc = np.full(rows, NEVER, np.int64)
-    mask = np.full(rows, NEVER, np.int64)
-    _track(-1, v != gv, exc, mask)
-    for t in range(len(stream)):
-        side, kind, value, k = stream.sides[t], stream.kinds[t], stream.values[t], stream.slots[t].background
-        a_pre = a
-        if side == "T":
-            v = tab.pause[m2 + v].astype(np.int64)
-        if "V" in side:
-            base = (m2 + a_pre) * 2 + v
-            if kind == "r":
-                out = tab.read_out[base]
-                if stream.written_before[t]:
-                    det |= out != gv
-                v = tab.victim[base * 3].astype(np.int64)
-            else:
-                d = ((cv >> k) & 1) ^ value
-                v = tab.victim[base * 3 + 1 + d].astype(np.int64)
-                gv = d
-        if "A" in side:
-            base = (m2 + a_pre) * 2 + v
-            if kind == "r":
-                v = tab.aggressor[base * 3].astype(np.int64)
-            else:
-                d = ((ca >> k) & 1) ^ value
-                v = tab.aggressor[base * 3 + 1 + d].astype(np.int64)
-                a = d
-        v = tab.settle[(m2 + a) * 2 + v].astype(np.int64)
-        _track(t, v != gv, exc, mask)
-    shape = (nc, nm, ns)
-    return ClassRun(stream, det.reshape(shape), exc.reshape(shape), mask.reshape(shape))
-
-
-def cell_relation(pos: IntArray, wa: IntArray | None, wv: IntArray) -> IntArray:
-    """Relation index into CELL_RELATIONS for (aggressor word, victim word) pairs."""
-    if wa is None:
-        return np.zeros(len(wv), np.int64)
-    return np.where(wa == wv, 1, np.where(pos[wa] < pos[wv], 2, 3)).astype(np.int64)
-
-
-_DETECTION_NAMES: tuple[Detection, ...] = ("detected", "partial", "escaped")
-
-
-def _cell_results(plan: Plan, faults: Sequence[CellFault | CouplingFault]) -> list[FaultResult]:
-    rs = plan.rs
-    n = len(faults)
-    models = sorted({f.model for f in faults}, key=lambda m: m.name)
-    m_index = {m: i for i, m in enumerate(models)}
-    mi = np.array([m_index[f.model] for f in faults], np.int64)
-    wv = np.array([f.cell.word if isinstance(f, CellFault) else f.victim.word for f in faults], np.int64)
-    bv = np.array([f.cell.bit if isinstance(f, CellFault) else f.victim.bit for f in faults], np.int64)
-    coupling = np.array([isinstance(f, CouplingFault) for f in faults], bool)
-    wa = np.array([f.aggressor.word if isinstance(f, CouplingFault) else 0 for f in faults], np.int64)
-    ba = np.array([f.aggressor.bit if isinstance(f, CouplingFault) else 0 for f in faults], np.int64)
-    rel = np.where(coupling, cell_relation(rs.pos, wa, wv), 0)
-    cv = rs.cell_code(wv, bv)
-    ca = np.where(coupling, rs.cell_code(wa, ba), 0)
-    out: list[FaultResult | None] = [None] * n
-    for ri, relation in enumerate(CELL_RELATIONS):
-        idx = np.flatnonzero(rel == ri)
-        if idx.size == 0:
-            continue
-        keys, inv = np.unique(np.stack([ca[idx], cv[idx]], axis=1), axis=0, return_inverse=True)
-        inv = inv.reshape(-1)
-        used = sorted(set(mi[idx].tolist()))
-        run = run_cell_classes(plan, relation, keys[:, 0], keys[:, 1], [models[u] for u in used])
-        local = {u: i for i, u in enumerate(used)}
-        verdicts = run.verdicts()
-        esc = run.escape_state()
-        for j, i in enumerate(idx.tolist()):
-            c, m = int(inv[j]), local[int(mi[i])]
-            f = faults[i]
-            verdict = _DETECTION_NAMES[verdicts[c, m]]
-            if verdict == "detected":
-                out[i] = FaultResult(f, verdict)
-                continue
-            s = int(esc[c, m])
-            words = {"V": int(wv[i]), "A": int(wa[i])}
-            labels = f.power_up_labels()
-            values = (s,) if len(labels) == 1 else (s >> 1, s & 1)
-            witness = Witness(
-                tuple(zip(labels, values, strict=True)),
-                run.stream.ref(int(run.excited[c, m, s]), words),
-                run.stream.ref(int(run.masked[c, m, s]), words),
-            )
-            out[i] = FaultResult(f, verdict, witness)
-    return [r for r in out if r is not None]
-
+__all__ = [
+    "AF_RELATIONS",
+    "AF_VARIANTS",
+    "CELL_RELATIONS",
+    "NEVER",
+    "ClassRun",
+    "Plan",
+    "Stream",
+    "af_relation",
+    "build_stream",
+    "cell_relation",
+    "combine_bits",
+    "run_af_classes",
+    "run_cell_classes",
+    "simulate",
+    "sof_detection",
+]
 
 # ---------------------------------------------------------------------------------------------------
 # Stuck-open cells

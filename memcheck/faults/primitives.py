@@ -12,7 +12,16 @@ One part of ``S`` is written as
 ``0w1``, ``1w1`` ...         a write (state before, then ``w`` and the written value),
 ``0r0`` / ``1r1``            a read of a cell holding that value,
 ``0T`` / ``1T``              a pause (delay element) while the cell holds that value,
-``∀``                        anything at all (stuck-at faults).
+``∀``                        anything at all (stuck-at faults),
+``0w1r1``, ``1w0r0`` ...     two operations in a row (dynamic faults): the cell holds the first
+                             value, is written and then read *back to back* (see below).
+
+*Two operations in a row* (dynamic fault primitives, two operations): the second operation is the
+very next operation the memory performs and it goes to the same word within the same March
+element (the ``w1, r1`` of ``⇑(w1, r1)``). The last operation of one element and the first of the
+next never form a pair, even on the word where the walk turns, nor do operations separated by a
+pause. The engines pass the cell's previous operation (:func:`prev_code`) to the semantic functions
+when, and only when, it was back to back; 0 otherwise.
 
 The four functions at the end (:func:`victim_op`, :func:`aggressor_op`, :func:`settle`,
 :func:`pause`) are the *only* definition of what a fault does; both simulation engines use them,
@@ -29,7 +38,22 @@ from memcheck.errors import FaultModelError
 
 Part = Literal["victim", "aggressor"]
 
-_SENS_RE = re.compile(r"^(?:(?P<any>∀)|(?P<state>[01])(?:(?P<op>[rwT])(?P<val>[01])?)?)$")
+_SENS_RE = re.compile(
+    r"^(?:(?P<any>∀)|(?P<state>[01])(?:(?P<op>[rwT])(?P<val>[01])?)?(?:(?P<op2>[rw])(?P<val2>[01]))?)$"
+)
+
+NO_PREV = 0  # the cell's previous operation was not back to back (or there was none)
+
+
+def op_code(kind: str, value: int) -> int:
+    """0 for a read, 1 for w0, 2 for w1."""
+    return 0 if kind == "r" else 1 + value
+
+
+def prev_code(state: int, kind: str, value: int) -> int:
+    """Code (1..6) of "the cell held ``state`` and then got this operation", kept by the engines for
+    the next operation on the cell when that one follows back to back."""
+    return 1 + state * 3 + op_code(kind, value)
 
 
 @dataclass(frozen=True, slots=True)
@@ -38,12 +62,25 @@ class Sens:
 
     ``state`` is the value the cell must hold before (None for ``∀``); ``op`` is ``"r"``, ``"w"``,
     ``"T"`` (pause) or None for a pure state condition; ``value`` is the written value (reads:
-    the value read, equal to ``state``).
+    the value read, equal to the value the cell holds). A dynamic part (``0w1r1``) has ``pre``, the
+    first operation ``(kind, value)`` applied to ``state``; ``op``/``value`` are then the second one.
     """
 
     state: int | None
     op: Literal["r", "w", "T"] | None = None
     value: int | None = None
+    pre: tuple[str, int] | None = None
+
+    @property
+    def is_dynamic(self) -> bool:
+        return self.pre is not None
+
+    @property
+    def held(self) -> int | None:
+        """The value the cell holds when ``op`` runs (after ``pre`` for a dynamic part)."""
+        if self.pre is None or self.pre[0] == "r":
+            return self.state
+        return self.pre[1]
 
     @property
     def is_any(self) -> bool:
@@ -58,10 +95,15 @@ class Sens:
         """A read or write (something a March operation can do)."""
         return self.op in ("r", "w")
 
-    def matches(self, state: int, kind: str, value: int) -> bool:
-        """Does a ``kind`` (r/w) operation writing ``value`` on a cell holding ``state`` match?"""
-        if self.state != state or self.op != kind:
+    def matches(self, state: int, kind: str, value: int, prev: int = NO_PREV) -> bool:
+        """Does a ``kind`` (r/w) operation writing ``value`` on a cell holding ``state`` match, when
+        the cell's previous operation was ``prev`` (:func:`prev_code`, or ``NO_PREV``)?"""
+        if self.held != state or self.op != kind:
             return False
+        if self.pre is not None:
+            assert self.state is not None
+            if prev != prev_code(self.state, *self.pre):
+                return False
         return kind == "r" or self.value == value
 
     def __str__(self) -> str:
@@ -71,7 +113,8 @@ class Sens:
             return str(self.state)
         if self.op == "T":
             return f"{self.state}T"
-        return f"{self.state}{self.op}{self.value}"
+        first = "" if self.pre is None else f"{self.pre[0]}{self.pre[1]}"
+        return f"{self.state}{first}{self.op}{self.value}"
 
 
 def parse_sens(text: str) -> Sens:
@@ -84,6 +127,8 @@ def parse_sens(text: str) -> Sens:
     op = m["op"]
     if op is None:
         return Sens(state)
+    if op == "T" and m["op2"] is not None:
+        raise FaultModelError(f"bad sensitising sequence {text!r}: a pause is not followed by an operation")
     if op == "T":
         return Sens(state, "T")
     if m["val"] is None:
@@ -91,7 +136,12 @@ def parse_sens(text: str) -> Sens:
     value = int(m["val"])
     if op == "r" and value != state:
         raise FaultModelError(f"bad sensitising sequence {text!r}: a read returns the value the cell holds")
-    return Sens(state, "r" if op == "r" else "w", value)
+    if m["op2"] is None:
+        return Sens(state, "r" if op == "r" else "w", value)
+    value2 = int(m["val2"])
+    if m["op2"] == "r" and value2 != value:
+        raise FaultModelError(f"bad sensitising sequence {text!r}: a read returns the value the cell holds")
+    return Sens(state, "r" if m["op2"] == "r" else "w", value2, (op, value))
 
 
 @dataclass(frozen=True, slots=True)
@@ -152,6 +202,11 @@ class FaultModel:
     @property
     def notation(self) -> str:
         return ", ".join(p.notation for p in self.primitives)
+
+    @property
+    def dynamic(self) -> bool:
+        """Sensitised by two operations in a row (see the module docstring)."""
+        return any(p.victim.is_dynamic or (p.aggressor is not None and p.aggressor.is_dynamic) for p in self.primitives)
 
     def describe(self, victim: str, aggressor: str = "") -> str:
         return self.template.format(v=victim, a=aggressor)
@@ -244,7 +299,60 @@ TWO_CELL_MODELS: tuple[FaultModel, ...] = (
     _m("CFid", "CFid<↓;1>", "<1w0;0/1/->", "writing 0 over 1 in {a} forces {v} to 1"),
 )
 
-ALL_MODELS: tuple[FaultModel, ...] = SINGLE_CELL_MODELS + TWO_CELL_MODELS
+# Two-operation dynamic faults: a write immediately followed by a read (x, y, z in {0, 1}). The
+# lists of the seven classes follow the established two-operation dynamic fault models as listed in
+# H.-J. Wunderlich (ed.), "Models in Hardware Testing", Springer 2010, ch. 6, sec. 6.4.4 (after
+# A.J. van de Goor et al. and S. Hamdioui, Z. Al-Ars and A.J. van de Goor, "Testing Static and
+# Dynamic Faults in Random Access Memories", IEEE VTS 2002, whose March RAW targets them; value
+# written from memory for the VTS 2002 paper): dRDF <xwyry/¬y/¬y>, dDRDF <xwyry/¬y/y>,
+# dIRF <xwyry/y/¬y> (4 each); dCFds <xwzrz;y/¬y/-> (the aggressor is written and read, 8);
+# dCFrd <x;ywzrz/¬z/¬z>, dCFdrd <x;ywzrz/¬z/z>, dCFir <x;ywzrz/z/¬z> (the victim is written and
+# read while the aggressor holds x, 8 each). dCFdrd is called dCFdr in that chapter.
+_READ_AFTER_WRITE = (  # (class suffix, victim flips, read returns the wrong value, what happens)
+    ("RDF", 1, 1, "flips it and returns the flipped value"),
+    ("DRDF", 1, 0, "returns the right value but flips it"),
+    ("IRF", 0, 1, "returns the wrong value (the cell keeps it)"),
+)
+DYNAMIC_SINGLE_CELL_MODELS: tuple[FaultModel, ...] = tuple(
+    _m(
+        f"d{cls}",
+        f"d{cls}<{x}w{y}r{y}>",
+        f"<{x}w{y}r{y}/{y ^ f}/{y ^ r}>",
+        f"writing {y} to {{v}} (holding {x}) and reading it right after {what}",
+    )
+    for cls, f, r, what in _READ_AFTER_WRITE
+    for x in (0, 1)
+    for y in (0, 1)
+)
+DYNAMIC_TWO_CELL_MODELS: tuple[FaultModel, ...] = (
+    *(
+        _m(
+            "dCFds",
+            f"dCFds<{x}w{z}r{z};{y}>",
+            f"<{x}w{z}r{z};{y}/{1 - y}/->",
+            f"writing {z} to {{a}} (holding {x}) and reading it right after flips {{v}} from {y} to {1 - y}",
+        )
+        for x in (0, 1)
+        for z in (0, 1)
+        for y in (0, 1)
+    ),
+    *(
+        _m(
+            f"dCF{cls[:-1].lower()}",
+            f"dCF{cls[:-1].lower()}<{x};{y}w{z}r{z}>",
+            f"<{x};{y}w{z}r{z}/{z ^ f}/{z ^ r}>",
+            f"writing {z} to {{v}} (holding {y}) and reading it right after {what} while {{a}} holds {x}",
+        )
+        for cls, f, r, what in _READ_AFTER_WRITE
+        for x in (0, 1)
+        for y in (0, 1)
+        for z in (0, 1)
+    ),
+)
+
+ALL_MODELS: tuple[FaultModel, ...] = (
+    SINGLE_CELL_MODELS + TWO_CELL_MODELS + DYNAMIC_SINGLE_CELL_MODELS + DYNAMIC_TWO_CELL_MODELS
+)
 
 
 def models_of(cls: str) -> tuple[FaultModel, ...]:
@@ -270,30 +378,34 @@ def _aggressor_state_ok(p: FaultPrimitive, a: int) -> bool:
     return p.aggressor is None or (p.aggressor.is_state and p.aggressor.state == a)
 
 
-def victim_op(model: FaultModel, a: int, v: int, kind: str, value: int) -> tuple[int, int]:
+def victim_op(model: FaultModel, a: int, v: int, kind: str, value: int, prev: int = NO_PREV) -> tuple[int, int]:
     """An operation on the victim cell: its new value and what a read returns (writes: the new value).
 
-    ``a`` is the aggressor's value before the operation; ``value`` the written value (ignored for reads).
+    ``a`` is the aggressor's value before the operation; ``value`` the written value (ignored for reads);
+    ``prev`` the victim's previous operation when it was back to back (:func:`prev_code`), else 0.
     """
     for p in model.primitives:
         s = p.victim
         if s.is_any:
             return p.f, p.f
-        if s.is_access and s.matches(v, kind, value) and _aggressor_state_ok(p, a):
+        if s.is_access and s.matches(v, kind, value, prev) and _aggressor_state_ok(p, a):
             return p.f, (p.f if p.r is None else p.r)
     if kind == "w":
         return value, value
     return v, v
 
 
-def aggressor_op(model: FaultModel, a: int, v: int, kind: str, value: int) -> int:
+def aggressor_op(model: FaultModel, a: int, v: int, kind: str, value: int, prev: int = NO_PREV) -> int:
     """The victim's value after an operation on the aggressor (which itself behaves fault-free).
 
-    ``a`` is the aggressor's value before the operation, ``v`` the victim's current value.
+    ``a`` is the aggressor's value before the operation, ``v`` the victim's current value, ``prev``
+    the aggressor's previous operation when it was back to back (:func:`prev_code`), else 0.
     """
     for p in model.primitives:
         s = p.aggressor
-        if s is not None and s.is_access and p.victim.is_state and s.matches(a, kind, value) and p.victim.state == v:
+        if s is None or not (s.is_access and p.victim.is_state) or p.victim.state != v:
+            continue
+        if s.matches(a, kind, value, prev):
             return p.f
     return v
 

@@ -28,7 +28,7 @@ from memcheck.faults.instances import (
     StuckOpenFault,
     Witness,
 )
-from memcheck.faults.primitives import aggressor_op, pause, settle, victim_op
+from memcheck.faults.primitives import NO_PREV, aggressor_op, pause, prev_code, settle, victim_op
 from memcheck.march.expand import Pause, expand
 from memcheck.march.notation import MarchTest
 from memcheck.ops import OpKind
@@ -73,6 +73,7 @@ def _events(test: MarchTest, setup: Arrangement) -> list[_Event]:
 class _Memory:
     def __init__(self, words: int) -> None:
         self.cells = [0] * words
+        self.chained = False  # the coming operation follows the previous one back to back on its word
 
     def write(self, w: int, data: int) -> None:
         self.cells[w] = data
@@ -93,6 +94,11 @@ class _CellFaultMemory(_Memory):
         self.model = fault.model
         self.victim = fault.cell if isinstance(fault, CellFault) else fault.victim
         self.aggressor = fault.aggressor if isinstance(fault, CouplingFault) else None
+        self.prev_v = NO_PREV  # the last operation on the victim's / aggressor's word (prev_code)
+        self.prev_a = NO_PREV
+
+    def _prevs(self) -> tuple[int, int]:
+        return (self.prev_v, self.prev_a) if self.chained else (NO_PREV, NO_PREV)
 
     def get(self, c: Cell | None) -> int:
         return 0 if c is None else (self.cells[c.word] >> c.bit) & 1
@@ -106,23 +112,30 @@ class _CellFaultMemory(_Memory):
 
     def write(self, w: int, data: int) -> None:
         a, v = self.get(self.aggressor), self.get(self.victim)
+        pv, pa = self._prevs()
         self.cells[w] = data
         if w == self.victim.word:
-            self.set_victim(victim_op(self.model, a, v, "w", (data >> self.victim.bit) & 1)[0])
+            d = (data >> self.victim.bit) & 1
+            self.set_victim(victim_op(self.model, a, v, "w", d, pv)[0])
+            self.prev_v = prev_code(v, "w", d)
         if self.aggressor is not None and w == self.aggressor.word:
             written = (data >> self.aggressor.bit) & 1
-            self.set_victim(aggressor_op(self.model, a, self.get(self.victim), "w", written))
+            self.set_victim(aggressor_op(self.model, a, self.get(self.victim), "w", written, pa))
+            self.prev_a = prev_code(a, "w", written)
         self.settle()
 
     def read(self, w: int) -> int:
         a, v = self.get(self.aggressor), self.get(self.victim)
+        pv, pa = self._prevs()
         out = self.cells[w]
         if w == self.victim.word:
-            new_v, returned = victim_op(self.model, a, v, "r", v)
+            new_v, returned = victim_op(self.model, a, v, "r", v, pv)
             self.set_victim(new_v)
             out = (out & ~(1 << self.victim.bit)) | (returned << self.victim.bit)
+            self.prev_v = prev_code(v, "r", v)
         if self.aggressor is not None and w == self.aggressor.word:
-            self.set_victim(aggressor_op(self.model, a, self.get(self.victim), "r", a))
+            self.set_victim(aggressor_op(self.model, a, self.get(self.victim), "r", a, pa))
+            self.prev_a = prev_code(a, "r", a)
         self.settle()
         return out
 
@@ -224,6 +237,7 @@ def _run(fault: FaultInstance, values: Sequence[int], events: Sequence[_Event], 
 
     track(-1)
     for i, ev in enumerate(events):
+        bad.chained = i > 0 and _back_to_back(events[i - 1], ev)
         if ev.kind == "w":
             bad.write(ev.word, ev.data)
             good[ev.word] = ev.data
@@ -236,6 +250,14 @@ def _run(fault: FaultInstance, values: Sequence[int], events: Sequence[_Event], 
             bad.pause()
         track(i)
     return run
+
+
+def _back_to_back(before: _Event, ev: _Event) -> bool:
+    """Two operations in a row: the same word within the same pass of one element (a pause between
+    them, or an element boundary, breaks the pair)."""
+    if ev.kind == "T" or before.kind == "T" or before.word != ev.word:
+        return False
+    return (before.ref.background, before.ref.element) == (ev.ref.background, ev.ref.element)
 
 
 def _ref(events: Sequence[_Event], index: int) -> OpRef | None:

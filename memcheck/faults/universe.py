@@ -45,8 +45,10 @@ IntArray = npt.NDArray[np.int64]
 
 #: Every fault class, in the order of the one list (:data:`memcheck.march.library.FAULT_CLASSES`).
 CLASSES: tuple[str, ...] = tuple(FAULT_CLASSES)
-SINGLE_CLASSES: tuple[str, ...] = ("SAF", "TF", "WDF", "RDF", "DRDF", "IRF", "DRF")
-TWO_CELL_CLASSES: tuple[str, ...] = ("CFst", "CFds", "CFtr", "CFwd", "CFrd", "CFdrd", "CFir", "CFin", "CFid")
+TWO_CELL_CLASSES: tuple[str, ...] = tuple(c for c in CLASSES if c.startswith(("CF", "dCF")))
+SINGLE_CLASSES: tuple[str, ...] = tuple(c for c in CLASSES if c not in (*TWO_CELL_CLASSES, "SOF", "AF"))
+STATIC_CLASSES: tuple[str, ...] = CLASSES[: CLASSES.index("AF") + 1]
+DYNAMIC_CLASSES: tuple[str, ...] = CLASSES[CLASSES.index("AF") + 1 :]
 SCOPES: tuple[str, ...] = ("intra-word", "aggressor below", "aggressor above")
 
 DEFAULT_SEED = 1
@@ -80,19 +82,29 @@ def parse_universe(text: str | Universe, seed: int | None = None) -> Universe:
     raise FaultModelError(f"unknown fault universe {text!r}: use all, neighbours or sample:K (K a positive count)")
 
 
+def class_named(name: str) -> str:
+    """The class called ``name``: exact spelling first, else ignoring case when that is unambiguous
+    (``drdf`` is ambiguous: DRDF and dRDF differ only in case)."""
+    if name in CLASSES:
+        return name
+    matches = [c for c in CLASSES if c.lower() == name.lower()]
+    if len(matches) == 1:
+        return matches[0]
+    if matches:
+        raise FaultModelError(f"fault class {name!r} is ambiguous: write {' or '.join(matches)} exactly")
+    raise FaultModelError(f"unknown fault class {name!r}; choose from {', '.join(CLASSES)}")
+
+
 def parse_classes(spec: str | tuple[str, ...] | list[str] | None) -> tuple[str, ...]:
     """Fault class abbreviations (comma-separated or a sequence), in the canonical order."""
     if spec is None:
         return CLASSES
     names = [s.strip() for s in (spec.split(",") if isinstance(spec, str) else spec) if s.strip()]
-    lookup = {c.lower(): c for c in CLASSES}
     out = []
     for n in names:
         if n.lower() == "all":
             return CLASSES
-        if n.lower() not in lookup:
-            raise FaultModelError(f"unknown fault class {n!r}; choose from {', '.join(CLASSES)}")
-        out.append(lookup[n.lower()])
+        out.append(class_named(n))
     if not out:
         raise FaultModelError("no fault class given")
     return tuple(c for c in CLASSES if c in out)

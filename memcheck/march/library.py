@@ -33,6 +33,13 @@ FAULT_CLASSES: dict[str, str] = {
     "CFin": "inversion coupling fault",
     "CFid": "idempotent coupling fault",
     "AF": "address decoder fault",
+    "dRDF": "dynamic read destructive fault",
+    "dDRDF": "dynamic deceptive read destructive fault",
+    "dIRF": "dynamic incorrect read fault",
+    "dCFds": "dynamic disturb coupling fault",
+    "dCFrd": "dynamic read destructive coupling fault",
+    "dCFdrd": "dynamic deceptive read destructive coupling fault",
+    "dCFir": "dynamic incorrect read coupling fault",
 }
 
 
@@ -217,6 +224,89 @@ ALGORITHMS: tuple[MarchAlgorithm, ...] = (
         ),
         ("SAF", "TF", "WDF", "RDF", "DRDF", "IRF", "CFst", "CFds", "CFtr", "CFwd", "CFrd", "CFdrd", "CFir"),
         "All static simple (unlinked) single-cell and two-cell faults.",
+    ),
+    MarchAlgorithm(
+        "March C+",
+        "{⇕(w0); ⇑(r0,w1,r1); ⇑(r1,w0,r0); ⇓(r0,w1,r1); ⇓(r1,w0,r0); ⇕(r0)}",
+        14,
+        Source(
+            "R.D. Adams",
+            "High Performance Memory Testing: Design Principles, Fault Modeling and Self-Test",
+            "Kluwer Academic Publishers",
+            2003,
+        ),
+        ("SAF", "AF", "TF", "CFin", "CFid", "CFst", "SOF"),
+        "March C- with a read after every write (value written from memory: notation, source and the "
+        "stuck-open claim; the read-back catches a cell that the write cannot reach).",
+        aliases=("march-c-plus", "marchc+"),
+    ),
+    MarchAlgorithm(
+        "PMOVI",
+        "{⇓(w0); ⇑(r0,w1,r1); ⇑(r1,w0,r0); ⇓(r0,w1,r1); ⇓(r1,w0,r0)}",
+        13,
+        Source(
+            "J.H. de Jonge and A.J. Smeulders",
+            "Moving Inversions Test Pattern is Thorough, Yet Speedy",
+            "Computer Design",
+            1976,
+        ),
+        ("SAF", "AF", "TF", "CFin"),
+        "Moving inversions with a read after every write (value written from memory; claims as "
+        "summarised in van de Goor 1991).",
+        aliases=("p-movi",),
+    ),
+    MarchAlgorithm(
+        "March LA",
+        "{⇕(w0); ⇑(r0,w1,w0,w1,r1); ⇑(r1,w0,w1,w0,r0); ⇓(r0,w1,w0,w1,r1); ⇓(r1,w0,w1,w0,r0); ⇓(r0)}",
+        22,
+        Source(
+            "A.J. van de Goor, G.N. Gaydadjiev, V.G. Mikitjuk and V.N. Yarmolik",
+            "March LA: a Test for Linked Memory Faults",
+            "Proc. European Design and Test Conference",
+            1997,
+        ),
+        ("SAF", "AF", "TF", "CFin", "CFid", "CFst"),
+        "All linked faults among these classes (value written from memory: notation and claims).",
+    ),
+    MarchAlgorithm(
+        "March MSS",
+        "{⇕(w0); ⇑(r0,r0,w1,w1); ⇑(r1,r1,w0,w0); ⇓(r0,r0,w1,w1); ⇓(r1,r1,w0,w0); ⇕(r0)}",
+        18,
+        Source(
+            "G. Harutunyan, V.A. Vardanian and Y. Zorian",
+            "Minimal March Tests for Unlinked Static Faults in Random Access Memories",
+            "Proc. IEEE VLSI Test Symposium",
+            2005,
+        ),
+        ("SAF", "TF", "WDF", "RDF", "DRDF", "IRF", "CFst", "CFds", "CFtr", "CFwd", "CFrd", "CFdrd", "CFir"),
+        "All unlinked static single-cell and two-cell faults in 18n, shorter than March SS (value written "
+        "from memory: notation and claims).",
+    ),
+    MarchAlgorithm(
+        "March RAW",
+        "{⇕(w0); ⇑(r0,w0,r0,r0,w1,r1); ⇑(r1,w1,r1,r1,w0,r0); ⇓(r0,w0,r0,r0,w1,r1); ⇓(r1,w1,r1,r1,w0,r0); ⇕(r0)}",
+        26,
+        Source(
+            "S. Hamdioui, Z. Al-Ars and A.J. van de Goor",
+            "Testing Static and Dynamic Faults in Random Access Memories",
+            "Proc. IEEE VLSI Test Symposium",
+            2002,
+        ),
+        ("dRDF", "dDRDF", "dIRF", "dCFds", "dCFrd", "dCFdrd", "dCFir"),
+        "Read-after-write dynamic faults, single-cell and two-cell (value written from memory: notation and claims).",
+    ),
+    MarchAlgorithm(
+        "March AB",
+        "{⇕(w1); ⇓(r1,w0,r0,w0,r0); ⇓(r0,w1,r1,w1,r1); ⇑(r1,w0,r0,w0,r0); ⇑(r0,w1,r1,w1,r1); ⇕(r1)}",
+        22,
+        Source(
+            "A. Benso, A. Bosio, S. Di Carlo, G. Di Natale and P. Prinetto",
+            "March AB, March AB1: New March Tests for Unlinked Dynamic Memory Faults",
+            "Proc. IEEE International Test Conference",
+            2005,
+        ),
+        ("dRDF", "dDRDF", "dIRF", "dCFds", "dCFrd", "dCFdrd", "dCFir"),
+        "Unlinked two-operation dynamic faults (value written from memory: notation and claims).",
     ),
     MarchAlgorithm(
         "March G",

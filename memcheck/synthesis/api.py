@@ -10,8 +10,9 @@ from collections.abc import Sequence
 from dataclasses import dataclass, replace
 from typing import Any
 
-from memcheck.errors import MemcheckError, SynthesisError
+from memcheck.errors import FaultModelError, MemcheckError, SynthesisError
 from memcheck.faults import CLASSES, DISCLAIMER, Arrangement, CoverageReport, coverage
+from memcheck.faults.universe import class_named
 from memcheck.march.library import ALGORITHMS
 from memcheck.march.notation import MarchTest
 from memcheck.synthesis.elements import DOWN, UP
@@ -95,17 +96,19 @@ def parse_fault_classes(spec: str | Sequence[str]) -> tuple[str, ...]:
     names = [s.strip() for s in (spec.split(",") if isinstance(spec, str) else spec) if s.strip()]
     if not names:
         raise SynthesisError("no fault class given: pass --faults with classes such as SAF,AF,TF")
-    lookup = {c.lower(): c for c in CLASSES}
     out = []
     for n in names:
-        if n.lower() not in lookup:
-            close = difflib.get_close_matches(n.lower(), list(lookup), n=2, cutoff=0.5)
-            hint = f" Did you mean {' or '.join(lookup[c] for c in close)}?" if close else ""
-            raise SynthesisError(f"unknown fault class {n!r}.{hint} Known classes: {', '.join(CLASSES)}.")
-        out.append(lookup[n.lower()])
-        if builder_for(lookup[n.lower()]) is None:
+        try:
+            cls = class_named(n)
+        except FaultModelError as exc:
+            lowered = {c.lower(): c for c in CLASSES}
+            close = difflib.get_close_matches(n.lower(), list(lowered), n=2, cutoff=0.5)
+            hint = f" Did you mean {' or '.join(lowered[c] for c in close)}?" if close else ""
+            raise SynthesisError(f"{exc}.{hint} Known classes: {', '.join(CLASSES)}.") from None
+        out.append(cls)
+        if builder_for(cls) is None:
             raise SynthesisError(
-                f"fault class {lookup[n.lower()]} has no cell-level model for the synthesis search yet (its "
+                f"fault class {cls} has no cell-level model for the synthesis search yet (its "
                 "behaviour depends on the neighbouring word's read, which the search does not track); leave it "
                 "out and check it afterwards with `memcheck coverage`."
             )

@@ -21,7 +21,7 @@ import numpy as np
 import numpy.typing as npt
 
 from memcheck.synthesis.keys import keep_new
-from memcheck.synthesis.rows import OPS, UNWRITTEN, WIDTH, RowModel
+from memcheck.synthesis.rows import CLEAR, OPS, UNWRITTEN, WIDTH, RowModel
 
 U8 = npt.NDArray[np.uint8]
 
@@ -120,6 +120,7 @@ class ElementTrie:
 
     def _element_set(self, p: U8, q: U8, g: U8, ops: list[tuple[int, ...]]) -> ElementSet:
         tables, gs, out_ops, dirs = [], [], [], []
+        p, q = CLEAR[p], CLEAR[q]  # a word's last operation pairs with nothing after it
         for d in self.directions:
             t = compose(q, p) if d == UP else compose(p, q)
             for i in keep_new(t.reshape(len(ops), -1), g, self._seen_elements).tolist():

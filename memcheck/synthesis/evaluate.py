@@ -9,7 +9,7 @@ import numpy.typing as npt
 
 from memcheck.march.notation import Delay, MarchElement, MarchOp, MarchTest
 from memcheck.synthesis.elements import DOWN, UP
-from memcheck.synthesis.rows import DET, OPS, WIDTH, RowModel
+from memcheck.synthesis.rows import CLEAR, DET, OPS, WIDTH, RowModel
 from memcheck.synthesis.search import Step
 
 U8 = npt.NDArray[np.uint8]
@@ -60,6 +60,7 @@ def run_steps(model: RowModel, steps: Iterable[Step]) -> U8:
         for o in st.ops:
             p = model.first[o][r[:, None], p]
             q = model.second[o][r[:, None], q]
+        p, q = CLEAR[p], CLEAR[q]  # two operations in a row never span words
         t = q[r[:, None], p] if st.direction == UP else p[r[:, None], q]
         state = t[r, state]
     return state

@@ -30,7 +30,7 @@ import numpy.typing as npt
 
 from memcheck.faults import Arrangement
 from memcheck.faults.fast import AF_VARIANTS  # the fast engine's decoder variants, in its order
-from memcheck.faults.primitives import FaultModel, aggressor_op, models_of, pause, settle, victim_op
+from memcheck.faults.primitives import FaultModel, aggressor_op, models_of, pause, prev_code, settle, victim_op
 from memcheck.faults.universe import cell_table, pair_table_all, word_pair_table
 
 U8 = npt.NDArray[np.uint8]
@@ -42,6 +42,9 @@ DET = NSTATE  # the absorbing "detected" state
 WIDTH = NSTATE + 1
 OPS: tuple[tuple[str, int], ...] = (("r", 0), ("r", 1), ("w", 0), ("w", 1))  # op index -> (kind, logical value)
 UNWRITTEN = 2  # "good value" before the first write
+# End of a word's operations in an element: two operations in a row never span words or elements, so
+# the "armed" bit (state bit 2: the previous operation could start a dynamic fault) is dropped.
+CLEAR = np.array([s & 3 for s in range(NSTATE)] + [NSTATE], np.uint8)
 
 StepFn = Callable[[int, str, int], tuple[int, bool]]  # (state, kind, logical value) -> (state, detected)
 
@@ -70,34 +73,51 @@ class Instance:
 # ---------------------------------------------------------------------------------------------------
 
 
+def _armed(model: FaultModel, part: str) -> int:
+    """The previous-operation code a dynamic primitive of ``model`` needs on its victim or aggressor
+    part (0: none). A row remembers only whether that code is the one it saw (bit 2 of its state), so
+    a model may have one such code."""
+    codes = set()
+    for p in model.primitives:
+        s = p.victim if part == "victim" else p.aggressor
+        if s is not None and s.pre is not None and s.state is not None:
+            codes.add(prev_code(s.state, *s.pre))
+    if len(codes) > 1:
+        raise ValueError(f"{model.name}: more than one dynamic first operation per cell")
+    return codes.pop() if codes else 0
+
+
 def _victim_step(m: FaultModel, ca: int, cv: int, *, also_aggressor: bool) -> StepFn:
+    arm_v, arm_a = _armed(m, "victim"), _armed(m, "aggressor")
+
     def step(s: int, kind: str, x: int) -> tuple[int, bool]:
-        a, v = s >> 1, s & 1
+        a, v, armed = (s >> 1) & 1, s & 1, s >> 2
         det = False
+        d = v if kind == "r" else cv ^ x
+        new_v, out = victim_op(m, a, v, kind, d, arm_v if armed else 0)
         if kind == "r":
-            new_v, out = victim_op(m, a, v, "r", v)
             det = out != (cv ^ x)
-        else:
-            new_v = victim_op(m, a, v, "w", cv ^ x)[0]
+        armed_new = int(arm_v != 0 and prev_code(v, kind, d) == arm_v)
         a_new = a
         if also_aggressor:  # the aggressor bit shares the word: its disturbance comes second
-            if kind == "r":
-                new_v = aggressor_op(m, a, new_v, "r", a)
-            else:
-                new_v = aggressor_op(m, a, new_v, "w", ca ^ x)
-                a_new = ca ^ x
-        return a_new * 2 + settle(m, a_new, new_v), det
+            da = a if kind == "r" else ca ^ x
+            new_v = aggressor_op(m, a, new_v, kind, da, arm_a if armed else 0)
+            armed_new |= int(arm_a != 0 and prev_code(a, kind, da) == arm_a)
+            a_new = da
+        return armed_new * 4 + a_new * 2 + settle(m, a_new, new_v), det
 
     return step
 
 
 def _aggressor_step(m: FaultModel, ca: int) -> StepFn:
+    arm_a = _armed(m, "aggressor")
+
     def step(s: int, kind: str, x: int) -> tuple[int, bool]:
-        a, v = s >> 1, s & 1
-        if kind == "r":
-            return a * 2 + settle(m, a, aggressor_op(m, a, v, "r", a)), False
-        d = ca ^ x
-        return d * 2 + settle(m, d, aggressor_op(m, a, v, "w", d)), False
+        a, v, armed = (s >> 1) & 1, s & 1, s >> 2
+        d = a if kind == "r" else ca ^ x
+        new_v = aggressor_op(m, a, v, kind, d, arm_a if armed else 0)
+        armed_new = int(arm_a != 0 and prev_code(a, kind, d) == arm_a)
+        return armed_new * 4 + d * 2 + settle(m, d, new_v), False
 
     return step
 
@@ -135,7 +155,7 @@ def _af_step(kind: str, wired: str | None, side: int, code: int, fl: int) -> Ste
     hx, hy = _REACH[kind][side]
 
     def step(s: int, op: str, x: int) -> tuple[int, bool]:
-        cx, cy = s >> 1, s & 1
+        cx, cy = (s >> 1) & 1, s & 1
         if op == "w":
             d = code ^ x
             return (d if hx else cx) * 2 + (d if hy else cy), False
@@ -280,7 +300,7 @@ def _table(step: StepFn | None) -> U8:
             if step is None:
                 t[o, s] = s
                 continue
-            ns, det = step(s & 3, kind, x)
+            ns, det = step(s, kind, x)
             t[o, s] = DET if det else ns
         t[o, DET] = DET
     return t
@@ -311,7 +331,7 @@ def build_model(classes: Sequence[str], setup: Arrangement) -> RowModel:
                     f, s = _table(spec.first), _table(spec.second)
                     p = np.arange(WIDTH, dtype=np.uint8)
                     if spec.pause is not None:
-                        p[:NSTATE] = [spec.pause(x & 3) for x in range(NSTATE)]
+                        p[:NSTATE] = [spec.pause(x & 3) for x in range(NSTATE)]  # a pause ends a pair
                     key = bytes([spec.init]) + f.tobytes() + s.tobytes() + p.tobytes()
                     if key not in rows:
                         rows[key] = len(inits)
