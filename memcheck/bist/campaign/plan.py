@@ -23,7 +23,7 @@ from memcheck.faults import (
     StuckOpenFault,
 )
 from memcheck.faults.geometry import Arrangement
-from memcheck.faults.universe import CLASSES, Universe, enumerate_class, sample_class
+from memcheck.faults.universe import CLASSES, Universe, class_size, enumerate_class, sample_class
 
 #: Fault classes the RTL model implements (all of memcheck's).
 RTL_CLASSES: tuple[str, ...] = CLASSES
@@ -69,6 +69,21 @@ def rows_of(index: int, fault: FaultInstance, width: int) -> list[Row]:
     n = len(fault.power_up_labels())
     bits = range(width) if isinstance(fault, DecoderFault) else (-1,)
     return [Row(index, s, b, tuple(sorted(_fields(fault, s, b).items()))) for b in bits for s in states(n)]
+
+
+MAX_INSTANCES = 2_000_000
+
+
+def check_budget(setup: Arrangement, classes: Sequence[str], universe: Universe) -> None:
+    """Refuse a universe too large to simulate instance by instance (before enumerating it)."""
+    if universe.kind != "all":
+        return
+    total = sum(class_size(c, setup) for c in classes if c in RTL_CLASSES)
+    if total > MAX_INSTANCES:
+        raise BistError(
+            f"the 'all' universe of {setup.words} x {setup.width} has {total:,} fault instances, too many to simulate "
+            f"one by one on RTL (at most {MAX_INSTANCES:,}); use --universe sample:K or neighbours"
+        )
 
 
 def plan_instances(

@@ -8,13 +8,15 @@ shard, whichever way the shards ran.
 from __future__ import annotations
 
 import os
+import re
+import socket
 import time
 from collections.abc import Callable, Iterator, Sequence
 from concurrent.futures import ProcessPoolExecutor, as_completed
 from dataclasses import dataclass
 from typing import Any, Literal
 
-from memcheck.bist.campaign.plan import Row, plan_instances, rows_of, verdict_of
+from memcheck.bist.campaign.plan import Row, check_budget, plan_instances, rows_of, verdict_of
 from memcheck.bist.campaign.report import CampaignReport, InstanceOutcome, build_report
 from memcheck.bist.campaign.rtl import Harness, ShardJob, ShardResult, build_harness, run_shard
 from memcheck.bist.faulty_memory import MemoryShape, check_copies, default_copies
@@ -26,7 +28,7 @@ from memcheck.faults.universe import parse_classes, parse_universe
 from memcheck.march import MarchTest, resolve_test
 
 Progress = Callable[[int, int], None]
-SCHEDULER_TIMEOUT = 20.0
+SCHEDULER_TIMEOUT = 10.0
 
 
 @dataclass(frozen=True)
@@ -80,8 +82,12 @@ def prepare(spec: CampaignSpec) -> Prepared:
         raise BistError(
             "the test has delay elements: a campaign needs --pause-cycles of at least 1 (the retention time)"
         )
+    if spec.copies is not None:
+        check_copies(spec.words, spec.copies)
     classes = parse_classes(spec.classes)
-    instances = plan_instances(setup, classes, parse_universe(spec.universe, spec.seed))
+    universe = parse_universe(spec.universe, spec.seed)
+    check_budget(setup, classes, universe)
+    instances = plan_instances(setup, classes, universe)
     rows: list[Row] = []
     flat = [f for _, found in instances for f in found]
     for i, f in enumerate(flat):
@@ -123,24 +129,47 @@ def _local(harness: Harness, jobs: Sequence[ShardJob], workers: int) -> Iterator
             raise
 
 
+def _probe(address: str) -> None:
+    """Fail fast when nothing listens at a tcp:// scheduler address (other protocols: left to Dask)."""
+    m = re.match(r"^(?:tcp://)?\[?([^\]/]+?)\]?:(\d+)/?$", address.strip())
+    if m is None:
+        if "://" in address and not address.startswith("tcp://"):
+            return
+        raise ValueError(f"not host:port: {address!r}")
+    with socket.create_connection((m[1], int(m[2])), timeout=SCHEDULER_TIMEOUT / 2):
+        pass
+
+
 def _dask(harness: Harness, jobs: Sequence[ShardJob], address: str) -> Iterator[ShardResult]:
     try:
         from dask.distributed import Client
-        from dask.distributed import as_completed as dask_completed
     except ModuleNotFoundError:
         raise BistError("--scheduler needs Dask: pip install 'memcheck[cluster]'") from None
+    import dask
+
     try:
-        client = Client(address, timeout=f"{SCHEDULER_TIMEOUT}s")
-    except (OSError, TimeoutError, ValueError) as exc:
-        raise BistError(
-            f"cannot reach the Dask scheduler at {address} within {SCHEDULER_TIMEOUT:.0f} s ({type(exc).__name__}); "
-            "start one with 'dask scheduler' and workers with 'dask worker ADDRESS', or drop --scheduler "
-            "to use local worker processes"
-        ) from None
+        with dask.config.set({"distributed.comm.timeouts.connect": f"{SCHEDULER_TIMEOUT:.0f}s"}):
+            client = Client(address, timeout=f"{SCHEDULER_TIMEOUT:.0f}s")  # type: ignore[no-untyped-call]
+    except Exception as exc:  # whatever answered at the address, it is not a usable scheduler
+        raise _unreachable(address, exc) from None
+    return _with_client(client, harness, jobs)
+
+
+def _unreachable(address: str, exc: BaseException) -> BistError:
+    return BistError(
+        f"cannot reach the Dask scheduler at {address} within {SCHEDULER_TIMEOUT:.0f} s ({type(exc).__name__}); "
+        "start one with 'dask scheduler' and workers with 'dask worker ADDRESS', or drop --scheduler "
+        "to use local worker processes"
+    )
+
+
+def _with_client(client: Any, harness: Harness, jobs: Sequence[ShardJob]) -> Iterator[ShardResult]:
+    from dask.distributed import as_completed as dask_completed
+
     with client:
         shared = client.scatter(harness, broadcast=True)
         futures = client.map(run_shard, [shared] * len(jobs), list(jobs), pure=False)
-        for fut in dask_completed(futures):
+        for fut in dask_completed(futures):  # type: ignore[no-untyped-call]
             yield fut.result()
 
 
@@ -196,6 +225,11 @@ def run_campaign(
 ) -> CampaignReport:
     """Measure ``spec`` on RTL and compare it with the fast fault simulator, instance by instance."""
     t0 = time.perf_counter()
+    if scheduler:
+        try:
+            _probe(scheduler)
+        except (OSError, ValueError) as exc:
+            raise _unreachable(scheduler, exc) from None
     prepared = prepare(spec)
     results = execute(prepared, workers=workers, scheduler=scheduler, progress=progress)
     found = outcomes(prepared, results)
