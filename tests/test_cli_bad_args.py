@@ -70,6 +70,15 @@ BAD_ARGS: list[tuple[tuple[str, ...], tuple[str, ...]]] = [
     (("march", "run", REGFILE, "MATS+", "--layout", "3x3"), ("layout 3x3",)),
     (("march", "run", REGFILE, "MATS+", "--max-ops", "0"), ("--max-ops",)),
     (("demo", "--examples", "-1"), ("--examples",)),
+    # bist campaign / faulty-memory (refused before any simulation)
+    (("bist", "campaign", "MATS+", "--words", "16", "--faults", "SAF,NPSF"), ("unknown fault class", "NPSF")),
+    (("bist", "campaign", "MATS+", "--words", "16", "--layout", "3x4"), ("layout 3x4", "16")),
+    (("bist", "campaign", "{up(w0); up(r1)}", "--words", "16"), ("a correct memory fails",)),
+    (("bist", "campaign", "MATS+", "--words", "16", "--copies", "5000"), ("--copies 5000", "too large")),
+    (("bist", "campaign", "MATS+", "--words", "1048576", "--copies", "1024"), ("--copies 1024", "too large")),
+    (("bist", "campaign", "MATS+", "--words", "16", "--workers", "2", "--scheduler", "x:1"), ("do not go together",)),
+    (("bist", "faulty-memory", "--words", "16", "--read-latency", "9"), ("READ_LATENCY", "9")),
+    (("bist", "faulty-memory", "--words", "16", "--module", "module"), ("not a plain Verilog identifier",)),
 ]
 
 

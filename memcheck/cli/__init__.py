@@ -66,7 +66,15 @@ def _register_commands() -> None:
     # Imported for their side effect of adding commands to ``cli``; each module owns one area.
     from memcheck.cli import contract_cmds  # noqa: F401
 
-    for optional in ("march_cmds", "fault_cmds", "check_cmds", "march_run_cmds", "synth_cmds", "bist_cmds"):
+    for optional in (
+        "march_cmds",
+        "fault_cmds",
+        "check_cmds",
+        "march_run_cmds",
+        "synth_cmds",
+        "bist_cmds",
+        "campaign_cmds",
+    ):
         try:
             __import__(f"memcheck.cli.{optional}")
         except ModuleNotFoundError as exc:

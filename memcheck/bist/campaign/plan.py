@@ -1,0 +1,124 @@
+"""What a campaign simulates: fault instances, their power-up states, and the fault-table rows.
+
+Power-up states are exactly those of memcheck's fault simulator (``power_up_labels`` of each
+instance, first label most significant, as in :mod:`memcheck.faults.reference`): the fault's cells
+(single cell; aggressor then victim), the data-out latch bit of a stuck-open cell, and for a decoder
+fault the words involved (all bits alike) and the floating read value. A decoder fault is run bit by
+bit (the bits never interact; docs/faults.md), so it is ``width x 2^n`` rows.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+
+from memcheck.bist.faulty_memory import AF_KIND_CODES, KIND_FP, KIND_SOF, model_bits, pack_row
+from memcheck.errors import BistError
+from memcheck.faults import (
+    CellFault,
+    CouplingFault,
+    DecoderFault,
+    Detection,
+    FaultInstance,
+    StuckOpenFault,
+)
+from memcheck.faults.geometry import Arrangement
+from memcheck.faults.universe import CLASSES, Universe, class_size, enumerate_class, sample_class
+
+#: Fault classes the RTL model implements (all of memcheck's).
+RTL_CLASSES: tuple[str, ...] = CLASSES
+
+
+@dataclass(frozen=True)
+class Row:
+    """One copy in a simulation: instance ``instance`` from power-up ``state`` (on data bit ``bit``
+    for a decoder fault, else -1)."""
+
+    instance: int
+    state: tuple[int, ...]
+    bit: int
+    fields: tuple[tuple[str, int], ...]
+
+    def packed(self, drive: bool) -> str:
+        return pack_row({**dict(self.fields), "drive": int(drive)})
+
+
+def states(n: int) -> list[tuple[int, ...]]:
+    """All power-up states of ``n`` variables, first variable most significant."""
+    return [tuple((s >> (n - 1 - i)) & 1 for i in range(n)) for s in range(1 << n)]
+
+
+def _fields(fault: FaultInstance, state: tuple[int, ...], bit: int) -> dict[str, int]:
+    if isinstance(fault, CellFault):
+        c = fault.cell
+        return {"kind": KIND_FP, "vword": c.word, "vbit": c.bit, "v0": state[0], **model_bits(fault.model)}
+    if isinstance(fault, CouplingFault):
+        a, v = fault.aggressor, fault.victim
+        out = {"kind": KIND_FP, "vword": v.word, "vbit": v.bit, "has_a": 1, "aword": a.word, "abit": a.bit}
+        return {**out, "a0": state[0], "v0": state[1], **model_bits(fault.model)}
+    if isinstance(fault, StuckOpenFault):
+        return {"kind": KIND_SOF, "vword": fault.cell.word, "vbit": fault.cell.bit, "l0": state[0]}
+    out = {"kind": AF_KIND_CODES[fault.kind], "vword": fault.address, "vbit": bit, "v0": state[0], "l0": state[-1]}
+    out["wired_and"] = int(fault.wired == "and")
+    if fault.other is not None:
+        out.update(has_a=1, aword=fault.other, abit=bit, a0=state[1])
+    return out
+
+
+def rows_of(index: int, fault: FaultInstance, width: int) -> list[Row]:
+    n = len(fault.power_up_labels())
+    bits = range(width) if isinstance(fault, DecoderFault) else (-1,)
+    return [Row(index, s, b, tuple(sorted(_fields(fault, s, b).items()))) for b in bits for s in states(n)]
+
+
+MAX_INSTANCES = 2_000_000
+
+
+def check_budget(setup: Arrangement, classes: Sequence[str], universe: Universe) -> None:
+    """Refuse a universe too large to simulate instance by instance (before enumerating it)."""
+    if universe.kind != "all":
+        return
+    total = sum(class_size(c, setup) for c in classes if c in RTL_CLASSES)
+    if total > MAX_INSTANCES:
+        raise BistError(
+            f"the 'all' universe of {setup.words} x {setup.width} has {total:,} fault instances, too many to simulate "
+            f"one by one on RTL (at most {MAX_INSTANCES:,}); use --universe sample:K or neighbours"
+        )
+
+
+def plan_instances(
+    setup: Arrangement, classes: Sequence[str], universe: Universe
+) -> list[tuple[str, list[FaultInstance]]]:
+    """The instances of each class in ``universe`` (samples drawn with the universe's seed)."""
+    out = []
+    for cls in classes:
+        if cls not in RTL_CLASSES:
+            raise BistError(f"the RTL fault model does not implement class {cls!r} (it has {', '.join(RTL_CLASSES)})")
+        if universe.kind == "sample":
+            assert universe.size is not None
+            found = sample_class(cls, setup, universe.size, universe.seed)
+        else:
+            found = enumerate_class(cls, setup, universe.kind)
+        out.append((cls, found))
+    return out
+
+
+def verdict_of(fault: FaultInstance, rows: Sequence[Row], failed: Sequence[bool], width: int) -> Detection:
+    """Detected if fail rose from every power-up state, partial if from some, escaped if none; a decoder
+    fault per bit (some bit detected from every state of its own: detected), as the fault simulator."""
+    if not isinstance(fault, DecoderFault):
+        if all(failed):
+            return "detected"
+        return "partial" if any(failed) else "escaped"
+    per_bit: dict[int, list[bool]] = {}
+    for r, f in zip(rows, failed, strict=True):
+        per_bit.setdefault(r.bit, []).append(f)
+    if any(all(v) for v in per_bit.values()):
+        return "detected"
+    return "partial" if any(failed) else "escaped"
+
+
+def state_label(fault: FaultInstance, row: Row) -> str:
+    labels = fault.power_up_labels()
+    text = ", ".join(f"{k}={v}" for k, v in zip(labels, row.state, strict=True))
+    return text + (f" (data bit {row.bit})" if row.bit >= 0 else "")
