@@ -23,10 +23,11 @@ from memcheck.faults import (
     StuckOpenFault,
 )
 from memcheck.faults.geometry import Arrangement
-from memcheck.faults.universe import CLASSES, Universe, class_size, enumerate_class, sample_class
+from memcheck.faults.universe import STATIC_CLASSES, Universe, class_size, enumerate_class, sample_class
 
-#: Fault classes the RTL model implements (all of memcheck's).
-RTL_CLASSES: tuple[str, ...] = CLASSES
+#: Fault classes the RTL model implements: every static class (the dynamic ones are not in the
+#: faulty Verilog memory yet).
+RTL_CLASSES: tuple[str, ...] = STATIC_CLASSES
 
 
 @dataclass(frozen=True)

@@ -16,7 +16,7 @@ from concurrent.futures import ProcessPoolExecutor, as_completed
 from dataclasses import dataclass
 from typing import Any, Literal
 
-from memcheck.bist.campaign.plan import Row, check_budget, plan_instances, rows_of, verdict_of
+from memcheck.bist.campaign.plan import RTL_CLASSES, Row, check_budget, plan_instances, rows_of, verdict_of
 from memcheck.bist.campaign.report import CampaignReport, InstanceOutcome, build_report
 from memcheck.bist.campaign.rtl import Harness, ShardJob, ShardResult, build_harness, run_shard
 from memcheck.bist.faulty_memory import MemoryShape, check_copies, default_copies
@@ -84,7 +84,7 @@ def prepare(spec: CampaignSpec) -> Prepared:
         )
     if spec.copies is not None:
         check_copies(spec.words, spec.copies)
-    classes = parse_classes(spec.classes)
+    classes = parse_classes(spec.classes) if spec.classes is not None else RTL_CLASSES
     universe = parse_universe(spec.universe, spec.seed)
     check_budget(setup, classes, universe)
     instances = plan_instances(setup, classes, universe)
