@@ -31,6 +31,7 @@ from memcheck.faults.fast import (
     simulate,
     sof_detection,
 )
+from memcheck.faults.figures import interval, percent
 from memcheck.faults.geometry import Arrangement
 from memcheck.faults.instances import (
     Cell,
@@ -43,6 +44,7 @@ from memcheck.faults.instances import (
     StuckOpenFault,
 )
 from memcheck.faults.primitives import FaultModel, models_of
+from memcheck.faults.sampling import sample_class
 from memcheck.faults.universe import (
     CLASSES,
     SCOPES,
@@ -57,7 +59,6 @@ from memcheck.faults.universe import (
     parse_classes,
     parse_universe,
     require_layout,
-    sample_class,
     sof_contexts,
     word_pair_key,
     word_pair_table,
@@ -166,10 +167,12 @@ class CoverageReport:
                 "detected": c.detected,
                 "partial": c.partial,
                 "coverage": c.coverage,
+                "coverage_text": percent(c.detected, c.faults),
                 "escaped": c.escaped,
             }
             if c.ci95 is not None:
                 entry["ci95"] = list(c.ci95)
+                entry["ci95_text"] = interval(*c.ci95)
             entry["by_model"] = {
                 b.label: {"faults": b.faults, "detected": b.detected, "partial": b.partial} for b in c.by_model
             }
@@ -413,7 +416,7 @@ def _tally_sample(t: MarchTest, setup: Arrangement, plan: Plan, cls_list: Sequen
     assert uni.size is not None
     tally = _Tally()
     for cls in cls_list:
-        inst = sample_class(cls, setup, uni.size, uni.seed)
+        inst = sample_class(cls, setup, uni.size, uni.seed, uni.base)
         for r in simulate(t, inst, setup, plan):
             g = _group_of(r)
             v = _DETECTIONS.index(r.verdict)
