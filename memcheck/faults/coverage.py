@@ -10,7 +10,6 @@ only: they are an engineering aid, not sign-off.
 
 from __future__ import annotations
 
-import math
 import time
 from collections.abc import Sequence
 from dataclasses import dataclass, field
@@ -32,6 +31,7 @@ from memcheck.faults.fast import (
     sof_detection,
 )
 from memcheck.faults.figures import interval, percent
+from memcheck.faults.figures import wilson_interval as wilson_interval
 from memcheck.faults.geometry import Arrangement
 from memcheck.faults.instances import (
     Cell,
@@ -72,23 +72,8 @@ DISCLAIMER = (
     "Verdicts cover the modelled fault models only (single faults, the fault primitives and read "
     "conventions in docs/faults.md); they are an engineering aid, not sign-off."
 )
-Z95 = 1.959963984540054
 NO_SCOPE = "-"
 _DETECTIONS: tuple[Detection, ...] = ("detected", "partial", "escaped")
-
-
-def wilson_interval(successes: int, trials: int, z: float = Z95) -> tuple[float, float]:
-    """Wilson score interval for a binomial proportion (E.B. Wilson, "Probable Inference, the Law of
-    Succession, and Statistical Inference", JASA 22, 1927)."""
-    if trials <= 0:
-        return 0.0, 1.0
-    p = successes / trials
-    denom = 1 + z * z / trials
-    centre = (p + z * z / (2 * trials)) / denom
-    half = z * math.sqrt(p * (1 - p) / trials + z * z / (4 * trials * trials)) / denom
-    lo = 0.0 if successes == 0 else max(0.0, centre - half)
-    hi = 1.0 if successes == trials else min(1.0, centre + half)
-    return lo, hi
 
 
 @dataclass(frozen=True)

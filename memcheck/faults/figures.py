@@ -17,6 +17,8 @@ from __future__ import annotations
 import math
 from fractions import Fraction
 
+#: z of a two-sided 95% normal interval.
+Z95 = 1.959963984540054
 #: Decimals a figure gets when nothing needs more.
 BASE_DECIMALS = 1
 #: Most decimals ever shown; beyond them a figure reads ">99.9999" or "<0.0001".
@@ -95,9 +97,29 @@ def interval(lo: float, hi: float, decimals: int = BASE_DECIMALS) -> str:
         if 0.0 < x < 1.0:
             frac = Fraction(x) * 100
             d = max(d, _decimals_for(frac, decimals) or MAX_DECIMALS)
+
+    def hides(d: int) -> bool:  # an inside bound that outward rounding would print as 0 or 100
+        return (lo > 0.0 and _bound(lo, d, up=False) == "0") or (hi < 1.0 and _bound(hi, d, up=True) == "100")
+
+    while d < MAX_DECIMALS and hides(d):
+        d += 1
     return f"{_bound(lo, d, up=False)}-{_bound(hi, d, up=True)}"
 
 
 def is_complete(part: int, whole: int) -> bool:
     """True when nothing escapes (the only case a figure may read 100)."""
     return whole > 0 and part == whole
+
+
+def wilson_interval(successes: int, trials: int, z: float = Z95) -> tuple[float, float]:
+    """Wilson score interval for a binomial proportion (E.B. Wilson, "Probable Inference, the Law of
+    Succession, and Statistical Inference", JASA 22, 1927)."""
+    if trials <= 0:
+        return 0.0, 1.0
+    p = successes / trials
+    denom = 1 + z * z / trials
+    centre = (p + z * z / (2 * trials)) / denom
+    half = z * math.sqrt(p * (1 - p) / trials + z * z / (4 * trials * trials)) / denom
+    lo = 0.0 if successes == 0 else max(0.0, centre - half)
+    hi = 1.0 if successes == trials else min(1.0, centre + half)
+    return lo, hi

@@ -128,7 +128,11 @@ def sample_numbers(total: int, size: int, seed: int, stream: int) -> list[int]:
     if total < _NUMPY_LIMIT:
         rng = np.random.default_rng([seed, stream])
         return [int(i) for i in np.sort(rng.choice(total, size=size, replace=False))]
-    return sorted(random.Random(f"memcheck-sample:{seed}:{stream}").sample(range(total), size))
+    big = random.Random(f"memcheck-sample:{seed}:{stream}")
+    picks: set[int] = set()
+    while len(picks) < size:  # rejection of repeats: uniform over subsets, and size << total here
+        picks.add(big.randrange(total))
+    return sorted(picks)
 
 
 def sample_class(cls: str, setup: Arrangement, size: int, seed: int, kind: str = "all") -> list[FaultInstance]:

@@ -30,6 +30,7 @@ import numpy as np
 import numpy.typing as npt
 
 from memcheck.errors import FaultModelError
+from memcheck.faults.counts import count_keys, merge_counts, scaled
 from memcheck.faults.fast import af_relation, cell_relation
 from memcheck.faults.geometry import Arrangement, Resolved
 from memcheck.faults.instances import (
@@ -142,16 +143,6 @@ def require_layout(setup: Arrangement) -> tuple[int, int]:
 # ---------------------------------------------------------------------------------------------------
 
 
-def count_keys(keys: IntArray) -> tuple[IntArray, IntArray]:
-    """Distinct keys and how often each occurs."""
-    if keys.size and int(keys.max()) < (1 << 22) and int(keys.min()) >= 0:
-        c = np.bincount(keys)
-        nz = np.flatnonzero(c)
-        return nz.astype(np.int64), c[nz].astype(np.int64)
-    u, c = np.unique(keys, return_counts=True)
-    return u.astype(np.int64), c.astype(np.int64)
-
-
 def _onehot_cumsum(cls: IntArray, mask: npt.NDArray[np.bool_], ncls: int) -> IntArray:
     """Exclusive running count, per class, of the entries where ``mask`` holds."""
     h = np.zeros((len(cls), ncls), np.int64)
@@ -245,7 +236,7 @@ class WordPairTable:
 def cell_table(rs: Resolved) -> CellTable:
     codes = rs.class_codes()  # (nwc, width)
     per_class = np.bincount(rs.wclass, minlength=codes.shape[0])
-    u, c = _merge([codes.reshape(-1)], [np.repeat(per_class, codes.shape[1])])
+    u, c = merge_counts([codes.reshape(-1)], [np.repeat(per_class, codes.shape[1])])
     return CellTable(u, c)
 
 
@@ -258,37 +249,6 @@ def _unpack(keys: IntArray, counts: IntArray, ncode: int) -> PairTable:
     ca = (keys // ncode) % ncode
     rs_ = keys // (ncode * ncode)
     return PairTable(rs_ // 3, rs_ % 3, ca, cv, counts)
-
-
-#: Largest count kept in int64 arithmetic (headroom for one more addition).
-_SAFE = 1 << 62
-
-
-def _merge(keys: list[IntArray], counts: list[IntArray]) -> tuple[IntArray, IntArray]:
-    """Distinct keys and the exact sum of their counts (int64, or Python integers when a sum could
-    overflow int64: a 2**30-word memory has about 2**72 cell pairs)."""
-    if not keys:
-        z = np.zeros(0, np.int64)
-        return z, z
-    k = np.concatenate(keys)
-    c = np.concatenate(counts)
-    u, inv = np.unique(k, return_inverse=True)
-    inv = inv.reshape(-1)
-    if c.dtype != object and (c.size == 0 or int(c.max()) <= _SAFE // max(1, c.size)):
-        out = np.zeros(u.size, np.int64)
-    else:  # sums that could pass 2**63: Python integers, exact at any size
-        out = np.zeros(u.size, dtype=object)
-        c = c.astype(object)
-    np.add.at(out, inv, c)
-    return u, out
-
-
-def scaled(counts: IntArray, factor: int) -> IntArray:
-    """``counts * factor`` exactly: int64 while it cannot overflow, Python integers beyond."""
-    if counts.size == 0 or int(counts.max()) <= _SAFE // max(1, int(factor)):
-        return counts * int(factor)
-    out: IntArray = counts.astype(object) * int(factor)
-    return out
 
 
 def pair_table_all(rs: Resolved) -> PairTable:
@@ -323,7 +283,7 @@ def pair_table_all(rs: Resolved) -> PairTable:
                     u, cnt = count_keys(k)
                     keys.append(u)
                     counts.append(scaled(cnt, mult))
-    uk, uc = _merge(keys, counts)
+    uk, uc = merge_counts(keys, counts)
     return _unpack(uk, uc, ncode)
 
 
@@ -371,9 +331,9 @@ def pair_table_neighbours(rs: Resolved) -> PairTable:
         keys.append(u)
         counts.append(c)
         if len(keys) > 64:
-            merged = _merge(keys, counts)
+            merged = merge_counts(keys, counts)
             keys, counts = [merged[0]], [merged[1]]
-    u, c = _merge(keys, counts)
+    u, c = merge_counts(keys, counts)
     return _unpack(u, c, 1 << rs.nbg)
 
 
@@ -398,7 +358,7 @@ def word_pair_table(rs: Resolved, kind: str) -> WordPairTable:
         u, c = count_keys(k)
         keys.append(u)
         counts.append(c)
-    u, c = _merge(keys, counts)
+    u, c = merge_counts(keys, counts)
     return WordPairTable(u // (nwc * nwc), (u // nwc) % nwc, u % nwc, c)
 
 
