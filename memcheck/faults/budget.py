@@ -17,7 +17,7 @@ from memcheck.faults.universe import Universe
 #: Default ``--max-memory`` (bytes): 4 GiB.
 DEFAULT_MAX_MEMORY = 4 << 30
 _BASE = 200 << 20  # interpreter, numpy, tables
-_PER_WORD_RESOLVE = 72  # up, pos, addresses, parity code, classes (int64) + sort scratch
+_PER_WORD_RESOLVE = 128  # up, pos, addresses, parity code, classes (int64), sort scratch (measured)
 _PER_WORD_CLASS = 24  # per word and word class: the running counts of the pair counting
 _PER_CELL_NEIGHBOUR = 48  # the neighbour pair table, counted in row blocks
 _PER_SAMPLE = 4096  # one sampled instance and its simulation
@@ -43,13 +43,13 @@ def estimate_coverage(setup: Arrangement, universe: Universe, classes: tuple[str
         n = universe.size * len(classes)
         total += n * _PER_SAMPLE
         parts.append(f"{n:,} sampled instances")
-    else:
+    elif universe.kind == "all":
         wclasses = min(1 << nbg, words)
         total += words * wclasses * _PER_WORD_CLASS
-        parts.append(f"pair counting over {wclasses} word class(es)")
-        if universe.kind == "neighbours":
-            total += min(setup.cells, 1 << 24) * _PER_CELL_NEIGHBOUR
-            parts.append("neighbour pair tables in row blocks")
+        parts.append(f"pair counting over up to {wclasses} word class(es)")
+    else:
+        total += min(setup.cells, 1 << 22) * _PER_CELL_NEIGHBOUR
+        parts.append("neighbour pair tables in blocks of 2^22 cells")
     return Estimate(total, "; ".join(parts))
 
 
