@@ -35,7 +35,7 @@ out = {"estimate_gib": est.bytes / 2**30}
 try:
     check_budget(est, DEFAULT_MAX_MEMORY, "job", "--max-memory")
     rep = coverage("March SS", setup, classes=cls, universe=uni)
-    out["coverage"] = {c.cls: c.to_text() if hasattr(c, "to_text") else f"{c.detected}/{c.faults}" for c in rep.classes}
+    out["coverage"] = {c.cls: f"{c.detected}/{c.faults}" for c in rep.classes}
 except BudgetError as exc:
     out["refused"] = str(exc)[:160]
 out["seconds"] = time.perf_counter() - t0
@@ -53,9 +53,8 @@ def run(label: str, args: list[object]) -> None:
         return
     doc = json.loads(proc.stdout)
     what = f"refused ({doc['refused']})" if "refused" in doc else f"coverage {doc['coverage']}"
-    print(
-        f"{label}: {doc['seconds']:.1f} s, peak {doc['peak_mib']:.0f} MiB, estimate {doc['estimate_gib']:.2f} GiB; {what}"
-    )
+    cost = f"{doc['seconds']:.1f} s, peak {doc['peak_mib']:.0f} MiB, estimate {doc['estimate_gib']:.2f} GiB"
+    print(f"{label}: {cost}; {what}")
 
 
 def main() -> None:
