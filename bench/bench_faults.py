@@ -27,7 +27,8 @@ from memcheck.faults.coverage import CoverageReport, coverage
 from memcheck.faults.fast import simulate
 from memcheck.faults.geometry import Arrangement
 from memcheck.faults.reference import simulate_reference
-from memcheck.faults.universe import CLASSES, enumerate_class
+from memcheck.faults.sampling import enumerate_class
+from memcheck.faults.universe import CLASSES
 from memcheck.march.library import resolve_test
 
 T = TypeVar("T")

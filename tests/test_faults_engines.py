@@ -18,7 +18,8 @@ from memcheck.faults.geometry import Arrangement
 from memcheck.faults.instances import Cell, CellFault, CouplingFault, DecoderFault, StuckOpenFault
 from memcheck.faults.primitives import model_named
 from memcheck.faults.reference import simulate_reference
-from memcheck.faults.universe import CLASSES, enumerate_class, inversions_by_class
+from memcheck.faults.sampling import enumerate_class
+from memcheck.faults.universe import CLASSES, inversions_by_class
 from memcheck.march.library import resolve_test
 from memcheck.march.notation import parse_march
 from tests.fault_strategies import faults, setups, valid_tests

@@ -25,14 +25,8 @@ from memcheck.faults.primitives import (
     settle,
     victim_op,
 )
-from memcheck.faults.universe import (
-    CLASSES,
-    class_size,
-    enumerate_class,
-    parse_classes,
-    parse_universe,
-    sample_class,
-)
+from memcheck.faults.sampling import class_size, enumerate_class, sample_class
+from memcheck.faults.universe import CLASSES, parse_classes, parse_universe
 
 
 def test_two_cell_static_primitives_are_the_36_of_the_taxonomy() -> None:

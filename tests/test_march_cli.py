@@ -78,7 +78,7 @@ def test_patterns_to_file_with_notation_layout_and_lfsr(tmp_path: Path, capsys: 
     assert rc == 0
     doc = json.loads(target.read_text())
     assert doc["words"] == 8 and doc["layout"] == [4, 2] and doc["order"] == "lfsr" and doc["seed"] == 11
-    assert doc["operations"] == 4 * 8
+    assert doc["operations"] == 4 * 8 * 4  # the default for 8-bit words is the standard set: std0..std3
     assert "seed 11" in err  # the seed of the pseudo-random order is printed
 
 
@@ -91,7 +91,7 @@ def test_console_script_exit_codes(tmp_path: Path) -> None:
         timeout=60,
     )
     assert ok.returncode == 0, ok.stderr
-    assert (tmp_path / "c.hex").read_text() == render(expand("March C-", 16, 8, seed=5), "hex")
+    assert (tmp_path / "c.hex").read_text() == render(expand("March C-", 16, 8, seed=5, backgrounds="standard"), "hex")
     bad = subprocess.run(
         [*exe, "patterns", "{up(r2)}", "--words", "16", "--width", "8"], capture_output=True, text=True, timeout=60
     )

@@ -3,96 +3,52 @@ given memory, and why some escape."""
 
 from __future__ import annotations
 
-import contextlib
 import json
-import textwrap
 
 import click
-from rich.console import Console
-from rich.table import Table
 
 from memcheck._atomic import write_text_atomic
 from memcheck.cli import cli
+from memcheck.cli._coverage_text import claims_of, class_grid, compare_grid, escape_lines
 from memcheck.cli._options import add_hidden_alias, address_order_options, resolve_seed, seed_option
-from memcheck.cli.march_cmds import layout_and_words, march_group
-from memcheck.errors import FaultModelError, UsageError
+from memcheck.cli._params import SIZE, SizeType
+from memcheck.cli._tables import TABLE_FORMATS, render, terminal_width
+from memcheck.cli.march_cmds import (
+    dft_test_options,
+    layout_and_words,
+    load_tests,
+    march_group,
+    warn,
+)
+from memcheck.errors import UsageError
+from memcheck.faults.budget import DEFAULT_MAX_MEMORY, check_budget, estimate_coverage
+from memcheck.faults.checks import check_claims, universe_hint
 from memcheck.faults.coverage import DISCLAIMER, CoverageReport, coverage
 from memcheck.faults.geometry import Arrangement
-from memcheck.faults.primitives import model_named
 from memcheck.faults.universe import CLASSES, parse_classes, parse_universe
+from memcheck.march.backgrounds import resolve_backgrounds
+from memcheck.march.timing import march_time
+from memcheck.march.userlib import UserTest
 
 
-def _pct(x: float) -> str:
-    return f"{100 * x:.1f}"
-
-
-def _class_table(rep: CoverageReport) -> Table:
-    sample = rep.universe.kind == "sample"
-    t = Table()
-    for col in ("class", "instances", "detected", "escaped", "partial", "coverage %") + (("95% CI",) if sample else ()):
-        t.add_column(col, justify="left" if col == "class" else "right")
-    for c in rep.classes:
-        row = [c.cls, f"{c.faults:,}", f"{c.detected:,}", f"{c.escaped:,}", f"{c.partial:,}", _pct(c.coverage)]
-        if sample:
-            lo, hi = c.ci95 or (0.0, 1.0)
-            row.append(f"{_pct(lo)}-{_pct(hi)}")
-        style = None if c.coverage == 1.0 else ("yellow" if c.coverage > 0 else "red")
-        t.add_row(*row, style=style)
-    return t
-
-
-def _escape_lines(rep: CoverageReport, limit: int) -> list[str]:
-    """The fault models that escape, each with one example and the witness of why."""
-    groups = list(rep.escapes)
-    if not groups or limit <= 0:
-        return []
+def _report_lines(rep: CoverageReport, fmt: str, clock: float, pause: float, library: tuple[UserTest, ...]) -> str:
+    """Heading (notation, test time, compute time), the class table, claims checked."""
+    tt = march_time(rep.test, rep.setup.words, len(rep.backgrounds), clock, pause)
     lines = [
-        f"Escapes: {len(groups)} fault model(s) are not always detected"
-        + (f" (first {limit} shown; --escapes N for more)" if len(groups) > limit else "")
-        + ":"
+        f"\n{rep.label}  {rep.notation}",
+        f"  {rep.test.length}n; {tt.text()}; computed in {rep.seconds:.2f} s",
+        render(class_grid(rep), fmt),
     ]
-    for g in groups[:limit]:
-        notation = ""
-        with contextlib.suppress(FaultModelError):
-            notation = " " + model_named(g.model).notation
-        where = "" if g.scope == "-" else f", {g.scope}"
-        lines.append(
-            f"  {g.cls} {g.model}{notation}{where}: {g.escaped:,} escaped, {g.partial:,} detected only "
-            "from some power-up states"
-        )
-        if g.example is not None:
-            lines.append(
-                textwrap.fill(
-                    f"e.g. {g.example.fault.describe()}", 100, initial_indent="    ", subsequent_indent="      "
-                )
-            )
-            if g.example.witness is not None:
-                lines.append(
-                    textwrap.fill(
-                        g.example.witness.describe(rep.test), 100, initial_indent="    ", subsequent_indent="      "
-                    )
-                )
-    return lines
-
-
-def _compare_table(reports: list[CoverageReport]) -> Table:
-    t = Table()
-    t.add_column("class")
-    for r in reports:
-        t.add_column(f"{r.label} ({r.test.length}n)", justify="right")
-    for i, c in enumerate(reports[0].classes):
-        cells = []
-        for r in reports:
-            rc = r.classes[i]
-            part = f" ({_pct(rc.partial / rc.faults)})" if rc.partial and rc.faults else ""
-            cells.append(_pct(rc.coverage) + part)
-        t.add_row(c.cls, *cells)
-    return t
+    checks = [c for c in check_claims(rep, claims_of(rep.test, library)) if c.status != "not measured"]
+    if checks:
+        lines.append("Claims against this measurement (this geometry and fault models only):")
+        lines += [f"  {c.describe()}" for c in checks]
+    return "\n".join(lines)
 
 
 @march_group.command("coverage")
 @click.argument("tests", nargs=-1, required=True, metavar="TEST")
-@click.option("--words", type=click.IntRange(min=1), help="Number of words (default: rows x cols of --layout).")
+@click.option("--words", type=SIZE, help="Number of words, K/M/G suffixes allowed (default: rows x cols of --layout).")
 @click.option(
     "--width", type=click.IntRange(1, 1024), default=1, show_default=True, help="Bits per word (1 = bit-oriented)."
 )
@@ -116,7 +72,11 @@ def _compare_table(reports: list[CoverageReport]) -> Table:
     help=f"Fault classes, comma-separated (default all: {','.join(CLASSES)}).",
 )
 @click.option(
-    "--universe", default="all", show_default=True, metavar="all|neighbours|sample:K", help="Which instances to count."
+    "--universe",
+    default="all",
+    show_default=True,
+    metavar="all|neighbours|sample:K[:neighbours]",
+    help="Which instances to count.",
 )
 @seed_option
 @click.option(
@@ -130,6 +90,17 @@ def _compare_table(reports: list[CoverageReport]) -> Table:
 @click.option(
     "--compare", is_flag=True, help="Compare several TESTs side by side: memcheck march coverage A B C --compare ..."
 )
+@click.option(
+    "--format", "fmt", type=click.Choice(TABLE_FORMATS), default="text", show_default=True, help="Table format."
+)
+@click.option(
+    "--max-memory",
+    type=SizeType(1),
+    default=DEFAULT_MAX_MEMORY,
+    show_default="4G",
+    help="Refuse a job whose estimated memory is larger (bytes, K/M/G suffixes).",
+)
+@dft_test_options
 @click.option("--json", "json_file", type=click.Path(dir_okay=False), default=None, help="Write a JSON report.")
 @click.option(
     "--plot", "plot_file", type=click.Path(dir_okay=False), default=None, help="Write a grouped bar chart (PNG)."
@@ -147,14 +118,22 @@ def coverage_cmd(
     seed: int | None,
     max_escapes: int,
     compare: bool,
+    fmt: str,
+    max_memory: int,
+    library: str | None,
+    name: str | None,
+    clock_mhz: float,
+    pause_ms: float,
     json_file: str | None,
     plot_file: str | None,
 ) -> None:
-    """Fault coverage of a March TEST (library name or notation) on a memory of --words x --width bits.
+    """Fault coverage of a March TEST (library name, NAME=NOTATION or notation) on a memory of
+    --words x --width bits.
 
     Prints a table per fault class (instances, detected, escaped, partial = detected only from some
-    power-up states, coverage %), then the fault models that escape with one example and its witness.
-    Give several TESTs with --compare to see them side by side.
+    power-up states, coverage %), the test time, the published claims checked against the
+    measurement, then the fault models that escape with one example and its witness. Give several
+    TESTs with --compare to see them side by side.
     """
     if len(tests) > 1 and not compare:
         raise UsageError(
@@ -175,25 +154,30 @@ def coverage_cmd(
     classes = parse_classes(fault_classes)
     uni = parse_universe(universe, used_seed)
     click.echo(f"{click.get_current_context().command_path}: seed {used_seed}")
-    reports = [coverage(t, setup, classes=classes, universe=uni) for t in tests]
-    console = Console(width=100)
+    user_lib, resolved = load_tests(tests, library, name)
+    nbg = len(resolve_backgrounds(setup.background_spec, width, lay))
+    check_budget(estimate_coverage(setup, uni, classes, nbg), max_memory, "this coverage job", "--max-memory")
+    for t in resolved:
+        warn(t)
+    reports = [coverage(t, setup, classes=classes, universe=uni) for t in resolved]
     first = reports[0]
-    bgs = ", ".join(first.backgrounds)
     lay_text = f", layout {lay[0]}x{lay[1]}" if lay else ""
-    console.print(
-        f"memory {words} words x {width} bit{'s' if width > 1 else ''}{lay_text}; order {order} (⇕ {any_order}); "
-        f"backgrounds {bgs}; universe {uni.label}"
+    click.echo(
+        f"memory {words:,} words x {width} bit{'s' if width > 1 else ''}{lay_text}; order {order} (⇕ {any_order}); "
+        f"backgrounds {', '.join(first.backgrounds)}; universe {uni.label}"
     )
     for rep in reports:
-        click.echo(f"\n{rep.label}  {rep.notation}  ({rep.test.length}n, {rep.seconds:.2f} s)")
-        console.print(_class_table(rep))
-        for line in _escape_lines(rep, max_escapes):
+        click.echo(_report_lines(rep, fmt, clock_mhz, pause_ms, user_lib))
+        for line in escape_lines(rep, max_escapes, min(120, terminal_width())):
             click.echo(line)
+        hint = universe_hint(rep) if fmt == "text" else None
+        if hint:
+            click.echo(hint)
     if len(reports) > 1:
         click.echo(
             "\nCoverage % side by side (guaranteed detection; detected only from some power-up states in brackets):"
         )
-        console.print(_compare_table(reports))
+        click.echo(render(compare_grid(reports), fmt))
     click.echo(DISCLAIMER)
     if json_file:
         doc = first.to_json()

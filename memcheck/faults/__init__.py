@@ -45,7 +45,8 @@ from memcheck.faults.primitives import (
     models_of,
 )
 from memcheck.faults.reference import simulate_reference
-from memcheck.faults.universe import CLASSES, Universe, enumerate_class, parse_universe, sample_class
+from memcheck.faults.sampling import enumerate_class, sample_class
+from memcheck.faults.universe import CLASSES, Universe, parse_universe
 
 __all__ = [
     "ALL_MODELS",

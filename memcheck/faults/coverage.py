@@ -10,7 +10,6 @@ only: they are an engineering aid, not sign-off.
 
 from __future__ import annotations
 
-import math
 import time
 from collections.abc import Sequence
 from dataclasses import dataclass, field
@@ -31,6 +30,8 @@ from memcheck.faults.fast import (
     simulate,
     sof_detection,
 )
+from memcheck.faults.figures import interval, percent
+from memcheck.faults.figures import wilson_interval as wilson_interval
 from memcheck.faults.geometry import Arrangement
 from memcheck.faults.instances import (
     Cell,
@@ -43,6 +44,7 @@ from memcheck.faults.instances import (
     StuckOpenFault,
 )
 from memcheck.faults.primitives import FaultModel, models_of
+from memcheck.faults.sampling import sample_class
 from memcheck.faults.universe import (
     CLASSES,
     SCOPES,
@@ -57,7 +59,6 @@ from memcheck.faults.universe import (
     parse_classes,
     parse_universe,
     require_layout,
-    sample_class,
     sof_contexts,
     word_pair_key,
     word_pair_table,
@@ -71,23 +72,8 @@ DISCLAIMER = (
     "Verdicts cover the modelled fault models only (single faults, the fault primitives and read "
     "conventions in docs/faults.md); they are an engineering aid, not sign-off."
 )
-Z95 = 1.959963984540054
 NO_SCOPE = "-"
 _DETECTIONS: tuple[Detection, ...] = ("detected", "partial", "escaped")
-
-
-def wilson_interval(successes: int, trials: int, z: float = Z95) -> tuple[float, float]:
-    """Wilson score interval for a binomial proportion (E.B. Wilson, "Probable Inference, the Law of
-    Succession, and Statistical Inference", JASA 22, 1927)."""
-    if trials <= 0:
-        return 0.0, 1.0
-    p = successes / trials
-    denom = 1 + z * z / trials
-    centre = (p + z * z / (2 * trials)) / denom
-    half = z * math.sqrt(p * (1 - p) / trials + z * z / (4 * trials * trials)) / denom
-    lo = 0.0 if successes == 0 else max(0.0, centre - half)
-    hi = 1.0 if successes == trials else min(1.0, centre + half)
-    return lo, hi
 
 
 @dataclass(frozen=True)
@@ -166,10 +152,12 @@ class CoverageReport:
                 "detected": c.detected,
                 "partial": c.partial,
                 "coverage": c.coverage,
+                "coverage_text": percent(c.detected, c.faults),
                 "escaped": c.escaped,
             }
             if c.ci95 is not None:
                 entry["ci95"] = list(c.ci95)
+                entry["ci95_text"] = interval(*c.ci95)
             entry["by_model"] = {
                 b.label: {"faults": b.faults, "detected": b.detected, "partial": b.partial} for b in c.by_model
             }
@@ -413,7 +401,7 @@ def _tally_sample(t: MarchTest, setup: Arrangement, plan: Plan, cls_list: Sequen
     assert uni.size is not None
     tally = _Tally()
     for cls in cls_list:
-        inst = sample_class(cls, setup, uni.size, uni.seed)
+        inst = sample_class(cls, setup, uni.size, uni.seed, uni.base)
         for r in simulate(t, inst, setup, plan):
             g = _group_of(r)
             v = _DETECTIONS.index(r.verdict)

@@ -1,7 +1,8 @@
 """Grouped bar chart of coverage per fault class, one bar per test, readable without the table.
 
 Solid bars are guaranteed detections; the hatched extension on top is "detected only from some
-power-up states"; sample universes get Wilson 95% error bars.
+power-up states"; sample universes get Wilson 95% error bars. Bar labels follow
+:mod:`memcheck.faults.figures` (100 only when nothing escapes, 0 only when nothing is detected).
 """
 
 from __future__ import annotations
@@ -12,6 +13,7 @@ from pathlib import Path
 
 from memcheck._atomic import write_bytes_atomic
 from memcheck.faults.coverage import DISCLAIMER, CoverageReport
+from memcheck.faults.figures import percent
 
 
 def plot_coverage(reports: Sequence[CoverageReport], path: str | Path) -> Path:
@@ -38,11 +40,12 @@ def plot_coverage(reports: Sequence[CoverageReport], path: str | Path) -> Path:
             lo = [max(0.0, det[j] - 100 * (rep[c].ci95 or (0, 0))[0]) for j, c in enumerate(classes)]
             hi = [max(0.0, 100 * (rep[c].ci95 or (0, 0))[1] - det[j]) for j, c in enumerate(classes)]
             ax.errorbar(xs, det, yerr=[lo, hi], fmt="none", ecolor="black", elinewidth=0.8, capsize=2)
-        for x, d, p in zip(xs, det, part, strict=True):
+        labels = [percent(rep[c].detected, rep[c].faults) for c in classes]
+        for x, d, p, label in zip(xs, det, part, labels, strict=True):
             ax.text(
                 x,
                 min(d + p, 100) + 1.5,
-                f"{d:.0f}",
+                label,
                 ha="center",
                 va="bottom",
                 fontsize=6.5,

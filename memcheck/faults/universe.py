@@ -7,7 +7,9 @@
                 words next to it in the rows x columns word grid (adjacent word lines or mux
                 selects);
 ``sample:K``    K instances per fault class drawn without replacement, uniformly from the ``all``
-                universe, with a seeded generator; coverage then carries a Wilson 95% interval.
+                universe, with a seeded generator; coverage then carries a Wilson 95% interval;
+``sample:K:neighbours``  the same drawn from the ``neighbours`` universe
+                (:mod:`memcheck.faults.sampling` builds only the drawn instances).
 
 For ``all`` and ``neighbours`` nothing is enumerated one instance at a time: the fast engine only needs
 how many instances share a relation and cell signatures (see :mod:`memcheck.faults.fast`), and those
@@ -28,17 +30,12 @@ import numpy as np
 import numpy.typing as npt
 
 from memcheck.errors import FaultModelError
-from memcheck.faults.fast import AF_VARIANTS, af_relation, cell_relation
+from memcheck.faults.counts import count_keys, merge_counts, scaled
+from memcheck.faults.fast import af_relation, cell_relation
 from memcheck.faults.geometry import Arrangement, Resolved
 from memcheck.faults.instances import (
     Cell,
-    CellFault,
-    CouplingFault,
-    DecoderFault,
-    FaultInstance,
-    StuckOpenFault,
 )
-from memcheck.faults.primitives import models_of
 from memcheck.march.library import FAULT_CLASSES
 
 IntArray = npt.NDArray[np.int64]
@@ -61,14 +58,18 @@ class Universe:
     kind: Literal["all", "neighbours", "sample"]
     size: int | None = None
     seed: int = DEFAULT_SEED
+    base: Literal["all", "neighbours"] = "all"
 
     @property
     def label(self) -> str:
-        return f"sample:{self.size}" if self.kind == "sample" else self.kind
+        if self.kind != "sample":
+            return self.kind
+        return f"sample:{self.size}" + (":neighbours" if self.base == "neighbours" else "")
 
 
 def parse_universe(text: str | Universe, seed: int | None = None) -> Universe:
-    """``all``, ``neighbours`` (or ``neighbors``) or ``sample:K``."""
+    """``all``, ``neighbours`` (or ``neighbors``), ``sample:K`` or ``sample:K:neighbours``; K may carry a
+    K/M suffix (``sample:100K``)."""
     if isinstance(text, Universe):
         return text
     t = text.strip().lower()
@@ -77,9 +78,22 @@ def parse_universe(text: str | Universe, seed: int | None = None) -> Universe:
         return Universe("all", seed=s)
     if t in ("neighbours", "neighbors"):
         return Universe("neighbours", seed=s)
-    if t.startswith("sample:") and t[7:].isdigit() and int(t[7:]) > 0:
-        return Universe("sample", int(t[7:]), s)
-    raise FaultModelError(f"unknown fault universe {text!r}: use all, neighbours or sample:K (K a positive count)")
+    parts = t.split(":")
+    if parts[0] == "sample" and len(parts) in (2, 3):
+        size = _sample_size(parts[1])
+        base = parts[2] if len(parts) == 3 else "all"
+        if size is not None and base in ("all", "neighbours", "neighbors"):
+            return Universe("sample", size, s, "all" if base == "all" else "neighbours")
+    raise FaultModelError(
+        f"unknown fault universe {text!r}: use all, neighbours, sample:K or sample:K:neighbours "
+        "(K a positive count, e.g. 2000 or 100K)"
+    )
+
+
+def _sample_size(text: str) -> int | None:
+    mult = {"k": 1 << 10, "m": 1 << 20}.get(text[-1:], 1)
+    digits = text[:-1] if mult > 1 else text
+    return int(digits) * mult if digits.isdigit() and int(digits) > 0 else None
 
 
 def class_named(name: str) -> str:
@@ -122,16 +136,6 @@ def require_layout(setup: Arrangement) -> tuple[int, int]:
 # ---------------------------------------------------------------------------------------------------
 # Counting helpers
 # ---------------------------------------------------------------------------------------------------
-
-
-def count_keys(keys: IntArray) -> tuple[IntArray, IntArray]:
-    """Distinct keys and how often each occurs."""
-    if keys.size and int(keys.max()) < (1 << 22) and int(keys.min()) >= 0:
-        c = np.bincount(keys)
-        nz = np.flatnonzero(c)
-        return nz.astype(np.int64), c[nz].astype(np.int64)
-    u, c = np.unique(keys, return_counts=True)
-    return u.astype(np.int64), c.astype(np.int64)
 
 
 def _onehot_cumsum(cls: IntArray, mask: npt.NDArray[np.bool_], ncls: int) -> IntArray:
@@ -227,7 +231,7 @@ class WordPairTable:
 def cell_table(rs: Resolved) -> CellTable:
     codes = rs.class_codes()  # (nwc, width)
     per_class = np.bincount(rs.wclass, minlength=codes.shape[0])
-    u, c = _merge([codes.reshape(-1)], [np.repeat(per_class, codes.shape[1])])
+    u, c = merge_counts([codes.reshape(-1)], [np.repeat(per_class, codes.shape[1])])
     return CellTable(u, c)
 
 
@@ -240,16 +244,6 @@ def _unpack(keys: IntArray, counts: IntArray, ncode: int) -> PairTable:
     ca = (keys // ncode) % ncode
     rs_ = keys // (ncode * ncode)
     return PairTable(rs_ // 3, rs_ % 3, ca, cv, counts)
-
-
-def _merge(keys: list[IntArray], counts: list[IntArray]) -> tuple[IntArray, IntArray]:
-    if not keys:
-        z = np.zeros(0, np.int64)
-        return z, z
-    k = np.concatenate(keys)
-    c = np.concatenate(counts)
-    u, inv = np.unique(k, return_inverse=True)
-    return u, np.bincount(inv.reshape(-1), weights=c.astype(float)).round().astype(np.int64)
 
 
 def pair_table_all(rs: Resolved) -> PairTable:
@@ -269,7 +263,7 @@ def pair_table_all(rs: Resolved) -> PairTable:
             )
             u, cnt = count_keys(k)
             keys.append(u)
-            counts.append(cnt * n_words[c])
+            counts.append(scaled(cnt, int(n_words[c])))
     n = word_pair_counts(rs)
     for posrel in (0, 1):
         for addrrel in (0, 1):
@@ -283,33 +277,39 @@ def pair_table_all(rs: Resolved) -> PairTable:
                     k = _pack(np.full(ca.size, 2 + posrel), np.full(ca.size, 1 + addrrel), ca, cv, ncode)
                     u, cnt = count_keys(k)
                     keys.append(u)
-                    counts.append(cnt * mult)
-    uk, uc = _merge(keys, counts)
+                    counts.append(scaled(cnt, mult))
+    uk, uc = merge_counts(keys, counts)
     return _unpack(uk, uc, ncode)
 
 
-def _offset_grid(rows: int, cols: int, dr: int, dc: int) -> tuple[IntArray, IntArray] | None:
-    """Row and column of every grid point whose neighbour at (dr, dc) is inside the grid, row-major;
-    None when there is none."""
-    r = np.arange(max(0, -dr), rows - max(0, dr), dtype=np.int64)
+#: Cells per batch of neighbour pairs: bounds the memory of the neighbour universe at any size.
+BLOCK_CELLS = 1 << 22
+
+
+def _offset_grid(
+    rows: int, cols: int, dr: int, dc: int, block_cells: int = BLOCK_CELLS
+) -> Iterator[tuple[IntArray, IntArray]]:
+    """Row and column of every grid point whose neighbour at (dr, dc) is inside the grid, row-major,
+    in blocks of whole rows of about ``block_cells`` points."""
+    r0, r1 = max(0, -dr), rows - max(0, dr)
     c = np.arange(max(0, -dc), cols - max(0, dc), dtype=np.int64)
-    if r.size == 0 or c.size == 0:
-        return None
-    return np.repeat(r, c.size), np.tile(c, r.size)
+    if r1 <= r0 or c.size == 0:
+        return
+    step = max(1, block_cells // c.size)
+    for start in range(r0, r1, step):
+        r = np.arange(start, min(r1, start + step), dtype=np.int64)
+        yield np.repeat(r, c.size), np.tile(c, r.size)
 
 
 def neighbour_pairs(setup: Arrangement) -> Iterator[tuple[IntArray, IntArray, IntArray, IntArray]]:
-    """(aggressor word, aggressor bit, victim word, victim bit) arrays, one batch per neighbour offset,
-    victims in physical row-major order."""
+    """(aggressor word, aggressor bit, victim word, victim bit) arrays in batches, per neighbour
+    offset, victims in physical row-major order."""
     rows, cols = require_layout(setup)
     pcols = setup.width * cols
     for dr, dc in CELL_OFFSETS:
-        grid = _offset_grid(rows, pcols, dr, dc)
-        if grid is None:
-            continue
-        rv, pv = grid
-        ra, pa = rv + dr, pv + dc
-        yield ra * cols + pa % cols, pa // cols, rv * cols + pv % cols, pv // cols
+        for rv, pv in _offset_grid(rows, pcols, dr, dc):
+            ra, pa = rv + dr, pv + dc
+            yield ra * cols + pa % cols, pa // cols, rv * cols + pv % cols, pv // cols
 
 
 def _pair_keys(rs: Resolved, wa: IntArray, ba: IntArray, wv: IntArray, bv: IntArray) -> IntArray:
@@ -322,21 +322,21 @@ def pair_table_neighbours(rs: Resolved) -> PairTable:
     keys: list[IntArray] = []
     counts: list[IntArray] = []
     for wa, ba, wv, bv in neighbour_pairs(rs.setup):
-        u, c = np.unique(_pair_keys(rs, wa, ba, wv, bv), return_counts=True)
+        u, c = count_keys(_pair_keys(rs, wa, ba, wv, bv))
         keys.append(u)
         counts.append(c)
-    u, c = _merge(keys, counts)
+        if len(keys) > 64:
+            merged = merge_counts(keys, counts)
+            keys, counts = [merged[0]], [merged[1]]
+    u, c = merge_counts(keys, counts)
     return _unpack(u, c, 1 << rs.nbg)
 
 
 def word_neighbours(setup: Arrangement) -> Iterator[tuple[IntArray, IntArray]]:
     rows, cols = require_layout(setup)
     for dr, dc in WORD_OFFSETS:
-        grid = _offset_grid(rows, cols, dr, dc)
-        if grid is None:
-            continue
-        rx, cx = grid
-        yield rx * cols + cx, (rx + dr) * cols + cx + dc
+        for rx, cx in _offset_grid(rows, cols, dr, dc):
+            yield rx * cols + cx, (rx + dr) * cols + cx + dc
 
 
 def word_pair_table(rs: Resolved, kind: str) -> WordPairTable:
@@ -350,10 +350,10 @@ def word_pair_table(rs: Resolved, kind: str) -> WordPairTable:
     counts: list[IntArray] = []
     for x, y in word_neighbours(rs.setup):
         k = (af_relation(rs.pos, x, y) * nwc + rs.wclass[x]) * nwc + rs.wclass[y]
-        u, c = np.unique(k, return_counts=True)
+        u, c = count_keys(k)
         keys.append(u)
         counts.append(c)
-    u, c = _merge(keys, counts)
+    u, c = merge_counts(keys, counts)
     return WordPairTable(u // (nwc * nwc), (u // nwc) % nwc, u % nwc, c)
 
 
@@ -461,77 +461,3 @@ def sof_contexts(rs: Resolved) -> tuple[IntArray, IntArray]:
     key = ((special * (nwc + 1) + prev) * (nwc + 1) + nxt) * nwc + rs.wclass
     _, first, counts = np.unique(key, return_index=True, return_counts=True)
     return first.astype(np.int64), counts.astype(np.int64)
-
-
-# ---------------------------------------------------------------------------------------------------
-# Explicit instances (samples, and the whole universe of a small memory for tests)
-# ---------------------------------------------------------------------------------------------------
-
-
-def class_size(cls: str, setup: Arrangement) -> int:
-    """Instances of ``cls`` in the ``all`` universe."""
-    n, w = setup.cells, setup.words
-    if cls == "SOF":
-        return n
-    if cls == "AF":
-        return w + 5 * w * (w - 1)
-    models = models_of(cls)
-    return len(models) * (n * (n - 1) if models[0].two_cell else n)
-
-
-def instance_at(cls: str, setup: Arrangement, i: int) -> FaultInstance:
-    """Instance number ``i`` of ``cls`` in the ``all`` universe (a fixed enumeration)."""
-    n, width, words = setup.cells, setup.width, setup.words
-    if cls == "SOF":
-        return StuckOpenFault(Cell(*divmod(i, width)))
-    if cls == "AF":
-        if i < words:
-            return DecoderFault("no-cell", i)
-        i -= words
-        variant, j = divmod(i, words * (words - 1))
-        kind, wired = AF_VARIANTS[1 + variant]
-        x, r = divmod(j, words - 1)
-        return DecoderFault(kind, x, r + (r >= x), wired)
-    models = models_of(cls)
-    if not models[0].two_cell:
-        m, c = divmod(i, n)
-        return CellFault(models[m], Cell(*divmod(c, width)))
-    m, j = divmod(i, n * (n - 1))
-    a, r = divmod(j, n - 1)
-    v = r + (r >= a)
-    return CouplingFault(models[m], Cell(*divmod(a, width)), Cell(*divmod(v, width)))
-
-
-def enumerate_class(cls: str, setup: Arrangement, kind: str = "all") -> list[FaultInstance]:
-    """Every instance of ``cls`` in the ``all`` or ``neighbours`` universe (small memories only)."""
-    if kind == "all":
-        return [instance_at(cls, setup, i) for i in range(class_size(cls, setup))]
-    width = setup.width
-    cells = [Cell(w, b) for w in range(setup.words) for b in range(width)]
-    if cls == "SOF":
-        return [StuckOpenFault(c) for c in cells]
-    if cls == "AF":
-        out: list[FaultInstance] = [DecoderFault("no-cell", w) for w in range(setup.words)]
-        for kind_, wired in AF_VARIANTS[1:]:
-            for x, y in word_neighbours(setup):
-                out += [DecoderFault(kind_, int(a), int(b), wired) for a, b in zip(x, y, strict=True)]
-        return out
-    models = models_of(cls)
-    if not models[0].two_cell:
-        return [CellFault(m, c) for m in models for c in cells]
-    pairs = [
-        (Cell(int(a), int(b)), Cell(int(c), int(d)))
-        for wa, ba, wv, bv in neighbour_pairs(setup)
-        for a, b, c, d in zip(wa, ba, wv, bv, strict=True)
-    ]
-    return [CouplingFault(m, a, v) for m in models for a, v in pairs]
-
-
-def sample_class(cls: str, setup: Arrangement, size: int, seed: int) -> list[FaultInstance]:
-    """``size`` distinct instances of ``cls`` drawn uniformly (all of them when there are fewer)."""
-    total = class_size(cls, setup)
-    if total == 0:
-        return []
-    rng = np.random.default_rng([seed, CLASSES.index(cls)])
-    picks = np.arange(total) if size >= total else np.sort(rng.choice(total, size=size, replace=False))
-    return [instance_at(cls, setup, int(i)) for i in picks]

@@ -214,3 +214,16 @@ def write_export(stream: MarchStream, path: str | Path, fmt: str) -> Path:
         for piece in pieces:
             fh.write(piece)
     return target
+
+
+def estimate_bytes(stream: MarchStream, fmt: str) -> int:
+    """The size of the export in ``fmt`` without writing it (exact for hex, close for csv and json)."""
+    lay = hex_layout(stream)
+    pauses = stream.test.delays * len(stream.backgrounds)
+    ops = stream.total_ops
+    if fmt == "hex":
+        return 4096 + (lay.digits + 1) * (ops + pauses)
+    index_digits = len(str(max(ops, 1)))
+    words = lay.address_digits + 2 * lay.data_digits + 6  # three 0x-prefixed hex fields
+    per_line = index_digits + words + 16 if fmt == "csv" else index_digits + words + 24
+    return 4096 + per_line * ops + 64 * pauses

@@ -330,12 +330,23 @@ def algorithm_names() -> tuple[str, ...]:
     return tuple(a.name for a in ALGORITHMS)
 
 
+def suggest_names(name: str) -> list[str]:
+    """Library names close to ``name``: those whose key ends with or contains its key (``C-`` ->
+    ``March C-``), then difflib's close matches; at most three."""
+    key = _key(name)
+    names = algorithm_names()
+    out = [n for n in names if key and _key(n).endswith(key)]
+    out += [n for n in names if key and len(key) > 1 and key in _key(n) and n not in out]
+    out += [n for n in difflib.get_close_matches(name, names, n=3, cutoff=0.5) if n not in out]
+    return out[:3]
+
+
 def get_algorithm(name: str) -> MarchAlgorithm:
     """Look a library entry up by name (case, spaces and ``_`` ignored: ``march-c-``, ``March C-``)."""
     for a in ALGORITHMS:
         if _key(name) in (_key(k) for k in (a.name, *a.aliases)):
             return a
-    close = difflib.get_close_matches(name, algorithm_names(), n=3, cutoff=0.5)
+    close = suggest_names(name)
     hint = f" Did you mean {' or '.join(close)}?" if close else ""
     raise UnknownAlgorithm(
         f"{name!r} is not a March algorithm in the library ({', '.join(algorithm_names())}) and not March "

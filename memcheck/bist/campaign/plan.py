@@ -23,7 +23,8 @@ from memcheck.faults import (
     StuckOpenFault,
 )
 from memcheck.faults.geometry import Arrangement
-from memcheck.faults.universe import STATIC_CLASSES, Universe, class_size, enumerate_class, sample_class
+from memcheck.faults.sampling import class_size, enumerate_class, sample_class
+from memcheck.faults.universe import STATIC_CLASSES, Universe
 
 #: Fault classes the RTL model implements: every static class (the dynamic ones are not in the
 #: faulty Verilog memory yet).
@@ -97,7 +98,7 @@ def plan_instances(
             raise BistError(f"the RTL fault model does not implement class {cls!r} (it has {', '.join(RTL_CLASSES)})")
         if universe.kind == "sample":
             assert universe.size is not None
-            found = sample_class(cls, setup, universe.size, universe.seed)
+            found = sample_class(cls, setup, universe.size, universe.seed, universe.base)
         else:
             found = enumerate_class(cls, setup, universe.kind)
         out.append((cls, found))

@@ -1,0 +1,75 @@
+"""DFT workflow benchmark (issue 12): each job in its own process, wall time and peak memory printed.
+
+(a) ``coverage "March SS"`` with ``sample:100000`` on a 1 Gword x 64 memory with layout 32Kx32K
+    (target <= 60 s, 2 GB): measured as the budget decision (estimate and refusal), since the fast
+    engine still resolves per-word arrays of the whole memory;
+(b) the same sample job on the 16 Mword x 64 memory of the OverflowError (sample:2000, CFst,CFds,AF);
+(c) neighbour universe, exact, 128 Mbit (2 Mword x 64, layout 4096x512), March SS, two-cell
+    classes and AF (target <= 60 s, 4 GB);
+(d) diagnose on 1 Mbit with 10 failing operations (target <= 10 s): not built yet, printed as such.
+
+Run: .venv/bin/python bench/bench_dft.py [--quick]   (--quick shrinks (c) to 8 Mbit)
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import subprocess
+import sys
+
+_JOB = """
+import json, resource, sys, time
+from memcheck.errors import BudgetError
+from memcheck.faults.budget import DEFAULT_MAX_MEMORY, check_budget, estimate_coverage
+from memcheck.faults.coverage import coverage
+from memcheck.faults.geometry import Arrangement
+from memcheck.faults.universe import parse_classes, parse_universe
+words, width, rows, cols, universe, classes = json.loads(sys.argv[1])
+setup = Arrangement(words, width, layout=(rows, cols), seed=1)
+uni = parse_universe(universe, 1)
+cls = parse_classes(classes)
+t0 = time.perf_counter()
+est = estimate_coverage(setup, uni, cls, 7)
+out = {"estimate_gib": est.bytes / 2**30}
+try:
+    check_budget(est, DEFAULT_MAX_MEMORY, "job", "--max-memory")
+    rep = coverage("March SS", setup, classes=cls, universe=uni)
+    out["coverage"] = {c.cls: f"{c.detected}/{c.faults}" for c in rep.classes}
+except BudgetError as exc:
+    out["refused"] = str(exc)[:160]
+out["seconds"] = time.perf_counter() - t0
+out["peak_mib"] = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
+print(json.dumps(out))
+"""
+
+
+def run(label: str, args: list[object]) -> None:
+    proc = subprocess.run(
+        [sys.executable, "-c", _JOB, json.dumps(args)], capture_output=True, text=True, check=False, timeout=900
+    )
+    if proc.returncode != 0:
+        print(f"{label}: failed: {proc.stderr.strip().splitlines()[-1:]}")
+        return
+    doc = json.loads(proc.stdout)
+    what = f"refused ({doc['refused']})" if "refused" in doc else f"coverage {doc['coverage']}"
+    cost = f"{doc['seconds']:.1f} s, peak {doc['peak_mib']:.0f} MiB, estimate {doc['estimate_gib']:.2f} GiB"
+    print(f"{label}: {cost}; {what}")
+
+
+def main() -> None:
+    ap = argparse.ArgumentParser(description=__doc__)
+    ap.add_argument("--quick", action="store_true")
+    quick = ap.parse_args().quick
+    run("(a) 1 Gword x 64, sample:100000", [1 << 30, 64, 1 << 15, 1 << 15, "sample:100000", None])
+    run("(b) 16 Mword x 64, sample:2000", [1 << 24, 64, 4096, 4096, "sample:2000", "CFst,CFds,AF"])
+    words, rows, cols = ((1 << 17), 512, 256) if quick else ((1 << 21), 4096, 512)
+    run(
+        f"(c) neighbours exact, {words * 64 >> 20} Mbit",
+        [words, 64, rows, cols, "neighbours", "CFst,CFds,CFtr,CFwd,CFrd,CFdrd,CFir,CFin,CFid,AF"],
+    )
+    print("(d) diagnose, 1 Mbit, 10 failing operations: not built yet")
+
+
+if __name__ == "__main__":
+    main()

@@ -1,0 +1,68 @@
+"""Memory estimates before a coverage job, so a huge job is refused with a figure instead of being
+killed by the operating system.
+
+The figures are upper estimates of peak memory measured on this implementation (bytes per word
+of the per-word arrays the fast engine resolves, bytes per cell of the neighbour pair tables, bytes
+per sampled instance) plus a fixed interpreter share; they are estimates, printed as such.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from memcheck.errors import BudgetError
+from memcheck.faults.geometry import Arrangement
+from memcheck.faults.universe import Universe
+
+#: Default ``--max-memory`` (bytes): 4 GiB.
+DEFAULT_MAX_MEMORY = 4 << 30
+_BASE = 200 << 20  # interpreter, numpy, tables
+_PER_WORD_RESOLVE = 128  # up, pos, addresses, parity code, classes (int64), sort scratch (measured)
+_PER_WORD_CLASS = 24  # per word and word class: the running counts of the pair counting
+_PER_CELL_NEIGHBOUR = 48  # the neighbour pair table, counted in row blocks
+_PER_SAMPLE = 4096  # one sampled instance and its simulation
+
+
+@dataclass(frozen=True)
+class Estimate:
+    """Estimated peak memory of one coverage job, in bytes, and what it is made of."""
+
+    bytes: int
+    detail: str
+
+
+def estimate_coverage(setup: Arrangement, universe: Universe, classes: tuple[str, ...], nbg: int) -> Estimate:
+    """Peak memory of ``coverage`` on ``setup`` over ``universe`` for ``classes`` with ``nbg``
+    backgrounds (``nbg`` also bounds the number of word classes, at most ``2**nbg``)."""
+    words = setup.words
+    resolve = words * (_PER_WORD_RESOLVE + nbg)
+    total = _BASE + resolve
+    parts = [f"{words:,} words x {_PER_WORD_RESOLVE + nbg} B for the address order and backgrounds"]
+    if universe.kind == "sample":
+        assert universe.size is not None
+        n = universe.size * len(classes)
+        total += n * _PER_SAMPLE
+        parts.append(f"{n:,} sampled instances")
+    elif universe.kind == "all":
+        wclasses = min(1 << nbg, words)
+        total += words * wclasses * _PER_WORD_CLASS
+        parts.append(f"pair counting over up to {wclasses} word class(es)")
+    else:
+        total += min(setup.cells, 1 << 22) * _PER_CELL_NEIGHBOUR
+        parts.append("neighbour pair tables in blocks of 2^22 cells")
+    return Estimate(total, "; ".join(parts))
+
+
+def check_budget(estimate: Estimate, limit: int, what: str, option: str) -> None:
+    """Raise :class:`BudgetError` when ``estimate`` exceeds ``limit`` bytes, naming the option that
+    allows it."""
+    if estimate.bytes > limit:
+        raise BudgetError(
+            f"{what} needs an estimated {gib(estimate.bytes)} of memory ({estimate.detail}), more than the "
+            f"limit of {gib(limit)}; raise it with {option} {-(-estimate.bytes // (1 << 30))}G if the machine "
+            "has that much, or measure a smaller memory or a sample (--universe sample:K)"
+        )
+
+
+def gib(n: int) -> str:
+    return f"{n / (1 << 30):.1f} GiB"
