@@ -36,6 +36,7 @@ __all__ = [
     "expected",
     "expected_rows",
     "mismatch",
+    "require_supported",
     "unsupported",
     "validate",
 ]
@@ -58,6 +59,13 @@ def unsupported(contract: Contract) -> str | None:
     if contract.power is not None:
         return "it has [power] pins"
     return None
+
+
+def require_supported(contract: Contract) -> None:
+    """Raise :class:`FastModelUnsupported` (with the reason) unless :func:`unsupported` is None."""
+    reason = unsupported(contract)
+    if reason is not None:
+        raise FastModelUnsupported(f"the vectorised model cannot check this contract: {reason}")
 
 
 #: Operation kinds in :attr:`Columns.kind`.
@@ -152,9 +160,7 @@ class Columns:
     def from_cycles(cls, contract: Contract, cycles: Sequence[Cycle]) -> Columns:
         """Column form of ``cycles``; values that cannot be held (negative, too wide) raise the
         :class:`InvalidOperation` that ``Model.validate`` gives for them."""
-        reason = unsupported(contract)
-        if reason is not None:
-            raise FastModelUnsupported(f"the vectorised model cannot hold this contract's traces: {reason}")
+        require_supported(contract)
         m = contract.memory
         t = len(cycles)
         p = len(contract.ports)
@@ -356,9 +362,7 @@ def expected(
     contents are all known zero and whose read pipelines are unknown (``"zero"``: ``reset()`` with
     ``initial = "zero"``). Ports without read data get nothing known.
     """
-    reason = unsupported(contract)
-    if reason is not None:
-        raise FastModelUnsupported(f"the vectorised model cannot check this contract: {reason}")
+    require_supported(contract)
     if check:
         validate(contract, cols)
     m = contract.memory

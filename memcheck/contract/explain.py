@@ -91,12 +91,10 @@ def key_explanations(c: Contract) -> list[tuple[str, str]]:
 def _clock_lines(c: Contract) -> list[tuple[str, str]]:
     out: list[tuple[str, str]] = []
     for clock in c.port_clocks:
-        users = ", ".join(p.name for p in c.ports if p.clock == clock.name)
+        users = [p.name for p in c.ports if p.clock == clock.name]
+        who = f"port {users[0]} steps" if len(users) == 1 else f"ports {', '.join(users)} step"
         out.append(
-            (
-                f"clock {clock.name}",
-                f"rising edges at {clock.phase} + k x {clock.period} ns; ports {users} step on these edges",
-            )
+            (f"clock {clock.name}", f"rising edges at {clock.phase} + k x {clock.period} ns; {who} on these edges")
         )
     if not c.lockstep:
         out.append(
@@ -131,7 +129,7 @@ def _memory_lines(c: Contract) -> list[tuple[str, str]]:
         if p.any_lane_write:
             out.append(
                 (
-                    f"port {p.name}",
+                    f"port {p.name} writes",
                     "no write_enable: an access with any lane enable active writes those lanes; with none "
                     "active it reads",
                 )
