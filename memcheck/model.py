@@ -63,10 +63,14 @@ class Model:
         self._value = np.zeros((m.words, self._limbs), dtype=np.uint64)
         self._known = np.zeros((m.words, self._limbs), dtype=np.uint64)
         self._word_mask = m.word_mask
+        self._addr_limit = m.address_limit
         self._lane_bits = [m.lane_bits(x) for x in range(1 << m.lanes)] if 0 < m.lanes <= 8 else None
         self._lockstep = contract.lockstep
-        self._ticks = ticks(contract.port_clocks)
-        self._tick = next(self._ticks)
+        # Several clocks: the merged edges, one tick ahead. One clock (or identical ones): every tick
+        # is an edge of every port, and its time is computed only when asked for.
+        self._ticks = None if self._lockstep else ticks(contract.port_clocks)
+        self._tick = None if self._ticks is None else next(self._ticks)
+        self._quiet = self._lockstep and contract.power is None  # nothing to track between ticks
         self._window = Window(
             exact_ns(m.collision_window),
             max(c.period_ns for c in contract.port_clocks),
@@ -141,11 +145,14 @@ class Model:
     @property
     def tick_time(self) -> Fraction:
         """Time (ns) of the tick the next :meth:`step` stands for."""
-        return self._tick.time
+        if self._tick is not None:
+            return self._tick.time
+        clock = self.contract.port_clocks[0]
+        return clock.phase_ns + self.cycle * clock.period_ns
 
     def edges(self) -> tuple[bool, ...]:
         """Per port: does its clock have a rising edge at the next tick?"""
-        if self._lockstep:
+        if self._tick is None:
             return (True,) * len(self.contract.ports)
         return tuple(p.clock in self._tick.clocks for p in self.contract.ports)
 
@@ -158,7 +165,7 @@ class Model:
         for port, op, edge in zip(ports, cycle, self.edges(), strict=True):
             if (op.kind == "no_edge") == edge:
                 raise InvalidOperation(
-                    f"port {port.name!r}: at tick {self.cycle} ({float(self._tick.time)} ns) its clock "
+                    f"port {port.name!r}: at tick {self.cycle} ({float(self.tick_time)} ns) its clock "
                     f"{port.clock!r} {'has' if edge else 'has no'} rising edge, so its operation "
                     f"{'cannot' if edge else 'must'} be 'no edge'"
                 )
@@ -180,8 +187,8 @@ class Model:
             raise InvalidOperation(
                 f"port {port.name!r} has no write_enable: an access with no lane enabled is a read, not a write"
             )
-        if not 0 <= op.address < m.address_limit:
-            bits = m.address_bits if m.out_of_range == "unchecked" else m.address_limit.bit_length() - 1
+        if not 0 <= op.address < self._addr_limit:
+            bits = self._addr_limit.bit_length() - 1
             raise InvalidOperation(f"port {port.name!r}: address {op.address} does not fit {bits} address bits")
         if not 0 <= op.data <= self._word_mask:
             raise InvalidOperation(f"port {port.name!r}: data {op.data:#x} does not fit {m.width} bits")
@@ -203,7 +210,7 @@ class Model:
         writes = self._writes(cycle, active)
         after = self._after(writes)
         entries = [self._entry(i, op, writes, after) if active[i] else UNKNOWN_RESULT for i, op in enumerate(cycle)]
-        if not self._lockstep:
+        if self._tick is not None:
             self._window.blur_pending(self._ports, writes, self._tick.time)
         out = tuple(self._show(i, e, entries[i], power) for i, e in enumerate(edges))
         for addr, e in after.items():
@@ -244,7 +251,7 @@ class Model:
                 # Unknown write collision: every bit driven by any colliding write is unknown.
                 for _, _, bits in ws:
                     known &= ~bits
-            if not self._lockstep:
+            if self._tick is not None:
                 known &= ~self._window.write_blur(addr, ws, self._tick.time)
             after[addr] = Expected(value & known, known)
         return after
@@ -275,10 +282,11 @@ class Model:
         if word is None:
             return UNKNOWN_RESULT
         e = self._read(index, word, writes, after)
-        if not self._lockstep:
-            blur = self._window.read_blur(index, word, self._tick.time, self._ports[index].prev_edge, m.read_latency)
-            e = Expected(e.value & ~blur, e.known & ~blur)
-        return Entry(RESULT, e.value, e.known, self._tick.time, word)
+        if self._tick is None:
+            return Entry(RESULT, e.value, e.known)
+        now = self._tick.time
+        blur = self._window.read_blur(index, word, now, self._ports[index].prev_edge, m.read_latency)
+        return Entry(RESULT, e.value & ~blur, e.known & ~blur, now, word)
 
     def _read(self, index: int, word: int, writes: Writes, after: dict[int, Expected]) -> Expected:
         """A read of ``word``, with the collision rule for other ports writing it at this tick."""
@@ -319,16 +327,19 @@ class Model:
 
     def _after_tick(self, writes: Writes, edges: tuple[bool, ...], power: Power) -> None:
         """Power effects of this tick, the per-port power history, recent writes; then the next tick."""
+        self.cycle += 1
+        if self._quiet:
+            return
         if power == Power.SHUTDOWN:
             self._known[:] = 0
             self._value[:] = 0
         wake = self.contract.power.wake_cycles if self.contract.power is not None else 0
+        now = self._tick.time if self._tick is not None else Fraction(0)
         for i, ps in enumerate(self._ports):
-            ps.after_tick(edges[i], power, wake, self.memory.read_latency, self._tick.time)
-        if not self._lockstep:
-            self._window.record(writes, self._tick.time)
-        self._tick = next(self._ticks)
-        self.cycle += 1
+            ps.after_tick(edges[i], power, wake, self.memory.read_latency, now)
+        if self._ticks is not None:
+            self._window.record(writes, now)
+            self._tick = next(self._ticks)
 
 
 def expected_reads(contract: Contract, cycles: Iterable[Cycle], *, reset: bool = False) -> list[tuple[Expected, ...]]:

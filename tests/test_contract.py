@@ -432,3 +432,10 @@ def test_validate_explains_the_new_keys_and_what_is_left_unchecked(
         "less than 1.5 ns away (collision_window)",
     ):
         assert needle in out, needle
+
+
+def test_contracts_pickle_for_the_simulator_side() -> None:
+    import pickle
+
+    c = parse_contract(NEW_KEYS_EXAMPLE, base_dir=Path("/proj"))
+    assert pickle.loads(pickle.dumps(c)) == c

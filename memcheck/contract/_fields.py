@@ -4,11 +4,36 @@ from __future__ import annotations
 
 import difflib
 import math
-from collections.abc import Mapping
-from types import MappingProxyType
-from typing import Any
+from collections.abc import Iterator, Mapping
+from typing import Any, TypeVar
 
 from memcheck.errors import ContractError
+
+V = TypeVar("V")
+
+
+class FrozenMap(Mapping[str, V]):
+    """A read-only mapping that pickles (the simulator side pickles contracts)."""
+
+    __slots__ = ("_data",)
+
+    def __init__(self, data: Mapping[str, V] | None = None) -> None:
+        self._data: dict[str, V] = dict(data or {})
+
+    def __getitem__(self, key: str) -> V:
+        return self._data[key]
+
+    def __iter__(self) -> Iterator[str]:
+        return iter(self._data)
+
+    def __len__(self) -> int:
+        return len(self._data)
+
+    def __repr__(self) -> str:
+        return f"FrozenMap({self._data!r})"
+
+    def __reduce__(self) -> tuple[Any, ...]:
+        return (FrozenMap, (self._data,))
 
 
 def where(section: str, key: str) -> str:
@@ -151,4 +176,4 @@ def value_table(
         if not is_identifier(name):
             raise ContractError(f"{source}: {where(section, key)} has {name!r}, not a Verilog identifier.")
         out[name] = value
-    return MappingProxyType(out)
+    return FrozenMap(out)

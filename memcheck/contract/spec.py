@@ -13,6 +13,7 @@ from pathlib import Path
 from types import MappingProxyType
 from typing import Any, Literal
 
+from memcheck.contract._fields import FrozenMap
 from memcheck.contract.clocks import ClockSpec, TimingSpec
 from memcheck.contract.power import PowerSpec
 
@@ -137,11 +138,11 @@ class RtlSpec:
 
     sources: tuple[Path, ...]
     top: str
-    parameters: Mapping[str, int | str] = field(default_factory=lambda: MappingProxyType({}))
-    defines: Mapping[str, int | str] = field(default_factory=lambda: MappingProxyType({}))
+    parameters: Mapping[str, int | str] = field(default_factory=FrozenMap)
+    defines: Mapping[str, int | str] = field(default_factory=FrozenMap)
     include_dirs: tuple[Path, ...] = ()
     #: Top-level inputs no port uses, held at a constant (``tie = { regce = 1 }``).
-    tie: Mapping[str, int] = field(default_factory=lambda: MappingProxyType({}))
+    tie: Mapping[str, int] = field(default_factory=FrozenMap)
 
 
 @dataclass(frozen=True)
