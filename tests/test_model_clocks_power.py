@@ -311,3 +311,21 @@ def test_out_of_range_ignore_and_wrap() -> None:
     unchecked = Model(Contract.simple(8, 8, read_latency=0))
     with pytest.raises(InvalidOperation, match="does not fit 3 address bits"):
         unchecked.step((read(8),))
+
+
+@pytest.mark.parametrize("effect", ["edge", "immediate"])
+@pytest.mark.parametrize("episode", [False, True])
+def test_a_power_episode_between_a_slow_port_s_edges_voids_its_next_read(effect: str, episode: bool) -> None:
+    # wclk 5 ns: ticks 0, 5, 10, 15, 20; rclk 20 ns: ticks 0 and 20. Latency 0, wake_cycles 0.
+    # Sleep sampled only at t=10 (by wclk): rclk never samples it, but the macro slept inside r's
+    # cycle (0, 20], so r's read at t=20 promises nothing, whatever the effect.
+    m = two_clocks(
+        {"read_latency": 0},
+        [{"name": "wclk", "period": 5.0}, {"name": "rclk", "period": 20.0}],
+        {"sleep": "slp", "wake_cycles": 0, "effect": effect},
+    )
+    m.step((write(1, 0x5A), IDLE))  # t=0
+    m.step((IDLE, N))  # t=5
+    m.step((IDLE, N), Power.SLEEP if episode else Power.ON)  # t=10
+    m.step((IDLE, N))  # t=15
+    assert m.step((IDLE, read(1)))[1] == (X if episode else known(0x5A))  # t=20

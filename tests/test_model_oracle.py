@@ -58,15 +58,3 @@ def test_model_agrees_on_several_clocks_and_the_collision_window(data: st.DataOb
 @given(st.data(), contracts(new_keys=True, clocks=True, power=True, max_words=4, max_width=8))
 def test_model_agrees_on_power_modes(data: st.DataObject, contract: Contract) -> None:
     _agree(data, contract, max_blocks=12)
-
-
-@settings(max_examples=200, deadline=None, suppress_health_check=_SLOW)
-@given(
-    st.data(),
-    contracts(new_keys=True, clocks=True, power=True, max_words=4, max_width=8, max_ports=2).filter(
-        lambda c: not c.lockstep and c.memory.read_latency == 0
-    ),
-)
-def test_model_agrees_on_power_episodes_between_a_slow_port_s_edges(data: st.DataObject, contract: Contract) -> None:
-    # Power episodes shorter than a slow clock's period: the slow port sees them only inside its cycle.
-    _agree(data, contract, max_blocks=12)
