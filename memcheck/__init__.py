@@ -6,13 +6,17 @@ simulator: the simulator side lives in :mod:`memcheck.sim`.
 """
 
 from memcheck.contract import (
+    ClockSpec,
     Contract,
     MemorySpec,
     PortSpec,
+    PowerSpec,
     ResetSpec,
     RtlSpec,
+    TimingSpec,
     load_contract,
     parse_contract,
+    timeline,
 )
 from memcheck.errors import (
     BudgetError,
@@ -39,16 +43,18 @@ from memcheck.march import (
     write_export,
 )
 from memcheck.model import Model
-from memcheck.ops import IDLE, UNKNOWN, Cycle, Expected, PortOp, Trace, idle, read, write
+from memcheck.ops import IDLE, NO_EDGE, UNKNOWN, Cycle, Expected, PortOp, Power, Trace, idle, read, write
 
 __version__ = "0.1.0"
 
 __all__ = [
     "ALGORITHMS",
     "IDLE",
+    "NO_EDGE",
     "UNKNOWN",
     "Arrangement",
     "BudgetError",
+    "ClockSpec",
     "Contract",
     "ContractError",
     "CoverageReport",
@@ -64,10 +70,13 @@ __all__ = [
     "NotationError",
     "PortOp",
     "PortSpec",
+    "Power",
+    "PowerSpec",
     "ReplayError",
     "ResetSpec",
     "RtlSpec",
     "SimulationError",
+    "TimingSpec",
     "Trace",
     "UnknownAlgorithm",
     "UsageError",
@@ -84,6 +93,7 @@ __all__ = [
     "plot_coverage",
     "read",
     "resolve_test",
+    "timeline",
     "write",
     "write_export",
 ]

@@ -1,51 +1,58 @@
 """Cycle-accurate reference model of a memory contract, with per-bit known masks.
 
-The model answers one question per clock cycle: which read data must each port show just before
-the rising edge that ends this cycle, and which of those bits are promised at all. Contents are
-held as numpy arrays of 64-bit limbs (value and known), so a word of any width up to 1024 bits is
-tracked bit by bit.
+The model answers one question per tick: which read data must each port show just before the
+rising edge that ends its cycle, and which of those bits are promised at all. Contents are held as
+numpy arrays of 64-bit limbs (value and known), so a word of any width up to 1024 bits is tracked
+bit by bit.
 
 Timing convention (shared with the simulator side): cycle k's inputs are applied just after rising
 edge k-1 and sampled by rising edge k. :meth:`Model.step` returns what a synchronous consumer
 samples at edge k: for read latency 0 the combinational result of cycle k's own read; for latency L
 the result of the read issued L cycles earlier, or, when that cycle issued no read, the held or
 unknown value that ``idle_read_data`` promises.
+
+With several clocks a step is one *tick* of :func:`memcheck.contract.ticks` (every rising edge of
+every port clock, in time order; edges at one instant form one tick). Each port steps on its own
+clock's edges: at a tick without its edge its operation is :data:`memcheck.ops.NO_EDGE` and it shows
+nothing, and its read latency counts its own edges. Power states (:class:`memcheck.ops.Power`) are
+sampled at every tick; see :mod:`memcheck.model_ports` for what they do to read data.
 """
 
 from __future__ import annotations
 
 from collections.abc import Iterable, Sequence
-from dataclasses import dataclass
+from fractions import Fraction
 
 import numpy as np
 
-from memcheck.contract import Contract, MemorySpec, PortSpec
+from memcheck.contract import Contract, MemorySpec, PortSpec, ticks
+from memcheck.contract.clocks import exact_ns
 from memcheck.errors import InvalidOperation
-from memcheck.ops import UNKNOWN, Cycle, Expected, OpKind, PortOp
+from memcheck.model_ports import (
+    HOLD,
+    HOLDING,
+    NO_READ,
+    RESULT,
+    UNKNOWN_RESULT,
+    Entry,
+    PortState,
+    Window,
+    shown_while_powered_down,
+    validate_power,
+)
+from memcheck.ops import UNKNOWN, Cycle, Expected, OpKind, PortOp, Power
 
-# Pipeline entry kinds: what a read-data register shows when its cycle comes due.
-_RESULT = 0  # a read result (value, known)
-_NONE = 1  # no read issued: held or unknown per idle_read_data
-_HOLD = 2  # read_during_write = "keep": hold the previous result whatever idle_read_data says
-
-
-@dataclass(frozen=True, slots=True)
-class _Entry:
-    kind: int
-    value: int = 0
-    known: int = 0
-
-
-_NO_READ = _Entry(_NONE)
-_HOLDING = _Entry(_HOLD)
-_UNKNOWN_RESULT = _Entry(_RESULT, 0, 0)
+#: The writes that take effect at one tick, per word: (port index, data, bit mask).
+Writes = dict[int, list[tuple[int, int, int]]]
 
 
 class Model:
     """Executable, cycle-accurate model of one contract.
 
     Create one per simulation; call :meth:`reset` after a reset sequence, :meth:`forget` to start
-    from a state where nothing is known, and :meth:`step` once per clock cycle.
+    from a state where nothing is known, and :meth:`step` once per tick (once per clock cycle for a
+    single-clock contract). ``reset`` and ``forget`` do not move time: the next step is the next
+    tick of the timeline.
     """
 
     def __init__(self, contract: Contract) -> None:
@@ -56,10 +63,20 @@ class Model:
         self._value = np.zeros((m.words, self._limbs), dtype=np.uint64)
         self._known = np.zeros((m.words, self._limbs), dtype=np.uint64)
         self._word_mask = m.word_mask
-        self._addr_limit = 1 << m.address_bits
+        self._addr_limit = m.address_limit
         self._lane_bits = [m.lane_bits(x) for x in range(1 << m.lanes)] if 0 < m.lanes <= 8 else None
-        self._pipes: list[list[_Entry]] = []
-        self._last: list[Expected] = []
+        self._lockstep = contract.lockstep
+        # Several clocks: the merged edges, one tick ahead. One clock (or identical ones): every tick
+        # is an edge of every port, and its time is computed only when asked for.
+        self._ticks = None if self._lockstep else ticks(contract.port_clocks)
+        self._tick = None if self._ticks is None else next(self._ticks)
+        self._quiet = self._lockstep and contract.power is None  # nothing to track between ticks
+        self._window = Window(
+            exact_ns(m.collision_window),
+            max(c.period_ns for c in contract.port_clocks),
+            tuple(p.clock for p in contract.ports),
+        )
+        self._ports: list[PortState] = [PortState() for _ in contract.ports]
         self._clear_read_state()
         if contract.reset is None:
             self._fill_initial()
@@ -87,9 +104,11 @@ class Model:
             self._known[:] = 0
 
     def _clear_read_state(self) -> None:
+        """Read pipelines, held data, power history and recent writes: all forgotten."""
         lat = self.memory.read_latency
-        self._pipes = [[_UNKNOWN_RESULT] * lat for _ in self.contract.ports]
-        self._last = [UNKNOWN for _ in self.contract.ports]
+        for ps in self._ports:
+            ps.restart(lat)
+        self._window.clear()
 
     # -- contents access ----------------------------------------------------------------
 
@@ -123,13 +142,35 @@ class Model:
 
     # -- checking operations ------------------------------------------------------------
 
-    def validate(self, cycle: Sequence[PortOp]) -> None:
-        """Raise :class:`InvalidOperation` if a port cannot perform its operation."""
+    @property
+    def tick_time(self) -> Fraction:
+        """Time (ns) of the tick the next :meth:`step` stands for."""
+        if self._tick is not None:
+            return self._tick.time
+        clock = self.contract.port_clocks[0]
+        return clock.phase_ns + self.cycle * clock.period_ns
+
+    def edges(self) -> tuple[bool, ...]:
+        """Per port: does its clock have a rising edge at the next tick?"""
+        if self._tick is None:
+            return (True,) * len(self.contract.ports)
+        return tuple(p.clock in self._tick.clocks for p in self.contract.ports)
+
+    def validate(self, cycle: Sequence[PortOp], power: Power = Power.ON) -> None:
+        """Raise :class:`InvalidOperation` if a port cannot perform its operation at the next tick."""
         ports = self.contract.ports
         if len(cycle) != len(ports):
             raise InvalidOperation(f"a cycle needs one operation per port ({len(ports)}), got {len(cycle)}")
-        for port, op in zip(ports, cycle, strict=True):
-            self._validate_op(port, op)
+        validate_power(self.contract.power, power)
+        for port, op, edge in zip(ports, cycle, self.edges(), strict=True):
+            if (op.kind == OpKind.NO_EDGE) == edge:
+                raise InvalidOperation(
+                    f"port {port.name!r}: at tick {self.cycle} ({float(self.tick_time)} ns) its clock "
+                    f"{port.clock!r} {'has' if edge else 'has no'} rising edge, so its operation "
+                    f"{'cannot' if edge else 'must'} be 'no edge'"
+                )
+            if edge:
+                self._validate_op(port, op)
 
     def _validate_op(self, port: PortSpec, op: PortOp) -> None:
         m = self.memory
@@ -142,10 +183,13 @@ class Model:
                 f"port {port.name!r} has no enable pin, so it cannot be idle: it "
                 + ("reads every cycle" if port.role == "read" else "reads whenever it does not write")
             )
-        if not 0 <= op.address < self._addr_limit:
+        if op.kind == OpKind.WRITE and port.any_lane_write and op.lanes == 0:
             raise InvalidOperation(
-                f"port {port.name!r}: address {op.address} does not fit {m.address_bits} address bits"
+                f"port {port.name!r} has no write_enable: an access with no lane enabled is a read, not a write"
             )
+        if not 0 <= op.address < self._addr_limit:
+            bits = self._addr_limit.bit_length() - 1
+            raise InvalidOperation(f"port {port.name!r}: address {op.address} does not fit {bits} address bits")
         if not 0 <= op.data <= self._word_mask:
             raise InvalidOperation(f"port {port.name!r}: data {op.data:#x} does not fit {m.width} bits")
         if op.lanes is not None and not 0 <= op.lanes <= m.all_lanes:
@@ -153,71 +197,64 @@ class Model:
                 f"port {port.name!r}: lane enables {op.lanes:#x} do not fit {max(m.lanes, 1)} lane bit(s)"
             )
 
-    # -- one clock cycle ----------------------------------------------------------------
+    # -- one tick -----------------------------------------------------------------------
 
-    def step(self, cycle: Sequence[PortOp]) -> tuple[Expected, ...]:
-        """Advance one clock cycle; return per port the read data sampled at its closing edge."""
-        self.validate(cycle)
-        m = self.memory
-        words = m.words
-
-        # 1. The writes that take effect at this edge, per address: (port index, data, bit mask).
-        writes: dict[int, list[tuple[int, int, int]]] = {}
-        for i, op in enumerate(cycle):
-            if op.kind == OpKind.WRITE and op.address < words:
-                bits = self._bits(op.lanes)
-                if bits:
-                    writes.setdefault(op.address, []).append((i, op.data, bits))
-
-        # 2. Contents after the edge, for every written address (old is still in the arrays).
-        after = {addr: self._after_writes(addr, ws) for addr, ws in writes.items()}
-
-        # 3. The read result each port produces at this edge.
-        entries: list[_Entry] = []
-        for i, (port, op) in enumerate(zip(self.contract.ports, cycle, strict=True)):
-            entries.append(self._read_entry(i, port, op, writes, after) if port.can_read else _NO_READ)
-
-        # 4. What each port shows before this edge: this cycle's result (latency 0) or a pipelined one.
-        out: list[Expected] = []
-        for i, port in enumerate(self.contract.ports):
-            if not port.can_read:
-                out.append(UNKNOWN)
-                continue
-            if m.read_latency == 0:
-                due = entries[i]
-            else:
-                pipe = self._pipes[i]
-                due = pipe[0]
-                pipe.pop(0)
-                pipe.append(entries[i])
-            out.append(self._resolve(i, due))
-
-        # 5. Commit the edge.
+    def step(self, cycle: Sequence[PortOp], power: Power = Power.ON) -> tuple[Expected, ...]:
+        """Advance one tick; return per port the read data sampled at its closing edge (UNKNOWN for a
+        port without an edge at this tick, or without read data)."""
+        self.validate(cycle, power)
+        edges = self.edges()
+        asleep = power != Power.ON
+        # An edge makes an access unless it samples a power pin asserted or is a wake-up edge.
+        active = [e and not asleep and self._ports[i].wake_left == 0 for i, e in enumerate(edges)]
+        writes = self._writes(cycle, active)
+        after = self._after(writes)
+        entries = [self._entry(i, op, writes, after) if active[i] else UNKNOWN_RESULT for i, op in enumerate(cycle)]
+        if self._tick is not None:
+            self._window.blur_pending(self._ports, writes, self._tick.time)
+        out = tuple(self._show(i, e, entries[i], power) for i, e in enumerate(edges))
         for addr, e in after.items():
             self._store(addr, e)
-        self.cycle += 1
-        return tuple(out)
+        self._after_tick(writes, edges, power)
+        return out
 
-    def _after_writes(self, addr: int, ws: list[tuple[int, int, int]]) -> Expected:
-        """The word at ``addr`` after this edge's writes ``ws`` (port index, data, bit mask) to it."""
-        old = self.peek(addr)
-        value, known = old.value, old.known
-        if len(ws) == 1 or self.memory.write_collision == "first":
-            # Apply in reverse contract order so the earliest-listed port wins on shared bits.
-            for _, data, bits in reversed(ws):
-                value = (value & ~bits) | (data & bits)
-                known |= bits
-        else:
-            # Unknown write collision: every bit driven by any colliding write is unknown.
-            driven = 0
-            for _, _, bits in ws:
-                driven |= bits
-            known &= ~driven
-        return Expected(value & known, known)
+    def run(self, cycles: Iterable[Sequence[PortOp]], power: Iterable[Power] = ()) -> list[tuple[Expected, ...]]:
+        """Step through many ticks (with their power states, if given); one result tuple per tick."""
+        states = list(power)
+        return [self.step(c, states[k] if states else Power.ON) for k, c in enumerate(cycles)]
 
-    def run(self, cycles: Iterable[Sequence[PortOp]]) -> list[tuple[Expected, ...]]:
-        """Step through many cycles; one result tuple per cycle."""
-        return [self.step(c) for c in cycles]
+    def _writes(self, cycle: Sequence[PortOp], active: list[bool]) -> Writes:
+        """The writes that take effect at this tick, per word."""
+        m = self.memory
+        writes: Writes = {}
+        for i, op in enumerate(cycle):
+            if not (active[i] and op.kind == OpKind.WRITE):
+                continue
+            word = m.word_of(op.address)
+            bits = self._bits(op.lanes)
+            if word is not None and bits:
+                writes.setdefault(word, []).append((i, op.data, bits))
+        return writes
+
+    def _after(self, writes: Writes) -> dict[int, Expected]:
+        """Contents after this tick, for every written word (old is still in the arrays)."""
+        after: dict[int, Expected] = {}
+        for addr, ws in writes.items():
+            old = self.peek(addr)
+            value, known = old.value, old.known
+            if len(ws) == 1 or self.memory.write_collision == "first":
+                # Apply in reverse contract order so the earliest-listed port wins on shared bits.
+                for _, data, bits in reversed(ws):
+                    value = (value & ~bits) | (data & bits)
+                    known |= bits
+            else:
+                # Unknown write collision: every bit driven by any colliding write is unknown.
+                for _, _, bits in ws:
+                    known &= ~bits
+            if self._tick is not None:
+                known &= ~self._window.write_blur(addr, ws, self._tick.time)
+            after[addr] = Expected(value & known, known)
+        return after
 
     def _bits(self, lanes: int | None) -> int:
         if lanes is None:
@@ -226,54 +263,83 @@ class Model:
             return self._lane_bits[lanes]
         return self.memory.lane_bits(lanes)
 
-    def _read_entry(
-        self,
-        index: int,
-        port: PortSpec,
-        op: PortOp,
-        writes: dict[int, list[tuple[int, int, int]]],
-        after: dict[int, Expected],
-    ) -> _Entry:
+    def _entry(self, index: int, op: PortOp, writes: Writes, after: dict[int, Expected]) -> Entry:
+        """The read result port ``index`` produces at this tick."""
+        port = self.contract.ports[index]
+        if not port.can_read or op.kind in (OpKind.IDLE, OpKind.NO_EDGE):
+            return NO_READ
         m = self.memory
-        if op.kind == OpKind.IDLE:
-            return _NO_READ
-        addr = op.address
+        word = m.word_of(op.address)
         if op.kind == OpKind.WRITE:
             # A readwrite port that writes: its read data follows read_during_write.
             rdw = m.read_during_write
             if rdw == "keep":
-                return _HOLDING
-            if rdw == "unknown" or addr >= m.words:
-                return _UNKNOWN_RESULT
-            e = self.peek(addr) if rdw == "old" else after.get(addr, self.peek(addr))
-            return _Entry(_RESULT, e.value, e.known)
-        # A read.
-        if addr >= m.words:
-            return _UNKNOWN_RESULT
-        old = self.peek(addr)
-        others = [w for w in writes.get(addr, ()) if w[0] != index]
-        if not others:
-            return _Entry(_RESULT, old.value, old.known)
-        if m.collision == "old":
-            return _Entry(_RESULT, old.value, old.known)
-        if m.collision == "new":
-            new = after[addr]
-            return _Entry(_RESULT, new.value, new.known)
+                return HOLDING
+            if rdw == "unknown" or word is None:
+                return UNKNOWN_RESULT
+            e = self.peek(word) if rdw == "old" else after.get(word, self.peek(word))
+            return Entry(RESULT, e.value, e.known)
+        if word is None:
+            return UNKNOWN_RESULT
+        e = self._read(index, word, writes, after)
+        if self._tick is None:
+            return Entry(RESULT, e.value, e.known)
+        now = self._tick.time
+        blur = self._window.read_blur(index, word, now, self._ports[index].prev_edge, m.read_latency)
+        return Entry(RESULT, e.value & ~blur, e.known & ~blur, now, word)
+
+    def _read(self, index: int, word: int, writes: Writes, after: dict[int, Expected]) -> Expected:
+        """A read of ``word``, with the collision rule for other ports writing it at this tick."""
+        old = self.peek(word)
+        others = [w for w in writes.get(word, ()) if w[0] != index]
+        collision = self.memory.collision
+        if not others or collision == "old":
+            return old
+        if collision == "new":
+            return after[word]
         driven = 0
         for _, _, bits in others:
             driven |= bits
         known = old.known & ~driven
-        return _Entry(_RESULT, old.value & known, known)
+        return Expected(old.value & known, known)
 
-    def _resolve(self, index: int, due: _Entry) -> Expected:
-        if due.kind == _RESULT:
+    def _show(self, index: int, edge: bool, entry: Entry, power: Power) -> Expected:
+        """What port ``index`` shows at this tick (pipeline advanced on its own edges only)."""
+        port = self.contract.ports[index]
+        if not edge or not port.can_read:
+            return UNKNOWN
+        ps = self._ports[index]
+        due = entry if self.memory.read_latency == 0 else ps.advance(entry)
+        held = shown_while_powered_down(self.contract, ps, power)
+        shown = held if held is not None else self._resolve(ps, due)
+        ps.shown = shown
+        return shown
+
+    def _resolve(self, ps: PortState, due: Entry) -> Expected:
+        if due.kind == RESULT:
             e = Expected(due.value & due.known, due.known)
-            self._last[index] = e
+            ps.last = e
             return e
-        if due.kind == _HOLD or self.memory.idle_read_data == "keep":
-            return self._last[index]
-        self._last[index] = UNKNOWN
+        if due.kind == HOLD or self.memory.idle_read_data == "keep":
+            return ps.last
+        ps.last = UNKNOWN
         return UNKNOWN
+
+    def _after_tick(self, writes: Writes, edges: tuple[bool, ...], power: Power) -> None:
+        """Power effects of this tick, the per-port power history, recent writes; then the next tick."""
+        self.cycle += 1
+        if self._quiet:
+            return
+        if power == Power.SHUTDOWN:
+            self._known[:] = 0
+            self._value[:] = 0
+        wake = self.contract.power.wake_cycles if self.contract.power is not None else 0
+        now = self._tick.time if self._tick is not None else Fraction(0)
+        for i, ps in enumerate(self._ports):
+            ps.after_tick(edges[i], power, wake, self.memory.read_latency, now)
+        if self._ticks is not None:
+            self._window.record(writes, now)
+            self._tick = next(self._ticks)
 
 
 def expected_reads(contract: Contract, cycles: Iterable[Cycle], *, reset: bool = False) -> list[tuple[Expected, ...]]:

@@ -31,7 +31,47 @@ from memcheck.errors import InvalidOperation
 from memcheck.model import Model
 from memcheck.ops import Cycle, Expected, OpKind, PortOp
 
-__all__ = ["IDLE", "READ", "WRITE", "Columns", "Contents", "expected", "expected_rows", "mismatch", "validate"]
+__all__ = [
+    "IDLE",
+    "READ",
+    "WRITE",
+    "Columns",
+    "Contents",
+    "FastModelUnsupported",
+    "expected",
+    "expected_rows",
+    "mismatch",
+    "require_supported",
+    "unsupported",
+    "validate",
+]
+
+
+class FastModelUnsupported(InvalidOperation):
+    """The contract uses semantics this vectorised model does not implement; use ``Model``."""
+
+
+def unsupported(contract: Contract) -> str | None:
+    """Why this module cannot model ``contract`` (None when it can).
+
+    Two things are left to the cycle-by-cycle :class:`memcheck.model.Model`: ports on clocks with
+    different edges (each port steps on its own edges and the collision window looks across clocks,
+    which a column-per-cycle layout does not express), and power pins (power episodes cut read
+    pipelines and contents mid-trace). Callers check this first and fall back to ``Model``.
+    """
+    if not contract.lockstep:
+        return "its ports step on clocks with different edges"
+    if contract.power is not None:
+        return "it has [power] pins"
+    return None
+
+
+def require_supported(contract: Contract) -> None:
+    """Raise :class:`FastModelUnsupported` (with the reason) unless :func:`unsupported` is None."""
+    reason = unsupported(contract)
+    if reason is not None:
+        raise FastModelUnsupported(f"the vectorised model cannot check this contract: {reason}")
+
 
 #: Operation kinds in :attr:`Columns.kind` (the values of :class:`memcheck.ops.OpKind`).
 IDLE, READ, WRITE = OpKind.IDLE, OpKind.READ, OpKind.WRITE
@@ -96,6 +136,7 @@ class Columns:
     def from_cycles(cls, contract: Contract, cycles: Sequence[Cycle]) -> Columns:
         """Column form of ``cycles``; values that cannot be held (negative, too wide) raise the
         :class:`InvalidOperation` that ``Model.validate`` gives for them."""
+        require_supported(contract)
         m = contract.memory
         t = len(cycles)
         p = len(contract.ports)
@@ -166,7 +207,7 @@ def validate(contract: Contract, cols: Columns) -> None:
     """Raise :class:`InvalidOperation` for the first cycle a port cannot perform (as ``Model.validate``)."""
     m = contract.memory
     bad = np.zeros(len(cols), dtype=bool)
-    limit = 1 << m.address_bits
+    limit = m.address_limit
     for i, port in enumerate(contract.ports):
         k = cols.kind[:, i]
         bad |= (k < 0) | (k > WRITE)
@@ -176,6 +217,8 @@ def validate(contract: Contract, cols: Columns) -> None:
             bad |= k == WRITE
         if not port.can_idle:
             bad |= k == IDLE
+        if port.any_lane_write:
+            bad |= (k == WRITE) & cols.lanes_given[:, i] & ~cols.lanes[:, i].any(axis=1)
         bad |= (cols.address[:, i] < 0) | (cols.address[:, i] >= limit)
     top = m.width - 64 * (limbs_of(m.width) - 1)
     if top < 64:
@@ -203,7 +246,7 @@ def _write_bits(contract: Contract, lanes: np.ndarray) -> np.ndarray:
         return np.where(on[:, None], int_limbs(m.word_mask, limbs), _U64(0))
     raw = np.ascontiguousarray(lanes, dtype="<u8").view(np.uint8).reshape(n, 8 * lanes.shape[1])
     per_lane = np.unpackbits(raw, axis=1, bitorder="little")[:, : m.lanes]
-    bits = np.repeat(per_lane, m.bits_per_lane, axis=1) if m.bits_per_lane > 1 else per_lane
+    bits = np.repeat(per_lane, np.array(m.lane_widths), axis=1) if m.bits_per_lane > 1 else per_lane
     return bits_to_limbs(bits[:, : m.width], limbs)
 
 
@@ -217,8 +260,9 @@ def _merged_writes(contract: Contract, cols: Columns, span: np.int64) -> tuple[n
     ``sets`` known with ``data`` (``data`` within ``sets`` within ``touch``); write collisions follow
     ``write_collision``."""
     m = contract.memory
-    kind, addr = cols.kind, cols.address
-    wt, wp = np.nonzero((kind == WRITE) & (addr < m.words))
+    kind = cols.kind
+    addr, in_range = _words(contract, cols.address)
+    wt, wp = np.nonzero((kind == WRITE) & in_range)
     wkey = addr[wt, wp] * span + wt
     order = np.lexsort((wp, wkey))
     wt, wp, wkey = wt[order], wp[order], wkey[order]
@@ -247,6 +291,14 @@ def _merged_writes(contract: Contract, cols: Columns, span: np.int64) -> tuple[n
         i = starts[g] + j
         merged[g] = (merged[g] & ~bits[i]) | data[i]
     return key, touch, touch.copy(), merged
+
+
+def _words(contract: Contract, address: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """The word each address selects (``out_of_range = "wrap"`` aliases) and where one is selected."""
+    m = contract.memory
+    if m.out_of_range == "wrap":
+        return address & np.int64(m.words - 1), np.ones(address.shape, dtype=bool)
+    return address, address < m.words
 
 
 def _scan(
@@ -283,6 +335,7 @@ def expected(
     contents are all known zero and whose read pipelines are unknown (``"zero"``: ``reset()`` with
     ``initial = "zero"``). Ports without read data get nothing known.
     """
+    require_supported(contract)
     if check:
         validate(contract, cols)
     m = contract.memory
@@ -292,8 +345,8 @@ def expected(
     known = np.zeros((t_len, p_len, limbs), dtype=_U64)
     if t_len == 0:
         return value, known
-    kind, addr = cols.kind, cols.address
-    words = m.words
+    kind = cols.kind
+    addr, in_range = _words(contract, cols.address)
     span = np.int64(t_len + 1)
     ukey, touch, sets, data = _merged_writes(contract, cols, span)
     # What a single update at each key does, and the composition of all updates up to it.
@@ -310,19 +363,19 @@ def expected(
     for i, port in enumerate(contract.ports):
         if not port.can_read:
             continue
-        k, a = kind[:, i], addr[:, i]
+        k = kind[:, i]
         reads, writes = k == READ, k == WRITE
         entry[reads, i] = _RESULT
         entry[writes, i] = _HOLD if rdw == "keep" else _RESULT
         # Reads: before the edge's writes, after them ("new"), or before with the bits another
         # port drives this edge unknown (collision "unknown"); the same when nobody else writes.
-        rin = np.flatnonzero(reads & (a < words))
+        rin = np.flatnonzero(reads & in_range[:, i])
         q_t.append(rin)
         q_p.append(np.full(len(rin), i))
         q_after.append(np.full(len(rin), m.collision == "new"))
         q_minus.append(np.full(len(rin), m.collision == "unknown"))
         if rdw in ("old", "new"):  # a readwrite port that writes shows the word before or after
-            win = np.flatnonzero(writes & (a < words))
+            win = np.flatnonzero(writes & in_range[:, i])
             q_t.append(win)
             q_p.append(np.full(len(win), i))
             q_after.append(np.full(len(win), rdw == "new"))

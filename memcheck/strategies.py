@@ -9,6 +9,9 @@ addresses from the same pool, so a wrapper that writes while deselected is caugh
 
 Everything shrinks toward the readable: fewer blocks (so fewer cycles), a pool of one address
 (address 0), zero data, all lanes enabled, and clean pins on idle ports.
+
+Contracts with several clocks get their cycles laid on the tick timeline (a port without an edge at
+a tick gets ``NO_EDGE``); contracts with power pins get power episodes (:func:`power_states`).
 """
 
 from __future__ import annotations
@@ -18,8 +21,8 @@ from typing import Any
 
 from hypothesis import strategies as st
 
-from memcheck.contract import Contract, PortSpec
-from memcheck.ops import Cycle, OpKind, PortOp, Trace
+from memcheck.contract import Contract, PortSpec, timeline
+from memcheck.ops import NO_EDGE, Cycle, OpKind, PortOp, Power, Trace
 
 __all__ = [
     "addresses",
@@ -28,32 +31,41 @@ __all__ = [
     "hot_addresses",
     "lane_values",
     "port_ops",
+    "power_states",
     "traces",
 ]
+
+#: Address bits driven beyond ``address_bits`` when ``out_of_range`` is "ignore" or "wrap" and the
+#: real pin width is not known (the simulator side passes the width of the address pins).
+EXTRA_ADDRESS_BITS = 2
+
+
+def driven_address_bits(contract: Contract) -> int:
+    """Address bits a trace drives: the minimum, or a few more when addresses beyond it are checked."""
+    m = contract.memory
+    return m.address_bits + (EXTRA_ADDRESS_BITS if m.out_of_range != "unchecked" else 0)
 
 
 def hot_addresses(contract: Contract) -> list[int]:
     """Addresses where wrapper bugs hide, smallest first (0 first so that shrinking ends there)."""
     m = contract.memory
-    limit = 1 << m.address_bits
+    limit = 1 << driven_address_bits(contract)
     hot: set[int] = {0, m.words - 1, m.words // 2, m.words // 4, 3 * m.words // 4}
     p = 1
     while p < limit:
         hot.update((p - 1, p, p + 1))
         p <<= 1
-    if m.words < limit:  # beyond the last word: reads are unknown, writes do nothing
-        hot.update((m.words, limit - 1))
+    if m.words < limit:  # beyond the last word: reads are unknown (or alias), writes do nothing (or alias)
+        hot.update((m.words, m.words + 1, limit - 1))
     return sorted(a for a in hot if 0 <= a < limit)
 
 
 def addresses(contract: Contract) -> st.SearchStrategy[int]:
     """One address: usually a hot one, sometimes a neighbour one bit away, sometimes any."""
-    m = contract.memory
-    limit = 1 << m.address_bits
+    bits = driven_address_bits(contract)
+    limit = 1 << bits
     hot = hot_addresses(contract)
-    one_bit_apart = st.tuples(st.sampled_from(hot), st.integers(0, m.address_bits - 1)).map(
-        lambda t: t[0] ^ (1 << t[1])
-    )
+    one_bit_apart = st.tuples(st.sampled_from(hot), st.integers(0, bits - 1)).map(lambda t: t[0] ^ (1 << t[1]))
     return st.one_of(st.sampled_from(hot), one_bit_apart, st.integers(0, limit - 1))
 
 
@@ -207,11 +219,13 @@ def traces(
     max_blocks: int = 12,
     max_pool: int = 4,
     drain: bool = True,
+    first_tick: int = 0,
 ) -> st.SearchStrategy[Trace]:
     """A trace of blocks over a small pool of hot addresses.
 
     With ``drain`` the trace ends with ``read_latency`` quiet cycles, so the result of every read in
-    it is observed within the trace.
+    it is observed within the trace. With several clocks the trace starts at tick ``first_tick`` of
+    the timeline (a model that has already stepped k times stands at tick k).
     """
     plan = _Plan(contract, max_pool)
     pools = st.lists(addresses(contract), min_size=1, max_size=max_pool, unique=True)
@@ -222,6 +236,48 @@ def traces(
     def draw_trace(draw: st.DrawFn) -> Trace:
         pool = draw(pools)
         raw = [c for b in draw(blocks) for c in b]
-        return Trace(tuple(tuple(_resolve(r, pool) for r in c) for c in raw) + tail)
+        cycles = _fit(contract, [tuple(_resolve(r, pool) for r in c) for c in raw] + list(tail), first_tick)
+        power = draw(power_states(contract, len(cycles))) if contract.power is not None else ()
+        return Trace(tuple(cycles), tuple(power))
 
     return draw_trace()
+
+
+def _fit(contract: Contract, cycles: list[Cycle], first_tick: int) -> list[Cycle]:
+    """Make drawn cycles valid for the new contract features: ``NO_EDGE`` where a port's clock has no
+    edge at the tick, and a write with no lane enabled on a port without write_enable becomes the
+    read those pins mean."""
+    any_lane = [p.any_lane_write for p in contract.ports]
+    if any(any_lane):
+        cycles = [
+            tuple(
+                PortOp(OpKind.READ, op.address) if a and op.kind == OpKind.WRITE and op.lanes == 0 else op
+                for op, a in zip(c, any_lane, strict=True)
+            )
+            for c in cycles
+        ]
+    if contract.lockstep:
+        return cycles
+    ticks = timeline(contract.port_clocks, count=first_tick + len(cycles))[first_tick:]
+    return [
+        tuple(op if p.clock in t.clocks else NO_EDGE for op, p in zip(c, contract.ports, strict=True))
+        for c, t in zip(cycles, ticks, strict=True)
+    ]
+
+
+def power_states(contract: Contract, n: int) -> st.SearchStrategy[list[Power]]:
+    """``n`` power states: mostly on, with sleep and shutdown episodes of random length (only the
+    states the contract has pins for). Shrinks toward always on."""
+    spec = contract.power
+    states = [Power.ON]
+    if spec is not None and spec.sleep is not None:
+        states.append(Power.SLEEP)
+    if spec is not None and spec.shutdown is not None:
+        states.append(Power.SHUTDOWN)
+    runs = st.lists(st.tuples(st.sampled_from(states), st.integers(1, 6)), max_size=6)
+
+    def lay(parts: list[tuple[Power, int]]) -> list[Power]:
+        out = [s for state, k in parts for s in [state] * k][:n]
+        return out + [Power.ON] * (n - len(out))
+
+    return runs.map(lay)

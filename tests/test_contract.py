@@ -14,7 +14,7 @@ from hypothesis import strategies as st
 
 from memcheck import ContractError, load_contract, parse_contract
 from memcheck.cli import main
-from memcheck.contract import contract_from_dict
+from memcheck.contract import ClockSpec, contract_from_dict
 from tests.contract_strategies import contract_dicts
 
 DOC_EXAMPLE = """
@@ -211,3 +211,231 @@ def test_documented_example_round_trips_through_tomllib() -> None:
     for block in blocks:
         parse_contract(block, source="docs/contract.md")
         assert tomllib.loads(block)
+
+
+# --- the keys for clocks, timing, lanes, out_of_range, power and tied pins -------------------------
+
+NEW_KEYS_EXAMPLE = """
+[memory]
+words = 512
+width = 33
+lanes = [8, 8, 8, 8, 1]
+read_latency = 1
+out_of_range = "wrap"
+collision_window = 1.5
+
+[rtl]
+sources = ["tdp.v"]
+top = "tdp"
+tie = { regce = 1, wfull = 0 }
+
+[timing]
+sample = 6.0
+timescale = "1ns/1ps"
+
+[[clock]]
+name = "clka"
+period = 10.0
+phase = 0.0
+
+[[clock]]
+name = "clkb"
+period = 7.5
+phase = 2.5
+
+[power]
+sleep = "slp"
+shutdown = "sd_n"
+active_low = ["sd_n"]
+wake_cycles = 2
+sleep_read_data = "zero"
+effect = "edge"
+
+[[port]]
+name = "a"
+role = "readwrite"
+clock = "clka"
+address = "addra"
+write_data = "dina"
+lane_enable = "wea"
+read_data = "douta"
+
+[[port]]
+name = "b"
+role = "read"
+clock = "clkb"
+enable = "enb"
+address = "addrb"
+read_data = "doutb"
+"""
+
+
+def test_new_keys_load() -> None:
+    c = parse_contract(NEW_KEYS_EXAMPLE)
+    m = c.memory
+    assert (m.lane_map, m.lanes, m.out_of_range, m.collision_window) == ((8, 8, 8, 8, 1), 5, "wrap", 1.5)
+    assert [(k.name, k.period, k.phase) for k in c.port_clocks] == [("clka", 10.0, 0.0), ("clkb", 7.5, 2.5)]
+    assert not c.lockstep and c.ports[0].any_lane_write
+    assert c.timing.sample == 6.0 and c.timing.timescale == "1ns/1ps"
+    assert c.power is not None and c.power.pins() == {"sleep": "slp", "shutdown": "sd_n"}
+    assert c.power.active_low == {"sd_n"} and c.power.wake_cycles == 2
+    assert c.rtl is not None and dict(c.rtl.tie) == {"regce": 1, "wfull": 0}
+
+
+def test_a_port_clock_without_a_clock_table_takes_the_defaults() -> None:
+    text = NEW_KEYS_EXAMPLE.replace('[[clock]]\nname = "clkb"\nperiod = 7.5\nphase = 2.5\n', "")
+    c = parse_contract(text)
+    assert c.clock_spec("clkb") == ClockSpec("clkb", 10.0, 0.0)
+    assert c.lockstep  # both clocks at 10 ns, phase 0: every edge is simultaneous
+
+
+def test_existing_contracts_keep_their_meaning() -> None:
+    c = parse_contract(DOC_EXAMPLE)
+    m = c.memory
+    assert (m.lane_map, m.out_of_range, m.collision_window, c.power, c.clocks) == (None, "unchecked", 0.0, None, ())
+    assert c.lockstep and c.timing.sample is None and c.timing.timescale == "1ns/1ps"
+
+
+def _new(replace: str, by: str) -> str:
+    assert replace in NEW_KEYS_EXAMPLE, replace
+    return NEW_KEYS_EXAMPLE.replace(replace, by)
+
+
+# The issue's bad-input list (and the other mistakes each new key invites): every row exits 2 with
+# one paragraph naming the file, the key and what is allowed.
+BAD_NEW_KEYS = [
+    (
+        "lanes and lane_width",
+        _new("lanes = [8, 8, 8, 8, 1]", "lanes = [8, 8, 8, 8, 1]\nlane_width = 11"),
+        "lanes and lane_width cannot both be set",
+    ),
+    (
+        "lanes and bit_mask",
+        _new("lanes = [8, 8, 8, 8, 1]", "lanes = [8, 8, 8, 8, 1]\nbit_mask = true"),
+        "lanes and bit_mask = true cannot both be set",
+    ),
+    ("lanes not summing to the width", _new("[8, 8, 8, 8, 1]", "[8, 8, 8, 8]"), "sums to 32 bits, but width = 33"),
+    ("lanes not a list of widths", _new("[8, 8, 8, 8, 1]", "[8, 0, 25]"), "a list of lane widths"),
+    ("wrap with a depth not a power of two", _new("words = 512", "words = 500"), "needs words to be a power of two"),
+    ("out_of_range misspelt", _new('"wrap"', '"wrapped"'), '"unchecked" | "ignore" | "wrap"'),
+    (
+        "sample not inside the clock period",
+        _new("sample = 6.0", "sample = 8.0"),
+        "sample = 8.0 is not inside the clock period of 'clkb' (7.5 ns)",
+    ),
+    ("sample not positive", _new("sample = 6.0", "sample = 0"), "0 < sample < 10.0"),
+    ("timescale malformed", _new('timescale = "1ns/1ps"', 'timescale = "1 nsec"'), "a Verilog timescale"),
+    ("timescale precision coarser than unit", _new('"1ns/1ps"', '"1ps/1ns"'), "a Verilog timescale"),
+    (
+        "period finer than the precision",
+        _new("period = 7.5", "period = 7.5005"),
+        "not a whole number of the timescale's precision",
+    ),
+    ("clock table naming no port clock", _new('name = "clkb"', 'name = "clk_b"'), "Did you mean 'clkb'"),
+    ("phase not below the period", _new("phase = 2.5", "phase = 7.5"), "0 <= phase < 7.5"),
+    ("period not positive", _new("period = 7.5", "period = 0"), "a number of ns > 0"),
+    ("unknown key in a clock table", _new("phase = 2.5", "phse = 2.5"), "Did you mean 'phase'"),
+    (
+        "collision_window longer than a period",
+        _new("collision_window = 1.5", "collision_window = 8.0"),
+        "longer than the shortest clock period",
+    ),
+    ("collision_window negative", _new("collision_window = 1.5", "collision_window = -1"), "a number of ns >= 0"),
+    (
+        "power table with no pin",
+        _new('sleep = "slp"\nshutdown = "sd_n"\nactive_low = ["sd_n"]\n', ""),
+        "[power] names no pin",
+    ),
+    (
+        "power active_low naming another pin",
+        _new('active_low = ["sd_n"]', 'active_low = ["enb"]'),
+        "active_low lists 'enb', which is not a power pin",
+    ),
+    ("power pin that is a port pin", _new('sleep = "slp"', 'sleep = "enb"'), "already port 'b' enable"),
+    ("unknown key in [power]", _new("wake_cycles = 2", "wake_cycle = 2"), "Did you mean 'wake_cycles'"),
+    (
+        "sleep_read_data misspelt",
+        _new('sleep_read_data = "zero"', 'sleep_read_data = "zeros"'),
+        '"unknown" | "zero" | "keep"',
+    ),
+    ("tied pin that is a port pin", _new("regce = 1", "addrb = 1"), "[rtl] tie.addrb names 'addrb'"),
+    ("tied pin with a negative value", _new("regce = 1", "regce = -1"), "a non-negative integer"),
+    ("power pin also tied", _new("regce = 1", "slp = 0"), "is both a [power] pin and tied in [rtl] tie"),
+    (
+        "readwrite port without write_enable or lanes",
+        _new("lanes = [8, 8, 8, 8, 1]\n", "").replace('lane_enable = "wea"\n', ""),
+        "write_enable is missing",
+    ),
+]
+
+
+@pytest.mark.parametrize(("label", "text", "needle"), BAD_NEW_KEYS, ids=[r[0] for r in BAD_NEW_KEYS])
+def test_bad_new_keys_exit_2_with_one_paragraph(
+    label: str, text: str, needle: str, tmp_path: Path, capsys: pytest.CaptureFixture[str]
+) -> None:
+    f = tmp_path / "bad.toml"
+    f.write_text(text)
+    (tmp_path / "tdp.v").write_text("")
+    assert main(["contract", "validate", str(f)]) == 2, label
+    err = capsys.readouterr().err
+    assert needle in " ".join(err.split()), err
+    assert str(f) in err and "Traceback" not in err
+    assert len([ln for ln in err.strip().split("\n\n") if ln.strip()]) == 1  # one paragraph
+
+
+def test_lane_enable_pin_of_the_wrong_width_is_one_paragraph() -> None:
+    # The pin check (against the elaborated top) needs one lane-enable bit per lane of the map.
+    from memcheck.errors import SimulationError
+    from memcheck.sim.plumbing.pins import TopPort, check_pins
+
+    c = parse_contract(NEW_KEYS_EXAMPLE)
+    ports = {
+        n: TopPort(n, d, w)  # type: ignore[arg-type]
+        for n, d, w in [
+            ("clka", "input", 1),
+            ("clkb", "input", 1),
+            ("addra", "input", 9),
+            ("dina", "input", 33),
+            ("wea", "input", 4),
+            ("douta", "output", 33),
+            ("enb", "input", 1),
+            ("addrb", "input", 9),
+            ("doutb", "output", 33),
+        ]
+    }
+    with pytest.raises(SimulationError, match=r"'wea' .* is 4 bits wide, but the contract needs 5 bits"):
+        check_pins(c, ports, "tdp")
+
+
+def test_validate_explains_the_new_keys_and_what_is_left_unchecked(
+    tmp_path: Path, capsys: pytest.CaptureFixture[str]
+) -> None:
+    f = tmp_path / "c.toml"
+    f.write_text(NEW_KEYS_EXAMPLE)
+    (tmp_path / "tdp.v").write_text("")
+    assert main(["contract", "validate", str(f)]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    for needle in (
+        "rising edges at 2.5 + k x 7.5 ns",
+        "lane 4 = bit 32",
+        "no write_enable: an access with any lane enable active writes those lanes",
+        "address a selects word a mod 512",
+        "less than 1.5 ns apart collide",
+        "slp (active high)",
+        "sd_n (active low)",
+        "2 edge(s) after both pins deassert make no access",
+        "read data is sampled 6.0 ns after the rising edge",
+        "regce = 1",
+        # unchecked
+        "accesses and read data on the first 2 edge(s) after wake-up (wake_cycles)",
+        "contents after a shutdown",
+        "less than 1.5 ns away (collision_window)",
+    ):
+        assert needle in out, needle
+
+
+def test_contracts_pickle_for_the_simulator_side() -> None:
+    import pickle
+
+    c = parse_contract(NEW_KEYS_EXAMPLE, base_dir=Path("/proj"))
+    assert pickle.loads(pickle.dumps(c)) == c

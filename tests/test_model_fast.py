@@ -173,3 +173,42 @@ def test_the_segmented_scan_equals_a_sequential_fold(updates: list[tuple[int, in
         state[a] = (known, value)
         # the composed update applied to "nothing known" gives the same state
         assert (int(s_[i, 0]), int(d[i, 0])) == (known, value)
+
+
+@settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(
+    st.data(),
+    contracts(max_words=12, max_width=40, max_ports=3, new_keys=True),
+    st.sampled_from(["forget", "reset", "power-up"]),
+)
+def test_fast_model_agrees_on_lane_maps_any_lane_writes_and_out_of_range(
+    data: st.DataObject, contract: Contract, start: str
+) -> None:
+    parts = data.draw(st.lists(traces(contract, max_blocks=8, drain=False), min_size=1, max_size=3))
+    cycles = [c for t in parts for c in t.cycles]
+    value, known = expected(contract, Columns.from_cycles(contract, cycles), _contents(contract, start))
+    assert expected_rows(value, known) == _model_rows(contract, cycles, start)
+
+
+def test_fast_model_refuses_several_clocks_and_power_pins_with_the_reason() -> None:
+    from memcheck.contract import contract_from_dict
+    from memcheck.model_fast import FastModelUnsupported, unsupported
+
+    doc = {
+        "memory": {"words": 4, "width": 8},
+        "rtl": {"sources": ["x.v"], "top": "t"},
+        "port": [
+            {"name": "w", "role": "write", "clock": "wclk", "enable": "we", "address": "wa", "write_data": "wd"},
+            {"name": "r", "role": "read", "clock": "rclk", "address": "ra", "read_data": "rd"},
+        ],
+    }
+    same = contract_from_dict(doc)  # two clock pins with the default (identical) edges: lockstep
+    assert unsupported(same) is None
+    two = contract_from_dict({**doc, "clock": [{"name": "rclk", "period": 7.0}]})
+    assert unsupported(two) == "its ports step on clocks with different edges"
+    with pytest.raises(FastModelUnsupported, match="different edges"):
+        Columns.from_cycles(two, [])
+    powered = contract_from_dict({**doc, "power": {"sleep": "slp"}})
+    assert unsupported(powered) == "it has [power] pins"
+    with pytest.raises(FastModelUnsupported, match=r"\[power\]"):
+        expected(powered, Columns.empty(same, 2))

@@ -4,15 +4,27 @@ from __future__ import annotations
 
 import click
 from rich.console import Console
+from rich.markup import escape
 from rich.table import Table
 
 from memcheck.cli import cli
-from memcheck.contract import load_contract
+from memcheck.contract import Contract, key_explanations, load_contract
 
 
 @cli.group("contract")
 def contract_group() -> None:
     """Inspect memory contract files."""
+
+
+def _writes(c: Contract) -> str:
+    m = c.memory
+    if m.bit_mask:
+        return "bit mask"
+    if m.lane_map is not None:
+        return f"{m.lanes} lanes of {', '.join(map(str, m.lane_map))} bits (LSB first)"
+    if m.lane_width:
+        return f"{m.lanes} lanes of {m.lane_width} bits"
+    return "whole-word"
 
 
 @contract_group.command("validate")
@@ -25,8 +37,7 @@ def validate(contract_file: str) -> None:
     console.print(f"[bold]{contract_file}[/bold]: valid contract")
     t = Table(show_header=False, box=None)
     t.add_row("geometry", f"{m.words} words x {m.width} bits")
-    writes = "bit mask" if m.bit_mask else f"{m.lanes} lanes of {m.lane_width} bits" if m.lane_width else "whole-word"
-    t.add_row("writes", writes)
+    t.add_row("writes", _writes(c))
     t.add_row("read latency", str(m.read_latency))
     for key in ("read_during_write", "collision", "write_collision", "initial", "idle_read_data"):
         t.add_row(key, str(getattr(m, key)))
@@ -37,9 +48,11 @@ def validate(contract_file: str) -> None:
             "reset",
             f"{c.reset.signal} ({'active low' if c.reset.active_low else 'active high'}, {c.reset.cycles} cycles)",
         )
+    for key, meaning in key_explanations(c):
+        t.add_row(escape(key), escape(meaning))
     console.print(t)
     unchecked = c.unchecked_behaviours()
     if unchecked:
         console.print("Not promised by this contract (left unknown, so never checked):")
         for u in unchecked:
-            console.print(f"  - {u}")
+            console.print(f"  - {escape(u)}")
