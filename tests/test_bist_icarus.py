@@ -25,6 +25,7 @@ from memcheck.bist.verify import UnitResult, run_on_wrapper, run_units, verify_e
 from memcheck.contract import Contract, PortSpec, load_contract
 from memcheck.examples import examples_dir
 from memcheck.march import algorithm_names, limbs_to_int
+from memcheck.ops import OpKind
 
 pytestmark = pytest.mark.icarus
 
@@ -106,7 +107,7 @@ def test_stuck_at_bit_is_reported_where_the_stream_first_reads_the_other_value(
     # Oracle: the Python stream's first read of that address expecting the other value at that bit.
     s = plan.stream.collect()
     expected = np.array([limbs_to_int(w) for w in s.expected])
-    hit = (s.op == 0) & (s.address == addr) & (((expected >> bit) & 1) != value)
+    hit = (s.op == OpKind.READ) & (s.address == addr) & (((expected >> bit) & 1) != value)
     first = int(np.flatnonzero(hit)[0])
     assert r.verdict == "FAIL", r
     assert r.int_value("fail_addr") == addr

@@ -21,7 +21,7 @@ from memcheck.bist.campaign.rtl import ShardJob, build_harness, run_shard
 from memcheck.bist.faulty_memory import ROW_BITS, ROW_FIELDS, MemoryShape, pack_row
 from memcheck.bist.microcode import plan_engine
 from memcheck.cli import main
-from memcheck.faults.universe import CLASSES
+from memcheck.faults.universe import STATIC_CLASSES as CLASSES
 from memcheck.march.library import algorithm_names
 
 pytestmark = pytest.mark.skipif(shutil.which("iverilog") is None, reason="needs Icarus Verilog")

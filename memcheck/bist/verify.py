@@ -23,6 +23,7 @@ from memcheck.bist.verilog import engine_verilog
 from memcheck.contract import Contract, PortSpec
 from memcheck.errors import BistError
 from memcheck.march import Pause, write_export
+from memcheck.ops import OpKind
 
 _LINE = re.compile(r"^memcheck-bist (\S+) (PASS|FAIL|DIFF|TIMEOUT)\b(.*)$")
 _KV = re.compile(r"(\w+)=(\S+)")
@@ -164,7 +165,7 @@ def _line_to_step(plan: EnginePlan, line: int) -> str:
         if line < seen + len(item):
             i = line - seen
             el = plan.test.elements[item.element]
-            op = "write" if item.op[i] else "read"
+            op = "write" if item.op[i] == OpKind.WRITE else "read"
             return (
                 f"element {item.element} {el.to_ascii()} operation {int(item.step[i])} ({op}) at address "
                 f"{int(item.address[i]):#x}, background {plan.backgrounds[item.background].name}"
