@@ -58,6 +58,12 @@ class SimulationError(MemcheckError):
     """The simulator could not build, start, or finish a run (compile errors, missing pins, hangs)."""
 
 
+class NotYetSimulated(SimulationError):
+    """A contract key the contract and the model support but the simulator harness does not honour yet
+    (raised before anything is built, so no verdict is ever given on a contract the harness would drive
+    wrongly)."""
+
+
 class ReplayError(MemcheckError):
     """A replay file that cannot be read or does not match its contract."""
 

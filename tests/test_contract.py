@@ -394,6 +394,10 @@ def test_lane_enable_pin_of_the_wrong_width_is_one_paragraph() -> None:
         for n, d, w in [
             ("clka", "input", 1),
             ("clkb", "input", 1),
+            ("slp", "input", 1),
+            ("sd_n", "input", 1),
+            ("regce", "input", 1),
+            ("wfull", "input", 1),
             ("addra", "input", 9),
             ("dina", "input", 33),
             ("wea", "input", 4),

@@ -23,6 +23,7 @@ from memcheck._atomic import open_atomic
 from memcheck.contract import Contract, load_contract
 from memcheck.records import CheckedTrace, Failure
 from memcheck.sim.checking.outcome import RunResult
+from memcheck.sim.checking.support import require_simulator_support
 from memcheck.sim.options import SimOptions
 from memcheck.sim.plumbing.build import Build, build
 from memcheck.sim.plumbing.harness import WAVE_FILE
@@ -81,6 +82,7 @@ class Session:
         folder (None: the output folder itself). The seed is drawn here when the options have none."""
         t0 = time.perf_counter()
         c, path = resolve_contract(contract)
+        require_simulator_support(c)
         if options.seed is None:
             options = options.replace(seed=fresh_seed())
         base = default_out_dir(c, path)

@@ -121,6 +121,13 @@ def _op_tables(contract: Contract) -> np.ndarray:
     return np.array(rows, dtype=np.int8)
 
 
+def _no_lane_writes_read(contract: Contract, kind: np.ndarray, lanes: np.ndarray, given: np.ndarray) -> None:
+    """In place: on a port without write_enable, a write with no lane enabled is the read those pins mean."""
+    for p, port in enumerate(contract.ports):
+        if port.any_lane_write:
+            kind[(kind[:, p] == WRITE) & given[:, p] & ~lanes[:, p].any(axis=1), p] = READ
+
+
 def decode(contract: Contract, spec: BulkSpec, *, drain: bool = True) -> Columns:
     """The trace a bulk example stands for (see the module docstring for the byte format)."""
     m = contract.memory
@@ -236,6 +243,7 @@ def decode(contract: Contract, spec: BulkSpec, *, drain: bool = True) -> Columns
     for p, port in enumerate(ports):
         kind[rest, p] = IDLE if port.can_idle else READ
 
+    _no_lane_writes_read(contract, kind, lanes, given)
     # Clean pins where nothing asks for values: reads carry no data; an idle port whose record bytes
     # select nothing (and which is not resting from an operation) has clean pins.
     reads = kind == READ

@@ -15,6 +15,7 @@ from memcheck.contract import Contract, load_contract
 from memcheck.errors import InvalidOperation, MemcheckError, ReplayError
 from memcheck.model import Model
 from memcheck.records import CheckResult, CheckVerdict, Failure, ReplayResult
+from memcheck.sim.checking.support import require_simulator_support
 from memcheck.sim.options import PHASES, SimOptions
 from memcheck.sim.plumbing.icarus import ProgressCallback
 from memcheck.sim.replayfile import file_digest, read_replay
@@ -98,6 +99,7 @@ def replay_file(
     if not rf.contract_path.is_file():
         raise ReplayError(f"{path}: its contract {rf.contract_path} does not exist.")
     c = load_contract(rf.contract_path)
+    require_simulator_support(c)
     _validate_trace(c, rf.failure, Path(path))
     opts = (options or SimOptions()).replace(**overrides)
     opts = opts.replace(seed=rf.seed, out_dir=opts.out_dir or Path(path).resolve().parent)

@@ -29,8 +29,7 @@ from memcheck.sim.plumbing.layout import Layout
 from memcheck.sim.plumbing.pins import PinCheck, check_pins, read_ports
 
 #: Bump when the harness or build steps change, so old build folders are not reused.
-BUILD_FORMAT = 4
-TIMESCALE = ("1ns", "1ps")
+BUILD_FORMAT = 5
 _MAX_ERROR_LINES = 40
 
 
@@ -77,7 +76,8 @@ def build_key(contract: Contract) -> str:
     rtl = _rtl(contract)
     h = hashlib.sha256()
     h.update(f"format {BUILD_FORMAT}\n".encode())
-    h.update(repr((contract.memory, contract.ports, contract.reset)).encode())
+    h.update(repr((contract.memory, contract.ports, contract.reset, contract.port_clocks)).encode())
+    h.update(repr((contract.timing, contract.power, sorted(rtl.tie.items()))).encode())
     h.update(repr((rtl.top, sorted(rtl.parameters.items()), sorted(rtl.defines.items()))).encode())
     for src in rtl.sources:
         h.update(str(src.resolve()).encode() + b"\0" + src.read_bytes() + b"\0")
@@ -102,7 +102,22 @@ def _locked(folder: Path) -> Iterator[None]:
             fcntl.flock(fh, fcntl.LOCK_UN)
 
 
-def _compile(rtl: RtlSpec, sources: list[Path], top: str, build_dir: Path, log: Path, *, parameters: bool) -> None:
+def timescale_of(contract: Contract) -> tuple[str, str]:
+    """``[timing] timescale`` as (unit, precision): the timescale of RTL files without a `timescale."""
+    unit, precision = contract.timing.timescale.replace(" ", "").split("/")
+    return unit, precision
+
+
+def _compile(
+    rtl: RtlSpec,
+    sources: list[Path],
+    top: str,
+    build_dir: Path,
+    log: Path,
+    *,
+    parameters: bool,
+    timescale: tuple[str, str],
+) -> None:
     from memcheck.sim.plumbing.icarus import CommandFailed, QuietIcarus
 
     runner = QuietIcarus()
@@ -114,7 +129,7 @@ def _compile(rtl: RtlSpec, sources: list[Path], top: str, build_dir: Path, log: 
             includes=list(rtl.include_dirs),
             defines=dict(rtl.defines),
             parameters=dict(rtl.parameters) if parameters else {},
-            timescale=TIMESCALE,
+            timescale=timescale,
             log_file=log,
         )
     except CommandFailed:
@@ -135,7 +150,8 @@ def build(contract: Contract, cache_root: Path) -> Build:
     folder = Path(cache_root).resolve() / f"{rtl.top}-{build_key(contract)}"
     with _locked(folder):
         probe = folder / "probe"
-        _compile(rtl, list(rtl.sources), rtl.top, probe, folder / "probe.log", parameters=True)
+        scale = timescale_of(contract)
+        _compile(rtl, list(rtl.sources), rtl.top, probe, folder / "probe.log", parameters=True, timescale=scale)
         ports = read_ports(probe / "sim.vvp", rtl.top)
         pins = check_pins(contract, ports, rtl.top)
         layout = Layout.build(contract, pins.widths)
@@ -143,7 +159,15 @@ def build(contract: Contract, cache_root: Path) -> Build:
         harness = folder / f"{HARNESS_TOP}.v"
         if not harness.is_file() or harness.read_text(encoding="utf-8") != text:
             harness.write_text(text, encoding="utf-8")
-        _compile(rtl, [*rtl.sources, harness], HARNESS_TOP, folder / "sim", folder / "build.log", parameters=False)
+        _compile(
+            rtl,
+            [*rtl.sources, harness],
+            HARNESS_TOP,
+            folder / "sim",
+            folder / "build.log",
+            parameters=False,
+            timescale=scale,
+        )
     return Build(contract=contract, folder=folder, layout=layout, pins=pins)
 
 

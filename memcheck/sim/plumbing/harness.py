@@ -40,7 +40,6 @@ def _param_value(value: int | str) -> str:
 
 def harness_text(contract: Contract, layout: Layout, top: str, parameters: Mapping[str, int | str]) -> str:
     """Verilog source of the harness for ``contract`` around module ``top``."""
-    clock = contract.clock
     inputs: list[Field] = []
     if layout.reset is not None:
         inputs.append(layout.reset)
@@ -66,7 +65,10 @@ def harness_text(contract: Contract, layout: Layout, top: str, parameters: Mappi
     ]
     lines += [_decl("reg", _sig(f.pin), f.width) for f in inputs]
     lines += [_decl("wire", _sig(f.pin), f.width) for f in outputs]
-    conns = [f".{clock}(mc_clk)"] + [f".{f.pin}({_sig(f.pin)})" for f in inputs + outputs]
+    # Every port clock has the same edges here (see memcheck.sim.checking.support): one clock drives all.
+    conns = [f".{clock}(mc_clk)" for clock in contract.clock_names]
+    conns += [f".{pin}({width}'d{value})" for pin, width, value in layout.ties]
+    conns += [f".{f.pin}({_sig(f.pin)})" for f in inputs + outputs]
     params = ""
     if parameters:
         params = " #(" + ", ".join(f".{k}({_param_value(v)})" for k, v in parameters.items()) + ")"

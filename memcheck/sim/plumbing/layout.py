@@ -19,7 +19,7 @@ import numpy as np
 from memcheck._limbs import bits_to_limbs, limbs_to_bits
 from memcheck.contract import Contract, PortSpec
 from memcheck.errors import InvalidOperation
-from memcheck.model_fast import IDLE, WRITE, Columns, limbs_of
+from memcheck.model_fast import IDLE, READ, WRITE, Columns, limbs_of
 from memcheck.ops import Cycle, OpKind, PortOp
 from memcheck.records import Observed
 
@@ -70,6 +70,8 @@ class Layout:
     reset: Field | None
     stim_width: int
     cap_width: int
+    #: ``[rtl] tie`` pins held at a constant by the harness: (pin, width, value).
+    ties: tuple[tuple[str, int, int], ...] = ()
 
     @classmethod
     def build(cls, contract: Contract, widths: Mapping[str, int]) -> Layout:
@@ -102,7 +104,9 @@ class Layout:
                 rdata = Field(p.read_data, cap, m.width)
                 cap += m.width
             ports.append(PortFields(p, address, enable, we, wdata, lanes, rdata))
-        return cls(contract, tuple(ports), reset, max(stim, 1), max(cap, 1))
+        tie = contract.rtl.tie if contract.rtl is not None else {}
+        ties = tuple((pin, widths.get(pin, 1), value) for pin, value in tie.items())
+        return cls(contract, tuple(ports), reset, max(stim, 1), max(cap, 1), ties)
 
     # -- stimulus ------------------------------------------------------------------------
 
@@ -142,7 +146,9 @@ class Layout:
         put(pf.address, op.address)
         put(pf.write_data, op.data)
         if pf.lane_enable is not None:
-            put(pf.lane_enable, 0 if clean_idle else (pf.lane_enable.mask if op.lanes is None else op.lanes))
+            # Without write_enable, a port writes when any lane is enabled: its reads enable none.
+            quiet = clean_idle or (op.kind == OpKind.READ and pf.spec.any_lane_write)
+            put(pf.lane_enable, 0 if quiet else (pf.lane_enable.mask if op.lanes is None else op.lanes))
         return word
 
     def idle_word(self) -> int:
@@ -201,8 +207,7 @@ class Layout:
             put(pf.address, addr)
             put(pf.write_data, cols.data[:, i])
             if pf.lane_enable is not None:
-                lanes = np.where((idle & ~garbage)[:, None], np.uint64(0), cols.lanes[:, i])
-                put(pf.lane_enable, lanes)
+                put(pf.lane_enable, _lane_pins(pf, kind, idle & ~garbage, cols.lanes[:, i]))
         if narrow:
             shifts = np.arange(4 * (nib - 1), -1, -4, dtype=np.uint64)
             nibbles = (word[:, None] >> shifts) & np.uint64(15)
@@ -290,6 +295,13 @@ class Layout:
             defined = _to_ints((cols == ord("0")) | (cols == ord("1")))
             per_port.append([Observed(v, d) for v, d in zip(ones, defined, strict=True)])
         return [tuple(None if col is None else col[i] for col in per_port) for i in range(count)]
+
+
+def _lane_pins(pf: PortFields, kind: np.ndarray, clean_idle: np.ndarray, lanes: np.ndarray) -> np.ndarray:
+    """Lane-enable pins of one port over a trace: none on clean idle cycles, nor on reads of a port
+    without write_enable (it writes when any lane is enabled)."""
+    quiet = clean_idle | (kind == READ) if pf.spec.any_lane_write else clean_idle
+    return np.where(quiet[:, None], np.uint64(0), lanes)
 
 
 _COMMENT = re.compile(rb"//[^\n]*")

@@ -66,12 +66,21 @@ class PinCheck:
     unconnected_inputs: tuple[str, ...]
 
 
+#: The width of a tied pin: any (the constant is sized to the pin).
+ANY_WIDTH = 0
+
+
 def expected_pins(contract: Contract) -> dict[str, tuple[Direction, int | None, str]]:
-    """Pin -> (direction, required width or None for "at least the address bits", what it is)."""
+    """Pin -> (direction, required width, None for "at least the address bits" or :data:`ANY_WIDTH`,
+    what it is): every port clock, the reset, the power pins, the tied pins and each port's pins."""
     m = contract.memory
-    out: dict[str, tuple[Direction, int | None, str]] = {contract.clock: ("input", 1, "the clock")}
+    out: dict[str, tuple[Direction, int | None, str]] = {c: ("input", 1, "a clock") for c in contract.clock_names}
     if contract.reset is not None:
         out[contract.reset.signal] = ("input", 1, "the reset")
+    if contract.power is not None:
+        out.update({pin: ("input", 1, f"the {role} pin of [power]") for role, pin in contract.power.pins().items()})
+    if contract.rtl is not None:
+        out.update({pin: ("input", ANY_WIDTH, f"tied to {v} by [rtl] tie") for pin, v in contract.rtl.tie.items()})
     for p in contract.ports:
         where = f"port {p.name!r}"
         if p.enable:
@@ -99,11 +108,7 @@ def check_pins(contract: Contract, ports: Mapping[str, TopPort], top: str) -> Pi
     actual = "; ".join(p.describe() for p in ports.values()) or "(none)"
     widths: dict[str, int] = {}
     for pin, (direction, width, what) in expected_pins(contract).items():
-        want = (
-            f"{width} bit{'s' if width != 1 else ''}"
-            if width is not None
-            else (f"at least {m.address_bits} bit{'s' if m.address_bits != 1 else ''} for {m.words} words")
-        )
+        want = _wanted(width, m.address_bits, m.words)
         port = ports.get(pin)
         if port is None:
             raise SimulationError(
@@ -114,12 +119,34 @@ def check_pins(contract: Contract, ports: Mapping[str, TopPort], top: str) -> Pi
                 f"pin {pin!r} ({what}) of {top!r} is an {port.direction}, but the contract needs an "
                 f"{direction} of {want}. Its ports are: {actual}."
             )
-        ok = port.width >= m.address_bits if width is None else port.width == width
+        ok = port.width >= m.address_bits if width is None else width in (ANY_WIDTH, port.width)
         if not ok:
             raise SimulationError(
                 f"pin {pin!r} ({what}) of {top!r} is {port.width} bit{'s' if port.width != 1 else ''} wide, "
                 f"but the contract needs {want}. Its ports are: {actual}."
             )
         widths[pin] = port.width
+    _check_ties(contract, widths, top)
     spare = tuple(p.name for p in ports.values() if p.name not in widths and p.direction != "output")
     return PinCheck(widths=widths, unconnected_inputs=spare)
+
+
+def _wanted(width: int | None, address_bits: int, words: int) -> str:
+    if width == ANY_WIDTH:
+        return "any width"
+    if width is None:
+        return f"at least {address_bits} bit{'s' if address_bits != 1 else ''} for {words} words"
+    return f"{width} bit{'s' if width != 1 else ''}"
+
+
+def _check_ties(contract: Contract, widths: Mapping[str, int], top: str) -> None:
+    """Each ``[rtl] tie`` value must fit its pin as an unsigned number."""
+    if contract.rtl is None:
+        return
+    for pin, value in contract.rtl.tie.items():
+        w = widths[pin]
+        if not 0 <= value < 1 << w:
+            raise SimulationError(
+                f"[rtl] tie.{pin} = {value} does not fit pin {pin!r} of {top!r} ({w} bit{'s' if w != 1 else ''}); "
+                f"allowed: 0 to {(1 << w) - 1}."
+            )
