@@ -15,7 +15,7 @@ from memcheck.cli import main
 from memcheck.errors import SynthesisError
 from memcheck.faults import Arrangement, enumerate_class, models_of, simulate_reference
 from memcheck.march.notation import MarchTest
-from memcheck.synthesis import build_model, detects_all, steps_of, synthesize, to_test
+from memcheck.synthesis import build_model, detects_all, shortest_library_test, steps_of, synthesize, to_test
 from memcheck.synthesis.elements import DOWN, UP
 from memcheck.synthesis.evaluate import instance_detected
 from memcheck.synthesis.search import Step
@@ -218,3 +218,23 @@ def test_single_cell_dynamic_faults_need_11n() -> None:
     assert result.test is not None and result.length == 11
     assert result.proof.complete_below == 11 and not result.proof.timed_out
     assert _reference_all_detected(result.test, classes, Arrangement(4))
+
+
+def test_single_cell_static_9n_and_wide_words() -> None:
+    """The trade-off table's single-cell static row (docs/synthesis.md): the search's test detects
+    every instance by the reference engine on 8 x 1 and on 4 x 4 with one background, and no library
+    test of that length or shorter does on 64 x 1 (the shortest library one is longer)."""
+    classes = "SAF,TF,WDF,RDF,DRDF,IRF"
+    r = synthesize(classes, words=8)
+    assert r.test is not None and r.length == 9 and r.minimal
+    assert _reference_all_detected(r.test, classes, Arrangement(8, 1))
+    assert _reference_all_detected(r.test, classes, Arrangement(4, 4, None, "linear", "solid", None))
+    fb = shortest_library_test(Arrangement(64, 1), tuple(classes.split(",")))
+    assert fb is not None and fb.length > 9
+
+
+def test_shortest_library_test_saf_af_is_mats_plus() -> None:
+    """MATS (4n) misses decoder faults and MATS+ (5n) detects SAF and AF (Abadir and Reghbati, ACM
+    Computing Surveys 15(3), 1983; value written from memory)."""
+    fb = shortest_library_test(Arrangement(64, 1), ("SAF", "AF"))
+    assert fb is not None and fb.name == "MATS+" and fb.length == 5

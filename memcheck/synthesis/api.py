@@ -189,7 +189,7 @@ def _confirm(steps: tuple[Step, ...], anys: list[int], setup: Arrangement, class
     return coverage(test, setup, classes=classes)
 
 
-def _fallback(setup: Arrangement, classes: tuple[str, ...]) -> MarchTest | None:
+def shortest_library_test(setup: Arrangement, classes: tuple[str, ...]) -> MarchTest | None:
     """The shortest library test that detects every instance on the memory, if any."""
     for alg in sorted(ALGORITHMS, key=lambda a: a.length):
         if alg.test.delays and "DRF" not in classes:
@@ -258,7 +258,7 @@ def synthesize(
         time.monotonic() - t0,
     )
     if outcome.steps is None:
-        fb = _fallback(setup, cls) if outcome.timed_out else None
+        fb = shortest_library_test(setup, cls) if outcome.timed_out else None
         return SynthesisResult(cls, setup, max_length, None, None, proof, fb)
     anys = _any_elements(model, outcome.steps)
     report = _confirm(outcome.steps, anys, setup, cls)
