@@ -157,11 +157,17 @@ def _consistent(raw: list[tuple[list[str], int]]) -> tuple[Step, ...]:
     ),
     words=st.integers(2, 3),
     width=st.integers(1, 2),
+    several=st.booleans(),
 )
-def test_row_model_matches_reference_engine(raw: list[tuple[list[str], int]], cls: str, words: int, width: int) -> None:
-    """Per fault model: all its instances detected by the row model iff by the reference engine."""
+def test_row_model_matches_reference_engine(
+    raw: list[tuple[list[str], int]], cls: str, words: int, width: int, several: bool
+) -> None:
+    """Per fault model: all its instances detected by the row model iff by the reference engine; with
+    ``several``, the test runs once per background of a set (solid then checkerboard, or the standard
+    set on 2-bit words), the state carrying over between passes."""
     steps = _consistent(raw)
-    setup = Arrangement(words, width, backgrounds="checkerboard" if width > 1 else "solid")
+    bgs = ("standard" if width > 1 else "solid,checkerboard") if several else None
+    setup = Arrangement(words, width, backgrounds=bgs or ("checkerboard" if width > 1 else "solid"))
     model = build_model([cls], setup)
     test = to_test(steps)
     results = simulate_reference(test, enumerate_class(cls, setup), setup)
