@@ -107,6 +107,34 @@ def test_search_minimum_equals_brute_force(classes: str) -> None:
         assert result.proof.complete_below == 6
 
 
+@pytest.mark.parametrize(
+    ("classes", "words", "width", "backgrounds"),
+    [("SAF,AF", 4, 2, "standard"), ("CFin", 4, 2, "standard"), ("TF,CFst", 3, 1, "solid,checkerboard")],
+)
+def test_several_backgrounds_minimum_equals_brute_force(classes: str, words: int, width: int, backgrounds: str) -> None:
+    """Several backgrounds: the search (on pseudo-rows, passes composed at the end) finds the same
+    minimum as enumerating every test up to length 5 through the per-pass row model (``run_steps``
+    runs each pass in turn, an independent path); a found test is confirmed by the reference engine."""
+    setup = Arrangement(words, width, backgrounds=backgrounds)
+    model = build_model(classes.split(","), setup)
+    assert len(model.passes) == 2
+    brute = next((n for n in range(1, 6) if any(detects_all(model, t) for t in _all_tests(n))), None)
+    result = synthesize(classes, words=words, width=width, backgrounds=backgrounds, max_length=5)
+    assert (result.length if result.test is not None else None) == brute
+    if result.test is not None:
+        assert _reference_all_detected(result.test, classes, setup)
+
+
+def test_intra_word_coupling_needs_and_gets_several_backgrounds() -> None:
+    """CFst inside a 2-bit word: no test with the solid background alone (the search proves it), a 6n
+    test (per pass) with the standard pair of backgrounds, confirmed by the reference engine."""
+    with pytest.raises(SynthesisError, match="no March test detects"):
+        synthesize("CFst", words=4, width=2, backgrounds="solid")
+    r = synthesize("CFst", words=4, width=2, backgrounds="standard")
+    assert r.test is not None and r.length == 6 and r.minimal
+    assert _reference_all_detected(r.test, "CFst", Arrangement(4, 2, backgrounds="standard"))
+
+
 # --- the row model against the reference engine -------------------------------------------------
 
 _ELEMENT = st.tuples(st.lists(st.sampled_from(("r", "w0", "w1")), min_size=1, max_size=4), st.sampled_from((UP, DOWN)))
@@ -191,7 +219,7 @@ def test_row_model_matches_reference_engine(
         ({"classes": "SOF"}, "no cell-level model"),
         ({"classes": "SAF", "max_length": 1}, "below any possible test"),
         ({"classes": "CFst", "width": 2, "words": 4, "backgrounds": "solid"}, "no March test detects"),
-        ({"classes": "SAF", "width": 4, "backgrounds": "standard"}, "one data background"),
+        ({"classes": "SAF", "width": 8, "backgrounds": "standard"}, "more than the 3"),
     ],
 )
 def test_bad_input(kwargs: dict[str, object], needle: str) -> None:

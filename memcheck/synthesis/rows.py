@@ -271,6 +271,7 @@ class RowModel:
     pause: U8
     instances: tuple[Instance, ...]
     passes: tuple[tuple[U8, U8], ...] = ()
+    chain: IntArray | None = None  # set by passes.expand_passes: (pass - 1, row, start state) -> row
 
     @property
     def nbg(self) -> int:
@@ -297,9 +298,22 @@ class RowModel:
             tuple((np.ascontiguousarray(f[:, sel]), np.ascontiguousarray(q[:, sel])) for f, q in self.passes),
         )
 
+    def final(self, states: U8) -> U8:
+        """The state each original row ends the whole test in: the state itself, or for a model
+        expanded over several backgrounds, each pass's state looked up from where the previous
+        pass left the row (see :mod:`memcheck.synthesis.passes`)."""
+        if self.chain is None:
+            return states
+        nrow = self.chain.shape[1]
+        out = states[:, :nrow]
+        for k in range(self.chain.shape[0]):
+            idx = self.chain[k][np.arange(nrow)[None, :], out]
+            out = np.take_along_axis(states, idx, axis=1)
+        return out
+
     def complete(self, states: U8) -> BoolArray:
         """Which of ``states`` (n, rows) detect every instance."""
-        done = states == DET
+        done = self.final(states) == DET
         ok = np.ones(states.shape[0], bool)
         for inst in self.instances:
             any_alt = np.zeros(states.shape[0], bool)
