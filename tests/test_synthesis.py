@@ -15,7 +15,7 @@ from memcheck.cli import main
 from memcheck.errors import SynthesisError
 from memcheck.faults import Arrangement, enumerate_class, models_of, simulate_reference
 from memcheck.march.notation import MarchTest
-from memcheck.synthesis import build_model, detects_all, steps_of, synthesize, to_test
+from memcheck.synthesis import build_model, detects_all, shortest_library_test, steps_of, synthesize, to_test
 from memcheck.synthesis.elements import DOWN, UP
 from memcheck.synthesis.evaluate import instance_detected
 from memcheck.synthesis.search import Step
@@ -107,6 +107,34 @@ def test_search_minimum_equals_brute_force(classes: str) -> None:
         assert result.proof.complete_below == 6
 
 
+@pytest.mark.parametrize(
+    ("classes", "words", "width", "backgrounds"),
+    [("SAF,AF", 4, 2, "standard"), ("CFin", 4, 2, "standard"), ("TF,CFst", 3, 1, "solid,checkerboard")],
+)
+def test_several_backgrounds_minimum_equals_brute_force(classes: str, words: int, width: int, backgrounds: str) -> None:
+    """Several backgrounds: the search (on pseudo-rows, passes composed at the end) finds the same
+    minimum as enumerating every test up to length 5 through the per-pass row model (``run_steps``
+    runs each pass in turn, an independent path); a found test is confirmed by the reference engine."""
+    setup = Arrangement(words, width, backgrounds=backgrounds)
+    model = build_model(classes.split(","), setup)
+    assert len(model.passes) == 2
+    brute = next((n for n in range(1, 6) if any(detects_all(model, t) for t in _all_tests(n))), None)
+    result = synthesize(classes, words=words, width=width, backgrounds=backgrounds, max_length=5)
+    assert (result.length if result.test is not None else None) == brute
+    if result.test is not None:
+        assert _reference_all_detected(result.test, classes, setup)
+
+
+def test_intra_word_coupling_needs_and_gets_several_backgrounds() -> None:
+    """CFst inside a 2-bit word: no test with the solid background alone (the search proves it), a 6n
+    test (per pass) with the standard pair of backgrounds, confirmed by the reference engine."""
+    with pytest.raises(SynthesisError, match="no March test detects"):
+        synthesize("CFst", words=4, width=2, backgrounds="solid")
+    r = synthesize("CFst", words=4, width=2, backgrounds="standard")
+    assert r.test is not None and r.length == 6 and r.minimal
+    assert _reference_all_detected(r.test, "CFst", Arrangement(4, 2, backgrounds="standard"))
+
+
 # --- the row model against the reference engine -------------------------------------------------
 
 _ELEMENT = st.tuples(st.lists(st.sampled_from(("r", "w0", "w1")), min_size=1, max_size=4), st.sampled_from((UP, DOWN)))
@@ -157,11 +185,17 @@ def _consistent(raw: list[tuple[list[str], int]]) -> tuple[Step, ...]:
     ),
     words=st.integers(2, 3),
     width=st.integers(1, 2),
+    several=st.booleans(),
 )
-def test_row_model_matches_reference_engine(raw: list[tuple[list[str], int]], cls: str, words: int, width: int) -> None:
-    """Per fault model: all its instances detected by the row model iff by the reference engine."""
+def test_row_model_matches_reference_engine(
+    raw: list[tuple[list[str], int]], cls: str, words: int, width: int, several: bool
+) -> None:
+    """Per fault model: all its instances detected by the row model iff by the reference engine; with
+    ``several``, the test runs once per background of a set (solid then checkerboard, or the standard
+    set on 2-bit words), the state carrying over between passes."""
     steps = _consistent(raw)
-    setup = Arrangement(words, width, backgrounds="checkerboard" if width > 1 else "solid")
+    bgs = ("standard" if width > 1 else "solid,checkerboard") if several else None
+    setup = Arrangement(words, width, backgrounds=bgs or ("checkerboard" if width > 1 else "solid"))
     model = build_model([cls], setup)
     test = to_test(steps)
     results = simulate_reference(test, enumerate_class(cls, setup), setup)
@@ -185,7 +219,7 @@ def test_row_model_matches_reference_engine(raw: list[tuple[list[str], int]], cl
         ({"classes": "SOF"}, "no cell-level model"),
         ({"classes": "SAF", "max_length": 1}, "below any possible test"),
         ({"classes": "CFst", "width": 2, "words": 4, "backgrounds": "solid"}, "no March test detects"),
-        ({"classes": "SAF", "width": 4, "backgrounds": "standard"}, "one data background"),
+        ({"classes": "SAF", "width": 8, "backgrounds": "standard"}, "more than the 3"),
     ],
 )
 def test_bad_input(kwargs: dict[str, object], needle: str) -> None:
@@ -218,3 +252,23 @@ def test_single_cell_dynamic_faults_need_11n() -> None:
     assert result.test is not None and result.length == 11
     assert result.proof.complete_below == 11 and not result.proof.timed_out
     assert _reference_all_detected(result.test, classes, Arrangement(4))
+
+
+def test_single_cell_static_9n_and_wide_words() -> None:
+    """The trade-off table's single-cell static row (docs/synthesis.md): the search's test detects
+    every instance by the reference engine on 8 x 1 and on 4 x 4 with one background, and no library
+    test of that length or shorter does on 64 x 1 (the shortest library one is longer)."""
+    classes = "SAF,TF,WDF,RDF,DRDF,IRF"
+    r = synthesize(classes, words=8)
+    assert r.test is not None and r.length == 9 and r.minimal
+    assert _reference_all_detected(r.test, classes, Arrangement(8, 1))
+    assert _reference_all_detected(r.test, classes, Arrangement(4, 4, None, "linear", "solid", None))
+    fb = shortest_library_test(Arrangement(64, 1), tuple(classes.split(",")))
+    assert fb is not None and fb.length > 9
+
+
+def test_shortest_library_test_saf_af_is_mats_plus() -> None:
+    """MATS (4n) misses decoder faults and MATS+ (5n) detects SAF and AF (Abadir and Reghbati, ACM
+    Computing Surveys 15(3), 1983; value written from memory)."""
+    fb = shortest_library_test(Arrangement(64, 1), ("SAF", "AF"))
+    assert fb is not None and fb.name == "MATS+" and fb.length == 5

@@ -44,6 +44,9 @@ def _report(result: SynthesisResult, max_length: int) -> int:
     if result.test is not None:
         t = result.test
         click.echo(f"shortest test for {classes}: {t.length}n" + (f" + {t.delays} delay(s)" if t.delays else ""))
+        if result.report is not None and len(result.report.backgrounds) > 1:
+            bgs = result.report.backgrounds
+            click.echo(f"  run once per background ({', '.join(bgs)}): {t.length * len(bgs)} operations per word")
         click.echo(f"  {t.to_unicode()}")
         click.echo(f"  {t.to_ascii()}")
         click.echo("⇕ elements were confirmed in both address directions.")
@@ -73,7 +76,11 @@ def _report(result: SynthesisResult, max_length: int) -> int:
 @click.option("--words", type=int, default=DEFAULT_WORDS, show_default=True, help="Words in the memory.")
 @click.option("--width", type=int, default=1, show_default=True, help="Bits per word (1 = bit-oriented).")
 @address_order_options
-@click.option("--backgrounds", default=None, help="One data background (default: solid).")
+@click.option(
+    "--backgrounds",
+    default=None,
+    help="Data backgrounds, at most 3 (the test runs once per background; default: solid).",
+)
 @click.option("--max-length", type=int, default=DEFAULT_MAX_LENGTH, show_default=True, help="Longest test tried.")
 @click.option("--time-limit", type=float, default=None, help="Stop the search after S seconds.")
 @seed_option

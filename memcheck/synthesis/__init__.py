@@ -11,6 +11,7 @@ from memcheck.synthesis.api import (
     Proof,
     SynthesisResult,
     parse_fault_classes,
+    shortest_library_test,
     synthesize,
 )
 from memcheck.synthesis.evaluate import detects_all, run_steps, steps_of, to_test
@@ -27,6 +28,7 @@ __all__ = [
     "detects_all",
     "parse_fault_classes",
     "run_steps",
+    "shortest_library_test",
     "steps_of",
     "synthesize",
     "to_test",

@@ -17,12 +17,14 @@ from memcheck.march.library import ALGORITHMS
 from memcheck.march.notation import MarchTest
 from memcheck.synthesis.elements import DOWN, UP
 from memcheck.synthesis.evaluate import detects_all, to_test
+from memcheck.synthesis.passes import expand_passes
 from memcheck.synthesis.rows import RowModel, build_model, builder_for, complement_closed, mirror_closed
 from memcheck.synthesis.search import Search, SearchOutcome, Step
 
 DEFAULT_WORDS = 64
 DEFAULT_MAX_LENGTH = 32
 MIN_LENGTH = 2  # a test that detects anything writes and reads
+MAX_BACKGROUNDS = 3  # each later pass adds 9 pseudo-rows per row (every start state is tracked)
 _MAX_ANY_CHECK = 6  # ⇕ elements whose 2^k direction assignments are all confirmed with the engine
 
 
@@ -118,10 +120,11 @@ def parse_fault_classes(spec: str | Sequence[str]) -> tuple[str, ...]:
 def _setup(words: int, width: int, order: str, backgrounds: str | None, seed: int | None) -> Arrangement:
     setup = Arrangement(words, width, None, order, backgrounds, seed)
     rs = setup.resolve()
-    if rs.nbg != 1:
+    if rs.nbg > MAX_BACKGROUNDS:
         raise SynthesisError(
-            f"the synthesis search runs the test over one data background, but {setup.background_spec!r} gives "
-            f"{rs.nbg} for {width}-bit words; pass --backgrounds with a single background (e.g. solid)."
+            f"the synthesis search runs the test once per data background and tracks every pass's start state; "
+            f"{setup.background_spec!r} gives {rs.nbg} backgrounds for {width}-bit words, more than the "
+            f"{MAX_BACKGROUNDS} it handles. Pass --backgrounds with fewer (e.g. solid,checkerboard)."
         )
     return setup
 
@@ -130,7 +133,7 @@ def _undetectable(model: RowModel) -> list[str]:
     """Instances no March test in the space detects, found by exhausting each one's own space."""
     bad = []
     for i, inst in enumerate(model.instances):
-        sub = model.restrict(i)
+        sub = expand_passes(model.restrict(i))
         out = Search(sub, allow_delay=True).run(64)
         if out.exhausted and out.steps is None:
             bad.append(inst.label)
@@ -189,7 +192,7 @@ def _confirm(steps: tuple[Step, ...], anys: list[int], setup: Arrangement, class
     return coverage(test, setup, classes=classes)
 
 
-def _fallback(setup: Arrangement, classes: tuple[str, ...]) -> MarchTest | None:
+def shortest_library_test(setup: Arrangement, classes: tuple[str, ...]) -> MarchTest | None:
     """The shortest library test that detects every instance on the memory, if any."""
     for alg in sorted(ALGORITHMS, key=lambda a: a.length):
         if alg.test.delays and "DRF" not in classes:
@@ -230,8 +233,8 @@ def synthesize(
             f"value and reads it back, so it has at least {MIN_LENGTH} operations per word"
         )
     setup = _setup(words, width, order, backgrounds, seed)
-    model = build_model(cls, setup)
-    bad = _undetectable(model)
+    base = build_model(cls, setup)
+    bad = _undetectable(base)
     if bad:
         shown = "; ".join(bad[:5]) + (f"; and {len(bad) - 5} more" if len(bad) > 5 else "")
         raise SynthesisError(
@@ -239,6 +242,7 @@ def synthesize(
             f"search exhausted every reachable state of these cases without detecting them: {shown}. Drop the "
             "class, or change the geometry or data background."
         )
+    model = expand_passes(base)
     comp, mirror = complement_closed(cls), mirror_closed(setup)
     deadline = None if time_limit is None else t0 + time_limit
     search = Search(
@@ -258,7 +262,7 @@ def synthesize(
         time.monotonic() - t0,
     )
     if outcome.steps is None:
-        fb = _fallback(setup, cls) if outcome.timed_out else None
+        fb = shortest_library_test(setup, cls) if outcome.timed_out else None
         return SynthesisResult(cls, setup, max_length, None, None, proof, fb)
     anys = _any_elements(model, outcome.steps)
     report = _confirm(outcome.steps, anys, setup, cls)

@@ -48,21 +48,24 @@ def to_test(steps: Iterable[Step], any_elements: Iterable[int] = ()) -> MarchTes
 
 
 def run_steps(model: RowModel, steps: Iterable[Step]) -> U8:
-    """Final row states (rows,) after ``steps`` from power-up."""
+    """Final row states (rows,) after ``steps`` from power-up, run once per data background (the
+    state carrying over from one background's pass to the next, as the fault engines do)."""
     r = np.arange(model.rows)
     state = model.init.copy()
-    for st in steps:
-        if st.ops is None:
-            state = model.pause[r, state]
-            continue
-        p = np.broadcast_to(np.arange(WIDTH, dtype=np.uint8), (model.rows, WIDTH))
-        q = p
-        for o in st.ops:
-            p = model.first[o][r[:, None], p]
-            q = model.second[o][r[:, None], q]
-        p, q = CLEAR[p], CLEAR[q]  # two operations in a row never span words
-        t = q[r[:, None], p] if st.direction == UP else p[r[:, None], q]
-        state = t[r, state]
+    steps = tuple(steps)
+    for first, second in model.passes or ((model.first, model.second),):
+        for st in steps:
+            if st.ops is None:
+                state = model.pause[r, state]
+                continue
+            p = np.broadcast_to(np.arange(WIDTH, dtype=np.uint8), (model.rows, WIDTH))
+            q = p
+            for o in st.ops:
+                p = first[o][r[:, None], p]
+                q = second[o][r[:, None], q]
+            p, q = CLEAR[p], CLEAR[q]  # two operations in a row never span words
+            t = q[r[:, None], p] if st.direction == UP else p[r[:, None], q]
+            state = t[r, state]
     return state
 
 

@@ -22,7 +22,7 @@ Fault classes plug in by name through :data:`ROW_BUILDERS`.
 
 from __future__ import annotations
 
-from collections.abc import Callable, Iterator, Sequence
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 
 import numpy as np
@@ -187,18 +187,28 @@ def _af_rows(variant: int, relation: int, cx: int, cy: int) -> list[RowSpec]:
 # ---------------------------------------------------------------------------------------------------
 
 Built = list[tuple[str, list[list[RowSpec]]]]
+
+
+def _bit(code: int, bg: int) -> int:
+    """Bit ``bg`` of a signature code: whether the cell is complemented in background ``bg``."""
+    return (code >> bg) & 1
+
+
 _RELATION_NAMES = ("one cell", "same word", "aggressor's word first in ⇑", "victim's word first in ⇑")
 _AF_RELATION_NAMES = ("", "x first in ⇑", "y first in ⇑")  # (label, alternatives of row lists)
 
 
-def fp_builder(cls: str, setup: Arrangement) -> Built:
-    """Rows of an FP-based class over the relations and codes present in ``setup``."""
+def fp_builder(cls: str, setup: Arrangement, bg: int = 0) -> Built:
+    """Rows of an FP-based class over the relations and codes present in ``setup``, as they behave
+    in pass ``bg`` (the data background's flip bits of each signature code)."""
     rs = setup.resolve()
     models = models_of(cls)
     out: Built = []
     if not models[0].two_cell:
         for code in sorted(set(cell_table(rs).code.tolist())):
-            out += [(m.name + (f" (code {code})" if code else ""), [_cell_rows(m, 0, 0, code)]) for m in models]
+            out += [
+                (m.name + (f" (code {code})" if code else ""), [_cell_rows(m, 0, 0, _bit(code, bg))]) for m in models
+            ]
         return out
     if setup.cells < 2:
         return out
@@ -206,12 +216,12 @@ def fp_builder(cls: str, setup: Arrangement) -> Built:
     keys = sorted({(int(r), int(a), int(v)) for r, a, v in zip(pt.relation, pt.code_a, pt.code_v, strict=True)})
     for rel, ca, cv in keys:
         where = _RELATION_NAMES[rel] + (f", codes {ca}{cv}" if ca or cv else "")
-        out += [(f"{m.name} ({where})", [_cell_rows(m, rel, ca, cv)]) for m in models]
+        out += [(f"{m.name} ({where})", [_cell_rows(m, rel, _bit(ca, bg), _bit(cv, bg))]) for m in models]
     return out
 
 
-def af_builder(cls: str, setup: Arrangement) -> Built:
-    """Decoder-fault rows: per word pair class, one alternative per data bit."""
+def af_builder(cls: str, setup: Arrangement, bg: int = 0) -> Built:
+    """Decoder-fault rows: per word pair class, one alternative per data bit (pass ``bg``)."""
     rs = setup.resolve()
     codes = rs.class_codes()
     per_class = np.bincount(rs.wclass, minlength=codes.shape[0])
@@ -227,11 +237,11 @@ def af_builder(cls: str, setup: Arrangement) -> Built:
             bits = sorted(set(zip(bx, by, strict=True)))
             kind, wired = AF_VARIANTS[variant]
             label = kind + (f" ({wired})" if wired else "") + ("" if rel == 0 else f", {_AF_RELATION_NAMES[rel]}")
-            out.append((label, [_af_rows(variant, rel, cx, cy) for cx, cy in bits]))
+            out.append((label, [_af_rows(variant, rel, _bit(cx, bg), _bit(cy, bg)) for cx, cy in bits]))
     return out
 
 
-Builder = Callable[[str, Arrangement], Built]
+Builder = Callable[[str, Arrangement, int], Built]  # (class, memory, background index)
 ROW_BUILDERS: dict[str, Builder] = {"AF": af_builder}
 
 
@@ -250,7 +260,9 @@ def builder_for(cls: str) -> Builder | None:
 @dataclass(frozen=True, eq=False)
 class RowModel:
     """Tables ``first[op, row, state]``, ``second[...]`` and ``pause[row, state]`` (``DET`` maps to
-    itself), the power-up state of every row and the instances that must be detected."""
+    itself), the power-up state of every row and the instances that must be detected.
+    ``passes[bg]`` holds the (first, second) tables of each data background's pass (the test runs
+    once per background, the state carrying over); ``first``/``second`` are background 0's."""
 
     classes: tuple[str, ...]
     init: U8
@@ -258,6 +270,12 @@ class RowModel:
     second: U8
     pause: U8
     instances: tuple[Instance, ...]
+    passes: tuple[tuple[U8, U8], ...] = ()
+    chain: IntArray | None = None  # set by passes.expand_passes: (pass - 1, row, start state) -> row
+
+    @property
+    def nbg(self) -> int:
+        return max(1, len(self.passes))
 
     @property
     def rows(self) -> int:
@@ -277,11 +295,25 @@ class RowModel:
             np.ascontiguousarray(self.second[:, sel]),
             self.pause[sel],
             (Instance(inst.label, alts),),
+            tuple((np.ascontiguousarray(f[:, sel]), np.ascontiguousarray(q[:, sel])) for f, q in self.passes),
         )
+
+    def final(self, states: U8) -> U8:
+        """The state each original row ends the whole test in: the state itself, or for a model
+        expanded over several backgrounds, each pass's state looked up from where the previous
+        pass left the row (see :mod:`memcheck.synthesis.passes`)."""
+        if self.chain is None:
+            return states
+        nrow = self.chain.shape[1]
+        out = states[:, :nrow]
+        for k in range(self.chain.shape[0]):
+            idx = self.chain[k][np.arange(nrow)[None, :], out]
+            out = np.take_along_axis(states, idx, axis=1)
+        return out
 
     def complete(self, states: U8) -> BoolArray:
         """Which of ``states`` (n, rows) detect every instance."""
-        done = states == DET
+        done = self.final(states) == DET
         ok = np.ones(states.shape[0], bool)
         for inst in self.instances:
             any_alt = np.zeros(states.shape[0], bool)
@@ -306,49 +338,57 @@ def _table(step: StepFn | None) -> U8:
     return t
 
 
-def _iter_specs(built: Built) -> Iterator[tuple[str, list[list[RowSpec]]]]:
-    yield from built
+def _row_tables(spec: RowSpec) -> tuple[U8, U8, U8]:
+    f, s = _table(spec.first), _table(spec.second)
+    p = np.arange(WIDTH, dtype=np.uint8)
+    if spec.pause is not None:
+        p[:NSTATE] = [spec.pause(x & 3) for x in range(NSTATE)]  # a pause ends a pair
+    return f, s, p
 
 
 def build_model(classes: Sequence[str], setup: Arrangement) -> RowModel:
-    """The row model of ``classes`` on ``setup`` (one data background). Classes without a builder
+    """The row model of ``classes`` on ``setup``: one pass per data background, the rows of each
+    pass built from the same cases (signature codes) in the same order. Classes without a builder
     raise KeyError (the caller reports it)."""
+    nbg = setup.resolve().nbg
     rows: dict[bytes, int] = {}
-    firsts: list[U8] = []
-    seconds: list[U8] = []
-    pauses: list[U8] = []
+    tabs: list[list[tuple[U8, U8, U8]]] = []
     inits: list[int] = []
     instances: list[Instance] = []
     for cls in classes:
         builder = builder_for(cls)
         if builder is None:
             raise KeyError(cls)
-        for label, alternatives in _iter_specs(builder(cls, setup)):
+        per_bg = [builder(cls, setup, k) for k in range(nbg)]
+        for cases in zip(*per_bg, strict=True):
             alts = []
-            for specs in alternatives:
+            for specs in zip(*(alternatives for _, alternatives in cases), strict=True):
                 ids = []
-                for spec in specs:
-                    f, s = _table(spec.first), _table(spec.second)
-                    p = np.arange(WIDTH, dtype=np.uint8)
-                    if spec.pause is not None:
-                        p[:NSTATE] = [spec.pause(x & 3) for x in range(NSTATE)]  # a pause ends a pair
-                    key = bytes([spec.init]) + f.tobytes() + s.tobytes() + p.tobytes()
+                for row in zip(*specs, strict=True):
+                    t = [_row_tables(spec) for spec in row]
+                    key = bytes([row[0].init]) + b"".join(x.tobytes() for tt in t for x in tt)
                     if key not in rows:
                         rows[key] = len(inits)
-                        inits.append(spec.init)
-                        firsts.append(f)
-                        seconds.append(s)
-                        pauses.append(p)
+                        inits.append(row[0].init)
+                        tabs.append(t)
                     ids.append(rows[key])
                 alts.append(tuple(sorted(set(ids))))
-            instances.append(Instance(f"{cls}: {label}", tuple(alts)))
+            instances.append(Instance(f"{cls}: {cases[0][0]}", tuple(alts)))
+    passes = tuple(
+        (
+            np.ascontiguousarray(np.stack([t[k][0] for t in tabs], axis=1)),
+            np.ascontiguousarray(np.stack([t[k][1] for t in tabs], axis=1)),
+        )
+        for k in range(nbg)
+    )
     return RowModel(
         tuple(classes),
         np.array(inits, np.uint8),
-        np.ascontiguousarray(np.stack(firsts, axis=1)),
-        np.ascontiguousarray(np.stack(seconds, axis=1)),
-        np.stack(pauses),
+        passes[0][0],
+        passes[0][1],
+        np.stack([t[0][2] for t in tabs]),
         tuple(instances),
+        passes,
     )
 
 
