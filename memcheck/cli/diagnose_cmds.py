@@ -18,7 +18,8 @@ from memcheck.faults.geometry import Arrangement
 def _lines(d: Diagnosis, top: int) -> list[str]:
     out = [
         f"{len(d.observed)} failing read(s){' (first fail only)' if d.first_fail else ''}; "
-        f"{len(d.failing_cells)} failing cell(s): " + ", ".join(f"word {c.word} bit {c.bit}" for c in d.failing_cells[:20])
+        f"{len(d.failing_cells)} failing cell(s): "
+        + ", ".join(f"word {c.word} bit {c.bit}" for c in d.failing_cells[:20])
         + (" ..." if len(d.failing_cells) > 20 else ""),
         f"{d.candidates:,} candidate instances simulated in {d.seconds:.2f} s (aggressors and decoder partners from "
         + ("the whole memory)" if d.whole_memory else "the failing words and their neighbours)"),
@@ -48,7 +49,9 @@ def _lines(d: Diagnosis, top: int) -> list[str]:
 @click.option("--width", type=click.IntRange(1, 1024), default=1, show_default=True, help="Bits per word.")
 @click.option("--layout", default=None, metavar="RxC", help="Physical layout: rows x column-mux words.")
 @address_order_options
-@click.option("--backgrounds", default=None, help="Data backgrounds the test ran, comma-separated (default as coverage).")
+@click.option(
+    "--backgrounds", default=None, help="Data backgrounds the test ran, comma-separated (default as coverage)."
+)
 @seed_option
 @click.option("--first-fail", is_flag=True, help="FAILLOG holds only the first failing read (a first-fail BIST).")
 @click.option("--top", type=click.IntRange(min=1), default=8, show_default=True, help="Groups to print.")

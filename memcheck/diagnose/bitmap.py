@@ -30,10 +30,13 @@ def plot_bitmap(cells: Sequence[Cell], setup: Arrangement, path: str | Path, tit
 
     matplotlib.use("Agg")
     import matplotlib.pyplot as plt
+    from matplotlib.patches import Rectangle
 
-    rows, cols = (setup.words, setup.width) if setup.layout is None else (setup.layout[0], setup.layout[1] * setup.width)
+    rows, cols = (
+        (setup.words, setup.width) if setup.layout is None else (setup.layout[0], setup.layout[1] * setup.width)
+    )
     fig, ax = plt.subplots(figsize=(7.0, 7.0), dpi=110)
-    ax.add_patch(plt.Rectangle((-0.5, -0.5), cols, rows, facecolor="#eeeeee", edgecolor="grey", linewidth=0.8))
+    ax.add_patch(Rectangle((-0.5, -0.5), cols, rows, facecolor="#eeeeee", edgecolor="grey", linewidth=0.8))
     pts = [position(c, setup) for c in cells]
     if pts:
         size = max(4.0, min(80.0, 40000.0 / max(rows, cols)))

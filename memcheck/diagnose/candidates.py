@@ -1,7 +1,9 @@
 """Candidate fault instances for a set of failing cells: bounded by the failures, not the universe.
 
 * single-cell classes and SOF: every model on every failing cell;
-* two-cell classes: every model with a failing cell as victim and an aggressor from the *pool*;
+* two-cell classes: every model with a failing cell as victim and an aggressor from the *pool*: on a
+  small memory every other cell; otherwise every other bit of the victim's word and the victim's bit
+  in the other pool words (the physically adjacent columns and rows under a column mux);
 * decoder faults: ``no-cell`` at every failing word, and every two-word variant with one word failing
   and the other from the word pool (either role).
 
@@ -44,11 +46,21 @@ def _two_word(failing: Sequence[int], pool: Sequence[int]) -> Iterator[tuple[int
                     yield pair
 
 
-def candidates(setup: Arrangement, cells: Sequence[Cell], classes: Sequence[str] = STATIC_CLASSES) -> list[FaultInstance]:
+def candidates(
+    setup: Arrangement, cells: Sequence[Cell], classes: Sequence[str] = STATIC_CLASSES
+) -> list[FaultInstance]:
     """Instances of ``classes`` that could explain failures at ``cells`` (see module doc)."""
     words = sorted({c.word for c in cells})
     pool = word_pool(setup, words)
-    pool_cells = [Cell(w, b) for w in pool for b in range(setup.width)]
+    whole = setup.cells <= WHOLE_MEMORY_LIMIT
+
+    def aggressors(v: Cell) -> list[Cell]:
+        if whole:
+            return [Cell(w, b) for w in pool for b in range(setup.width) if Cell(w, b) != v]
+        return [Cell(v.word, b) for b in range(setup.width) if b != v.bit] + [
+            Cell(w, v.bit) for w in pool if w != v.word
+        ]
+
     out: list[FaultInstance] = []
     for cls in classes:
         if cls == "SOF":
@@ -60,7 +72,7 @@ def candidates(setup: Arrangement, cells: Sequence[Cell], classes: Sequence[str]
         else:
             for m in models_of(cls):
                 if m.two_cell:
-                    out += [CouplingFault(m, a, v) for v in cells for a in pool_cells if a != v]
+                    out += [CouplingFault(m, a, v) for v in cells for a in aggressors(v)]
                 else:
                     out += [CellFault(m, c) for c in cells]
     return out

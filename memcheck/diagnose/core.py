@@ -16,12 +16,14 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Any
 
+import numpy as np
+
 from memcheck.diagnose.candidates import WHOLE_MEMORY_LIMIT, candidates, word_pool
 from memcheck.diagnose.faillog import FailRow
 from memcheck.diagnose.predict import Ev, Events, collect, fault_words, predict
 from memcheck.errors import FailLogError
-from memcheck.faults.geometry import Arrangement, check_consistent
-from memcheck.faults.instances import Cell, FaultInstance
+from memcheck.faults.geometry import Arrangement, Resolved, check_consistent
+from memcheck.faults.instances import Cell, CouplingFault, FaultInstance
 from memcheck.faults.reference import _states
 from memcheck.faults.universe import STATIC_CLASSES
 from memcheck.march.notation import MarchElement, MarchTest
@@ -136,6 +138,17 @@ def _check_expected(rows: Sequence[FailRow], events: Events) -> None:
             )
 
 
+def _same_behaviour(f: FaultInstance, resolved: Resolved) -> tuple[object, ...]:
+    """Candidates with equal keys have equal fail logs: a coupling fault's aggressor acts only
+    through the values its bit is written, which its signature code (the bit each background writes
+    there) fixes, so aggressor bits of one word with the same code behave alike."""
+    if isinstance(f, CouplingFault):
+        a = f.aggressor
+        code = int(resolved.cell_code(np.array([a.word]), np.array([a.bit]))[0])
+        return (f.model.name, f.victim, a.word, code, a.word == f.victim.word and a.bit < f.victim.bit)
+    return (f,)
+
+
 def _jaccard(p: frozenset[FailRow], o: frozenset[FailRow]) -> float:
     union = len(p | o)
     return len(p & o) / union if union else 1.0
@@ -179,12 +192,16 @@ def diagnose(
     _check_expected(rows, events)
     by_key: dict[frozenset[frozenset[FailRow]], list[tuple[FaultInstance, list[frozenset[FailRow]]]]] = {}
     streams: dict[tuple[int, ...], list[Ev]] = {}
+    memo: dict[tuple[object, ...], list[frozenset[FailRow]]] = {}
+    resolved = setup.resolve()
     for f in cands:
-        ws = fault_words(f)
-        if ws not in streams:
-            streams[ws] = events.of(ws)
-        preds = predict(f, streams[ws], setup.width)
-        sigs = [frozenset(p[:1] if first_fail else p) for p in preds]
+        key = _same_behaviour(f, resolved)
+        if key not in memo:
+            ws = fault_words(f)
+            if ws not in streams:
+                streams[ws] = events.of(ws)
+            memo[key] = [frozenset(p[:1] if first_fail else p) for p in predict(f, streams[ws], setup.width)]
+        sigs = memo[key]
         by_key.setdefault(frozenset(sigs), []).append((f, sigs))
     groups: list[Group] = []
     for members in by_key.values():
@@ -215,4 +232,3 @@ def diagnose(
         setup.cells <= WHOLE_MEMORY_LIMIT,
         time.perf_counter() - t0,
     )
-

@@ -118,7 +118,9 @@ def write_fail_log(rows: Iterable[FailRow], path: str | Path) -> Path:
     return write_text_atomic(path, format_fail_log(rows))
 
 
-def fail_log(test: MarchTest, fault: FaultInstance, setup: Arrangement, state: Sequence[int] | None = None) -> list[FailRow]:
+def fail_log(
+    test: MarchTest, fault: FaultInstance, setup: Arrangement, state: Sequence[int] | None = None
+) -> list[FailRow]:
     """The reads that fail when ``test`` runs on a memory with ``fault``, from power-up ``state``
     (one value per :meth:`power_up_labels` entry; default all 0), in stream order.
 

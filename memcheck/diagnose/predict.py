@@ -21,7 +21,7 @@ import numpy as np
 from memcheck.diagnose.faillog import FailRow
 from memcheck.faults.geometry import Arrangement
 from memcheck.faults.instances import Cell, CellFault, CouplingFault, DecoderFault, FaultInstance, StuckOpenFault
-from memcheck.faults.reference import _power_up, _StuckOpenMemory, _states
+from memcheck.faults.reference import _power_up, _states, _StuckOpenMemory
 from memcheck.march.backgrounds import limbs_to_int
 from memcheck.march.expand import OP_READ, OP_WRITE, OpsChunk, Pause, expand
 from memcheck.march.notation import MarchTest
@@ -53,7 +53,9 @@ class Events:
         return list(heapq.merge(self.pauses, *lists, key=lambda e: e.seq))
 
 
-def _chunk_events(c: OpsChunk, interest: np.ndarray, latch: np.ndarray, carry: list[int], out: dict[int, list[Ev]]) -> None:
+def _chunk_events(
+    c: OpsChunk, interest: np.ndarray, latch: np.ndarray, carry: list[int], out: dict[int, list[Ev]]
+) -> None:
     """Add the chunk's events at ``interest`` words; ``carry`` = [previous address (-1: none),
     element, background, last read's value (-1: no read yet), last read's address]."""
     addr = c.address
@@ -79,9 +81,13 @@ def _chunk_events(c: OpsChunk, interest: np.ndarray, latch: np.ndarray, carry: l
             if value >= 0 and source != w:  # a read of the same word left the faulty value in the latch
                 lst.append(Ev(seq - 1, "L", w, value, False, c.background, c.element, -1))
         if c.op[j] == OP_WRITE:
-            lst.append(Ev(seq, "w", w, limbs_to_int(c.data[j]), bool(chained[j]), c.background, c.element, int(c.step[j])))
+            lst.append(
+                Ev(seq, "w", w, limbs_to_int(c.data[j]), bool(chained[j]), c.background, c.element, int(c.step[j]))
+            )
         else:
-            lst.append(Ev(seq, "r", w, limbs_to_int(c.expected[j]), bool(chained[j]), c.background, c.element, int(c.step[j])))
+            lst.append(
+                Ev(seq, "r", w, limbs_to_int(c.expected[j]), bool(chained[j]), c.background, c.element, int(c.step[j]))
+            )
     reads = np.flatnonzero(is_read)
     if reads.size:
         carry[3], carry[4] = limbs_to_int(c.expected[reads[-1]]), int(addr[reads[-1]])
@@ -133,7 +139,9 @@ def _local(fault: FaultInstance, m: dict[int, int]) -> FaultInstance:
     )
 
 
-def _run(fault: FaultInstance, state: tuple[int, ...], events: list[Ev], m: dict[int, int], width: int) -> list[FailRow]:
+def _run(
+    fault: FaultInstance, state: tuple[int, ...], events: list[Ev], m: dict[int, int], width: int
+) -> list[FailRow]:
     bad, good, _ = _power_up(fault, state, Arrangement(len(m), width))
     written = [False] * len(m)
     out: list[FailRow] = []
