@@ -123,3 +123,19 @@ def test_cli_diagnose_png_json_and_exit_codes(tmp_path: Path, capsys: pytest.Cap
     bad.write_text("element,op\n")
     assert main(["diagnose", "March C-", str(bad), "--words", "8"]) == 2
     assert "line 1" in capsys.readouterr().err
+
+
+def test_grouped_members_really_predict_the_same_logs() -> None:
+    """Diagnosis simulates one aggressor bit per signature code; every member of every group, simulated
+    on its own, predicts the group's logs (checked member by member, checkerboard backgrounds)."""
+    setup = Arrangement(4, 4, layout=(2, 2), backgrounds="solid,checkerboard")
+    test = resolve_test("March C-")
+    fault = CouplingFault(model_named("CFst<1;1>"), Cell(1, 2), Cell(2, 0))
+    log = next(p for s in _states(2) if (p := fail_log(test, fault, setup, s)))
+    d = diagnose(test, setup, log)
+    assert d.rank_of(fault) == 1
+    events = collect(test, setup, range(setup.words), range(setup.words))
+    for g in d.groups[:6]:
+        logs = {frozenset(p) for p in predict(g.members[0], events.of(fault_words(g.members[0])), setup.width)}
+        for m in g.members:
+            assert {frozenset(p) for p in predict(m, events.of(fault_words(m)), setup.width)} == logs, str(m)
