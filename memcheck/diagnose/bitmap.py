@@ -31,6 +31,7 @@ def plot_bitmap(cells: Sequence[Cell], setup: Arrangement, path: str | Path, tit
     matplotlib.use("Agg")
     import matplotlib.pyplot as plt
     from matplotlib.patches import Rectangle
+    from matplotlib.ticker import MaxNLocator
 
     rows, cols = (
         (setup.words, setup.width) if setup.layout is None else (setup.layout[0], setup.layout[1] * setup.width)
@@ -47,6 +48,8 @@ def plot_bitmap(cells: Sequence[Cell], setup: Arrangement, path: str | Path, tit
     ax.set_xlabel("physical column" if setup.layout else "bit")
     ax.set_ylabel("row" if setup.layout else "word")
     ax.set_aspect("auto")
+    ax.xaxis.set_major_locator(MaxNLocator(integer=True))
+    ax.yaxis.set_major_locator(MaxNLocator(integer=True))
     ax.set_title(title or f"{len(cells)} failing cell(s) in {rows} x {cols} cells", fontsize=10)
     fig.tight_layout()
     buf = io.BytesIO()
