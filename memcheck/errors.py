@@ -76,3 +76,8 @@ class SynthesisError(MemcheckError):
 class BistError(MemcheckError):
     """A BIST engine that cannot be built, attached, simulated or checked as asked (bad test, order,
     background, geometry, port, or a missing tool)."""
+
+
+class FailLogError(MemcheckError):
+    """A fail log (the failing reads of a March test run) that cannot be read or names an operation
+    the test does not have; the message gives the line."""

@@ -74,6 +74,7 @@ def _register_commands() -> None:
         "synth_cmds",
         "bist_cmds",
         "campaign_cmds",
+        "diagnose_cmds",
     ):
         try:
             __import__(f"memcheck.cli.{optional}")
