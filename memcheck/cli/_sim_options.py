@@ -48,6 +48,17 @@ def output_options(out_help: str, waveform_help: str) -> Callable[[_F], _F]:
     return wrap
 
 
+def pause_cycles_option(f: _F) -> _F:
+    """``--pause-cycles``: quiet cycles a delay element (Del) of a March test becomes on RTL."""
+    return click.option(
+        "--pause-cycles",
+        type=click.IntRange(min=0),
+        default=DEFAULTS.pause_cycles,
+        show_default=True,
+        help="Quiet cycles each delay element (Del) of the March test becomes on RTL.",
+    )(f)
+
+
 def interactive(quiet: bool) -> bool:
     """Show a progress line (on a terminal, unless ``--quiet``)."""
     return sys.stderr.isatty() and not quiet

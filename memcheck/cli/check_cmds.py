@@ -14,7 +14,14 @@ import click
 
 from memcheck.cli import EXIT_ERROR, EXIT_FAIL, EXIT_OK, cli
 from memcheck.cli._options import resolve_seed, seed_option
-from memcheck.cli._sim_options import DEFAULTS, interactive, output_options, progress_line, write_error_reports
+from memcheck.cli._sim_options import (
+    DEFAULTS,
+    interactive,
+    output_options,
+    pause_cycles_option,
+    progress_line,
+    write_error_reports,
+)
 from memcheck.errors import MemcheckError
 from memcheck.examples import examples_dir
 from memcheck.sim.options import SimOptions
@@ -99,13 +106,7 @@ def run_check(
     show_default=True,
     help="Skip the sweep when it would take more operations than this.",
 )
-@click.option(
-    "--pause-cycles",
-    type=click.IntRange(min=0),
-    default=DEFAULTS.pause_cycles,
-    show_default=True,
-    help="Quiet cycles each delay element (Del) of the sweep's March test becomes.",
-)
+@pause_cycles_option
 @output_options(
     "Folder for the build, replay file, waveform and text report [default: memcheck-out/NAME].",
     "Do not write the waveform of a failing trace.",

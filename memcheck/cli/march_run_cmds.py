@@ -12,7 +12,14 @@ import click
 
 from memcheck.cli import EXIT_FAIL, EXIT_OK
 from memcheck.cli._options import address_order_options, resolve_seed, seed_option
-from memcheck.cli._sim_options import DEFAULTS, interactive, output_options, progress_line, write_error_reports
+from memcheck.cli._sim_options import (
+    DEFAULTS,
+    interactive,
+    output_options,
+    pause_cycles_option,
+    progress_line,
+    write_error_reports,
+)
 from memcheck.cli.march_cmds import march_group
 from memcheck.errors import MemcheckError
 from memcheck.march.backgrounds import BACKGROUND_NAMES
@@ -39,13 +46,7 @@ from memcheck.march.orders import parse_layout
     help="NAME of a port that reads and writes, or WRITER,READER; default: the first "
     "readwrite port, else the first write and the first read port.",
 )
-@click.option(
-    "--pause-cycles",
-    type=click.IntRange(min=0),
-    default=DEFAULTS.pause_cycles,
-    show_default=True,
-    help="Quiet cycles each delay element (Del) becomes on RTL.",
-)
+@pause_cycles_option
 @click.option(
     "--max-ops",
     type=click.IntRange(min=1),
