@@ -26,6 +26,7 @@ A trace ends with ``read_latency`` quiet cycles so that every read is observed.
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass
 
 import numpy as np
@@ -64,14 +65,29 @@ def body_limit(contract: Contract) -> int:
     return max(record_size(contract), MAX_BODY // max(1, limbs_of(contract.memory.width) // 4))
 
 
-def bulk_specs(contract: Contract, *, max_body: int | None = None) -> st.SearchStrategy[BulkSpec]:
-    """Bulk examples for ``contract``: body bytes in fixed-size chunks so shrinking drops whole chunks."""
+def bulk_specs(
+    contract: Contract,
+    *,
+    max_body: int | None = None,
+    pool: Sequence[int] | None = None,
+    data_pool: Sequence[int] | None = None,
+) -> st.SearchStrategy[BulkSpec]:
+    """Bulk examples for ``contract``: body bytes in fixed-size chunks so shrinking drops whole chunks.
+    ``pool`` and ``data_pool`` fix the hot addresses and data words (a search seeded from a failure)."""
     r = record_size(contract)
     chunk = r * max(1, _CHUNK // r)
     limit = body_limit(contract) if max_body is None else max_body
     n_max = max(1, limit // chunk)
-    pool_st = st.lists(addresses(contract), min_size=1, max_size=_POOL_MAX, unique=True)
-    data_st = st.lists(data_words(contract.memory.width), min_size=1, max_size=4)
+    pool_st = (
+        st.lists(addresses(contract), min_size=1, max_size=_POOL_MAX, unique=True)
+        if not pool
+        else st.just(list(pool[:_POOL_MAX]))
+    )
+    data_st = (
+        st.lists(data_words(contract.memory.width), min_size=1, max_size=4)
+        if not data_pool
+        else st.just(list(data_pool[:4]))
+    )
     chunk_st = st.binary(min_size=chunk, max_size=chunk)
     counts = st.sampled_from(list(range(1, n_max + 1)) + [n_max] * n_max)
 

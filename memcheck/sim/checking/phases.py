@@ -18,16 +18,19 @@ short trace that fails on its own from the canonical state, which is what a repl
 from __future__ import annotations
 
 import time
-from dataclasses import replace
 
 from memcheck.ops import Cycle, Trace
 from memcheck.records import CheckedTrace, CycleRow, Failure, ModelStart, PhaseResult
 from memcheck.sim.checking import sequences as seq
-from memcheck.sim.checking.compare import check, compare, start_model
+from memcheck.sim.checking.compare import check
 from memcheck.sim.checking.examples import bulk_examples, short_examples
+from memcheck.sim.checking.march_job import MarchJob, run_march_job
+from memcheck.sim.checking.minimise import shrink_stretch
 from memcheck.sim.checking.outcome import RunResult
 from memcheck.sim.checking.runner import EXAMPLE_PREAMBLE, Runner, operation_count
+from memcheck.sim.checking.seeded import seeded_search
 from memcheck.sim.checking.sequences import Segment
+from memcheck.sim.checking.stretch import sweep_stretch
 from memcheck.sim.options import PHASES
 
 #: Rows kept of a long failing trace (the rows up to its first difference).
@@ -107,62 +110,63 @@ class PhaseRunner(Runner):
         if not plans:
             return PhaseResult("sweep", "skipped", detail="no port both writes and reads"), None
         if total > self.options.sweep_ops:
-            detail = f"{total} operations exceed the sweep budget of {self.options.sweep_ops}"
+            detail = f"{total} operations exceed the sweep budget of {self.options.sweep_ops} (--sweep-ops)"
             return PhaseResult("sweep", "skipped", detail=detail), None
         counts = [0, 0]  # cycles run, operations
         for k, plan in enumerate(plans):
-            self.where = {"phase": "sweep", "what": plan.describe(c), "total": total, "done": counts[1]}
-            failure = self._sweep_one(plan, counts)
-            if failure is not None:
-                at = failure[1]
+            found = self._sweep_one(plan, counts)
+            if found is not None:
+                failure, at = found
                 seconds = time.perf_counter() - t0
                 detail = f"{plan.describe(c)}: read data differs at sweep cycle {at}"
-                return PhaseResult("sweep", "fail", counts[0], counts[1], seconds, detail), failure[0]
+                return PhaseResult("sweep", "fail", counts[0], counts[1], seconds, detail), failure
             self.history.append(f"sweep:{k}")
         detail = "; ".join(p.describe(c) for p in plans)
         return PhaseResult("sweep", "pass", counts[0], counts[1], time.perf_counter() - t0, detail), None
 
     def _sweep_one(self, plan: seq.SweepPlan, counts: list[int]) -> tuple[Failure, int] | None:
-        """Run one plan; on a difference, the shrunk failure and the sweep cycle it was found at."""
+        """Run one plan inside the simulator in batches (the March job's way: numpy schedule, the
+        vectorised model carried across batches); on a difference, the shrunk failure and its cycle."""
         c = self.contract
         before = list(self.history)
         if c.reset is not None:
             self.run_steps(["reset"])
-        model = start_model(c, "unknown")
-        recent: list[Cycle] = []
-        done = 0
-        for segment in plan.segments(self.backend.batch_limit):
-            self.where["done"] = counts[1]
-            obs = self._run([segment])
-            checked = compare(model.run(segment.cycles), obs, segment.cycles, "unknown")
-            done += len(segment)
-            counts[0] += len(segment)
-            counts[1] += operation_count(segment.cycles)
-            recent = (recent + list(segment.cycles))[-(self.window_max + len(segment)) :]
-            j = checked.first_mismatch
-            if j is None:
-                continue
-            base = done - len(segment)
-            rows = [replace(r, cycle=base + r.cycle) for r in checked.rows[max(0, j - _LONG_ROWS + 1) : j + 1]]
-            preamble = before + (["reset"] if c.reset else [])
-            return self._shrink_sweep_failure(plan, recent, len(recent) - len(segment) + j, preamble, base + j, rows)
-        return None
+        job = MarchJob("unknown", window=_LONG_ROWS, expectations=False, phase="sweep", what=plan.describe(c))
+        out = run_march_job(self, plan.schedule, job)
+        counts[0] += int(out["cycles_run"])
+        found = out["failure"]
+        if found is None:
+            counts[1] += plan.schedule.operations
+            return None
+        at = int(found["cycle"])
+        last = plan.schedule.last_op_before(at)
+        counts[1] += 0 if last is None else last + 1
+        rows = list(CheckedTrace.from_json(found["window"]).rows)
+        preamble = before + (["reset"] if c.reset else [])
+        return self._shrink_sweep_failure(plan, at, preamble, rows), at
 
-    def _shrink_sweep_failure(
-        self, plan: seq.SweepPlan, recent: list[Cycle], failing: int, preamble: list[str], at: int, rows: list[CycleRow]
-    ) -> tuple[Failure, int]:
+    def _shrink_sweep_failure(self, plan: seq.SweepPlan, at: int, preamble: list[str], rows: list[CycleRow]) -> Failure:
         self.where = {"phase": "sweep", "what": "shrinking the failure"}
         what = plan.describe(self.contract)
-        small = self.shrink_window(recent, failing)
-        if small is not None and not small.ok:
-            return Failure("sweep", EXAMPLE_PREAMBLE, small, f"shrunk from a failure at cycle {at} of {what}"), at
+        stretch = sweep_stretch(plan.schedule, at, self.window_max)
+        shrunk = shrink_stretch(self, stretch, len(stretch) - 1)
+        if shrunk is not None and not shrunk.checked.ok:
+            note = f"shrunk from a failure at cycle {at} of {what}; {shrunk.note()}"
+            return Failure("sweep", EXAMPLE_PREAMBLE, shrunk.checked, note)
+        seeded = seeded_search(self, stretch)
+        if seeded is not None:
+            note = (
+                f"found by a property search seeded from the failing window of {what} (the failure at its "
+                f"cycle {at} does not fail as a short independent example); {seeded.note()}"
+            )
+            return Failure("sweep", EXAMPLE_PREAMBLE, seeded.checked, note)
         # Not reproducible as a short example: the sweep from its start is the trace (a replay reruns it).
         prefix = plan.schedule.cycles(at + 1)
         note = (
             f"the sweep ({what}) up to its first difference, at cycle {at}; "
             "it does not fail as a short independent example"
         )
-        return Failure("sweep", tuple(preamble), CheckedTrace("unknown", tuple(rows)), note, Trace(tuple(prefix))), at
+        return Failure("sweep", tuple(preamble), CheckedTrace("unknown", tuple(rows)), note, Trace(tuple(prefix)))
 
     # -- property --------------------------------------------------------------------------------
 

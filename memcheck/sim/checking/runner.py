@@ -24,7 +24,6 @@ from memcheck.records import CheckedTrace, Failure, Observed
 from memcheck.sim.checking import sequences as seq
 from memcheck.sim.checking.compare import ArrayCheck, check, check_arrays, expected_arrays
 from memcheck.sim.checking.sequences import Segment
-from memcheck.sim.checking.shrink import ddmin, quieten, simplify_values, trim_quiet_edges
 from memcheck.sim.options import SimOptions
 
 #: The preamble of every independent example: reset, canonical fill, flush.
@@ -153,8 +152,8 @@ class Runner:
                 self._run([Segment(tuple(seq.smoke_cycles(c)))])
             elif step.startswith("sweep:"):
                 plan = seq.sweep_plans(c, self.options)[int(step.split(":", 1)[1])]
-                for s in plan.segments(chunk):
-                    self._run([s])
+                for piece in plan.schedule.pieces():
+                    self._run_columns(piece.cols)
             else:
                 raise ValueError(f"unknown preamble step {step!r}")
             self.history.append(step)
@@ -218,43 +217,20 @@ class Runner:
         self.timing["example_model"] += time.perf_counter() - t1
         return checked
 
-    def _fails(self, cache: dict[tuple[Cycle, ...], CheckedTrace]) -> Callable[[list[Cycle]], bool]:
-        def fails(cycles: list[Cycle]) -> bool:
-            key = tuple(cycles)
-            if key not in cache:
-                cache[key] = self.run_example(cycles)
-            return not cache[key].ok
-
-        return fails
-
     def minimise(self, cycles: Sequence[Cycle]) -> CheckedTrace:
-        """Shrink a trace that fails as an independent example; returns the smallest one's check."""
-        cache: dict[tuple[Cycle, ...], CheckedTrace] = {}
-        fails = self._fails(cache)
-        current = list(cycles)
-        if not fails(current):
-            return cache[tuple(current)]
-        current = ddmin(current, fails)
-        current = quieten(current, self._quiet, fails)
-        current = trim_quiet_edges(current, self._quiet, fails)
-        current = ddmin(current, fails)
-        current = simplify_values(current, fails)
-        # Run the final trace once more, so the canonical-state run is the reported one.
-        return self.run_example(current)
+        """Shrink a trace that fails as an independent example; returns the smallest one's check
+        (see :mod:`memcheck.sim.checking.minimise`)."""
+        from memcheck.sim.checking.minimise import minimise_cycles
+
+        return minimise_cycles(self, cycles).checked
 
     def shrink_window(self, recent: Sequence[Cycle], failing: int) -> CheckedTrace | None:
-        """Find a short window ending at ``recent[failing]`` that fails on its own, and minimise it."""
-        cache: dict[tuple[Cycle, ...], CheckedTrace] = {}
-        fails = self._fails(cache)
-        w = 1
-        while w <= min(failing + 1, self.window_max):
-            window = list(recent[failing - w + 1 : failing + 1])
-            if fails(window):
-                return self.minimise(window)
-            if w == failing + 1:
-                break
-            w = min(w * 2, failing + 1)
-        return None
+        """Shrink the failure shown at ``recent[failing]``: the operations on its addresses anywhere in
+        ``recent`` or a window ending there that fails on its own, minimised (None: none fails)."""
+        from memcheck.sim.checking.minimise import shrink_stretch
+
+        shrunk = shrink_stretch(self, Columns.from_cycles(self.contract, recent[: failing + 1]), failing)
+        return None if shrunk is None else shrunk.checked
 
     # -- replay --------------------------------------------------------------------------------
 
