@@ -15,7 +15,7 @@ from memcheck.ops import OpKind
 from memcheck.records import Observed
 from memcheck.sim.checking.sequences import Segment
 
-BUGS = ("none", "swap_lanes", "stale_bypass", "late_data", "no_lane_mask", "decay")
+BUGS = ("none", "swap_lanes", "stale_bypass", "late_data", "no_lane_mask", "decay", "posted_write")
 
 
 def contract(words: int = 16, width: int = 8, lane_width: int = 4) -> Contract:
@@ -42,6 +42,10 @@ class PyRam:
         self.batches = 0
         self.now = 0
         self.written_at: dict[int, int] = {}  # "decay": a word not rewritten for 12 cycles loses bit 0
+        # "posted_write": writes wait in a two-entry buffer (reads see through it); when a third write
+        # arrives the oldest entry is committed with the address of the newest (a pointer off by one),
+        # so a word shows its old contents once two more writes have followed the write to it.
+        self.posted: list[tuple[int, int, int]] = []  # (address, data, bits), oldest first
 
     def _bits(self, lanes: int | None) -> int:
         m = self.c.memory
@@ -58,7 +62,7 @@ class PyRam:
         new_rdata = self.rdata
         if op_kind != OpKind.IDLE:
             if address < m.words and address in self.mem:
-                word = self.mem[address]
+                word = self._through_buffer(address)
                 if self.bug == "stale_bypass" and self.bypass is not None and self.bypass[0] == address:
                     word = self.bypass[1]
                 if self.bug == "decay" and self.now - self.written_at.get(address, self.now) > 12:
@@ -66,7 +70,9 @@ class PyRam:
                 new_rdata = (word, self.mask)
             else:
                 new_rdata = (0, 0)
-        if op_kind == OpKind.WRITE and address < m.words:
+        if op_kind == OpKind.WRITE and address < m.words and self.bug == "posted_write":
+            self._post(address, data, self._bits(lanes))
+        elif op_kind == OpKind.WRITE and address < m.words:
             bits = self._bits(lanes)
             old = self.mem.get(address, 0)
             self.mem[address] = (old & ~bits) | (data & bits)
@@ -75,6 +81,21 @@ class PyRam:
                 self.bypass = (address, data)
         self.prev = self.rdata
         self.rdata = new_rdata
+
+    def _through_buffer(self, address: int) -> int:
+        word = self.mem[address]
+        for a, d, bits in self.posted:
+            if a == address:
+                word = (word & ~bits) | (d & bits)
+        return word
+
+    def _post(self, address: int, data: int, bits: int) -> None:
+        if len(self.posted) == 2:
+            _, d, b = self.posted.pop(0)
+            to = self.posted[-1][0]  # the bug: the newest entry's address
+            self.mem[to] = (self.mem.get(to, 0) & ~b) | (d & b)
+        self.mem.setdefault(address, 0)
+        self.posted.append((address, data, bits))
 
     def run(self, segments: Sequence[Segment], *, dump: bool = False) -> list[tuple[Observed | None, ...]]:
         out: list[tuple[Observed | None, ...]] = []

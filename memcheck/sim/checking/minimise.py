@@ -141,7 +141,7 @@ def minimise_cycles(runner: Runner, cycles: Sequence[Cycle], cr: CandidateRunner
     quieter = greedy(current, quiet_candidates(seq.quiet(runner.contract)), cr.fails_many, group_items=group)
     if quieter != current:
         current, minimal = ddmin_batched(quieter, cr.fails_many, group_items=group)
-    current = greedy(current, simpler_candidates, cr.fails_many, group_items=group)
+    current = greedy(current, simpler_candidates(seq.quiet(runner.contract)), cr.fails_many, group_items=group)
     # Run the final trace once more, alone, so the canonical-state run is the reported one.
     return Shrunk(runner.run_example(current), minimal and _still_minimal(current, cr), cr.tried)
 

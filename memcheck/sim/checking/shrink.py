@@ -168,21 +168,30 @@ def _used(current: list[Cycle]) -> set[int]:
     return {op.address for c in current for op in c if op.kind != OpKind.IDLE}
 
 
-def simpler_candidates(current: list[Cycle]) -> list[list[Cycle]]:
-    """Easier-to-read versions of ``current``: an address renamed to a smaller unused one everywhere
+def simpler_candidates(quiet: Cycle) -> Callable[[list[Cycle]], list[list[Cycle]]]:
+    """Easier-to-read versions of a trace of the same length: an operation replaced by its port's quiet
+    one (a cycle that only has to pass the time), an address renamed to a smaller unused one everywhere
     (disabled ports' pins included: they may matter to the bug), write data zero, all lanes enabled."""
-    out: list[list[Cycle]] = []
-    used = _used(current)
-    free = [a for a in range(len(used) + 1) if a not in used]
-    for a in sorted(used, reverse=True):
-        to = next((f for f in free if f < a), None)
-        if to is not None:
-            out.append([tuple(replace(op, address=to) if op.address == a else op for op in c) for c in current])
-    for k, cyc in enumerate(current):
-        for p, op in enumerate(cyc):
-            if op.kind != OpKind.WRITE:
-                continue
-            for simpler in (replace(op, data=0), replace(op, lanes=None)):
-                if simpler != op:
-                    out.append(_replace_op(current, k, p, simpler))
-    return out
+
+    def cands(current: list[Cycle]) -> list[list[Cycle]]:
+        out: list[list[Cycle]] = []
+        for k, cyc in enumerate(current):
+            out.extend(_replace_op(current, k, p, quiet[p]) for p in range(len(quiet)) if cyc[p] != quiet[p])
+        used = _used(current)
+        free = [a for a in range(len(used) + 1) if a not in used]
+        for a in sorted(used, reverse=True):
+            to = next((f for f in free if f < a), None)
+            if to is not None:
+                out.append([tuple(replace(op, address=to) if op.address == a else op for op in c) for c in current])
+        for k, cyc in enumerate(current):
+            for p, op in enumerate(cyc):
+                if op.kind != OpKind.WRITE:
+                    continue
+                out.extend(
+                    _replace_op(current, k, p, simpler)
+                    for simpler in (replace(op, data=0), replace(op, lanes=None))
+                    if simpler != op
+                )
+        return out
+
+    return cands
