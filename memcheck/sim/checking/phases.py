@@ -19,13 +19,14 @@ from __future__ import annotations
 
 import time
 
+from memcheck.model_fast import Columns
 from memcheck.ops import Cycle, Trace
 from memcheck.records import CheckedTrace, CycleRow, Failure, ModelStart, PhaseResult
 from memcheck.sim.checking import sequences as seq
 from memcheck.sim.checking.compare import check
 from memcheck.sim.checking.examples import bulk_examples, short_examples
 from memcheck.sim.checking.march_job import MarchJob, run_march_job
-from memcheck.sim.checking.minimise import shrink_stretch
+from memcheck.sim.checking.minimise import Shrunk, minimise_cycles, shrink_stretch
 from memcheck.sim.checking.outcome import RunResult
 from memcheck.sim.checking.runner import EXAMPLE_PREAMBLE, Runner, operation_count
 from memcheck.sim.checking.seeded import seeded_search
@@ -90,9 +91,10 @@ class PhaseRunner(Runner):
 
     def _shrink_smoke_failure(self, cycles: list[Cycle], k: int, checked: CheckedTrace, preamble: list[str]) -> Failure:
         self.where = {"phase": "smoke", "what": "shrinking the failure"}
-        small = self.shrink_window(cycles[: k + 1], k)
-        if small is not None and not small.ok:
-            return Failure("smoke", EXAMPLE_PREAMBLE, small, f"shrunk from a failure at cycle {k} of the smoke phase")
+        shrunk = shrink_stretch(self, Columns.from_cycles(self.contract, cycles[: k + 1]), k)
+        if shrunk is not None and not shrunk.checked.ok:
+            note = f"shrunk from a failure at cycle {k} of the smoke phase; {shrunk.note()}"
+            return Failure("smoke", EXAMPLE_PREAMBLE, shrunk.checked, note)
         return Failure(
             "smoke",
             tuple(preamble),
@@ -202,12 +204,13 @@ class PhaseRunner(Runner):
         k = found.first_mismatch
         assert k is not None
         if len(found.rows) <= _LONG_ROWS:
-            final = self.minimise(found.trace.cycles)
+            shrunk: Shrunk | None = minimise_cycles(self, found.trace.cycles)
         else:
-            # A long (bulk) trace: the shortest window ending at the difference that fails on its own.
+            # A long (bulk) trace: the operations on the failing read's addresses, or the shortest
+            # window ending at the difference, that fails on its own, minimised.
             cycles = found.trace.cycles[: k + 1]
-            small = self.shrink_window(cycles, k)
-            if small is None or small.ok:
+            shrunk = shrink_stretch(self, Columns.from_cycles(self.contract, cycles), k)
+            if shrunk is None or shrunk.checked.ok:
                 # Only the example's long history shows it: report the example up to the difference
                 # (a replay reruns it from the canonical state), as a sweep failure is reported.
                 note = note or (
@@ -216,8 +219,10 @@ class PhaseRunner(Runner):
                 )
                 rows = found.rows[max(0, k - _LONG_ROWS + 1) : k + 1]
                 return Failure("property", EXAMPLE_PREAMBLE, CheckedTrace("unknown", rows), note, Trace(tuple(cycles)))
-            final = small
+        assert shrunk is not None
+        final = shrunk.checked
         if final.ok:  # pragma: no cover - the canonical state did not reproduce it
-            final = found
-            note = note or "the failure did not reproduce from the canonical state"
-        return Failure("property", EXAMPLE_PREAMBLE, final, note)
+            return Failure(
+                "property", EXAMPLE_PREAMBLE, found, note or "the failure did not reproduce from the canonical state"
+            )
+        return Failure("property", EXAMPLE_PREAMBLE, final, "; ".join(x for x in (note, shrunk.note()) if x))
