@@ -9,6 +9,7 @@ Used by :mod:`memcheck.sim.jobs.march` through the ``march`` job of the cocotb e
 from __future__ import annotations
 
 import time
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, replace
 from typing import Any
 
@@ -145,6 +146,7 @@ class _MarchRun:
         self.due = np.zeros(0, dtype=np.int64)
         self.exp = np.zeros((0, self.limbs), dtype=np.uint64)
         self.op = np.zeros(0, dtype=np.int64)
+        self.pool: ThreadPoolExecutor | None = None
 
     def expect(self, due: np.ndarray, exp: np.ndarray, op: np.ndarray) -> None:
         """Queue March reads (due cycles counted from the schedule's start)."""
@@ -172,9 +174,11 @@ class _MarchRun:
             "total": self.schedule.total_cycles,
             "done": self.done,
         }
+        # The model works in a second thread while the simulator runs the batch (two cores).
+        model = self.pool.submit(self._model, cols) if self.pool is not None else None
         value, defined = r._run_columns(cols)
         t0 = time.perf_counter()
-        ev, ek = self._model(cols)
+        ev, ek = model.result() if model is not None else self._model(cols)
         diff_any = np.zeros(n, dtype=bool)
         for i in self.readable:
             diff_any |= mismatch(ev[:, i], ek[:, i], value[:, i], defined[:, i]).any(axis=1)
@@ -258,7 +262,20 @@ def run_march_job(runner: Runner, schedule: MarchSchedule, job: MarchJob) -> dic
     runner.where = {"phase": job.phase, "what": "preamble"}
     if job.start == "reset":
         runner.run_steps(["reset"])
-    run = _MarchRun(runner, schedule, job)
+    with ThreadPoolExecutor(max_workers=1, thread_name_prefix="memcheck-march-model") as pool:
+        run = _MarchRun(runner, schedule, job)
+        run.pool = pool
+        failure = _run_batches(run, schedule, job)
+    return {
+        "failure": failure,
+        "cycles_run": run.done,
+        "march_reads_checked": run.march_reads,
+        "seconds_model": round(run.t_model, 4),
+    }
+
+
+def _run_batches(run: _MarchRun, schedule: MarchSchedule, job: MarchJob) -> dict[str, Any] | None:
+    """Every batch of the schedule, until the first failure (returned)."""
     failure = None
     pieces: list[Columns] = []
     queued = 0
@@ -276,9 +293,4 @@ def run_march_job(runner: Runner, schedule: MarchSchedule, job: MarchJob) -> dic
             break
     if failure is None and pieces:
         failure = run.batch(Columns.concat(pieces))
-    return {
-        "failure": failure,
-        "cycles_run": run.done,
-        "march_reads_checked": run.march_reads,
-        "seconds_model": round(run.t_model, 4),
-    }
+    return failure
