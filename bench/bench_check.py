@@ -22,7 +22,17 @@ timed on the same cycles, so the ratio compares the same work.
 With ``--wall`` it also runs a default ``memcheck check`` (build included, fresh output folder) on
 every example wrapper and prints verdict, minimal trace length and wall time.
 
-    .venv/bin/python bench/bench_check.py [--bulk-examples N] [--examples N] [--wall]
+With ``--big`` it times a default ``memcheck check`` (build included, fresh output folder) on a
+65,536 x 64 single-port wrapper (bench/rtl/sp64k: the full March C- sweep over the 7 standard
+backgrounds, 4,587,520 operations; target <= 60 s) and on the 1K x 32 one (target <= 15 s).
+
+With ``--shrink`` it prints the minimal-trace length of every failing example wrapper (and of the
+posted-write test fixture, whose bug only the sweep finds), by the phase that found it: the default
+phases, then the sweep alone and the property phase alone (target <= 10 cycles each).
+
+``--skip-property`` skips the property-phase measurements (for ``--big`` / ``--shrink`` alone).
+
+    .venv/bin/python bench/bench_check.py [--bulk-examples N] [--examples N] [--wall] [--big] [--shrink]
 """
 
 from __future__ import annotations
@@ -241,6 +251,81 @@ def bench_examples_wall() -> None:
         shutil.rmtree(out, ignore_errors=True)
 
 
+def _default_check(contract: Path) -> tuple[float, dict[str, object]]:
+    """Wall seconds of a default ``memcheck check`` (fresh output folder, build included) and its JSON."""
+    import json
+
+    out = Path(tempfile.mkdtemp(prefix="memcheck-big-"))
+    t0 = time.perf_counter()
+    argv = ["memcheck", "check", str(contract), "--seed", "1", "--out", str(out / "o"), "--quiet"]
+    subprocess.run(
+        [sys.executable, "-m", *argv, "--json", str(out / "r.json")],
+        capture_output=True,
+        text=True,
+    )
+    wall = time.perf_counter() - t0
+    rep: dict[str, object] = json.loads((out / "r.json").read_text())
+    shutil.rmtree(out, ignore_errors=True)
+    return wall, rep
+
+
+def bench_big() -> None:
+    """Default check wall time on the 65,536 x 64 and the 1K x 32 single-port wrappers."""
+    print("\ndefault `memcheck check --seed 1` (build included, fresh output folder):")
+    for name, target in (("sp64k", 60.0), ("sp1k", 15.0)):
+        wall, rep = _default_check(HERE / "rtl" / name / "contract.toml")
+        phases = rep["phases"]
+        assert isinstance(phases, list)
+        parts = ", ".join(f"{p['name']} {p['verdict']} {p['operations']} ops {p['seconds']:.1f} s" for p in phases)
+        met = "met" if wall <= target else "NOT met"
+        build_s = rep["build_seconds"]
+        print(f"  {name:6s} {rep['verdict']:4s} {wall:6.1f} s (build {build_s:.1f} s; target <= {target:.0f} s: {met})")
+        print(f"         {parts}")
+
+
+def _shrink_cases() -> list[tuple[str, Path]]:
+    index = tomllib.loads((examples_dir() / "index.toml").read_text())["example"]
+    cases: list[tuple[str, Path]] = [
+        (ex["name"], examples_dir() / ex["contract"]) for ex in index if ex["expect"] == "fail"
+    ]
+    pw = ROOT / "tests" / "rtl" / "pw"
+    text = (pw / "contract.toml").read_text().replace('"pw_wrap.v"', f'"{pw / "pw_wrap.v"}"')
+    text = text.replace('top = "pw_wrap"', 'top = "pw_wrap"\nparameters = { BUG = 1 }')
+    folder = Path(tempfile.mkdtemp(prefix="memcheck-pw-"))
+    (folder / "contract.toml").write_text(text)
+    cases.append(("tests/rtl/pw (posted-write bug)", folder / "contract.toml"))
+    return cases
+
+
+def bench_shrink() -> None:
+    """Minimal-trace length of every failing example, by the phase that found it."""
+    from memcheck.sim import check_contract
+
+    print("\nminimal trace of every failing example, by the phase that found it (seed 1; target <= 10 cycles):")
+    build_dir = Path(tempfile.mkdtemp(prefix="memcheck-shrink-build-"))
+    worst = 0
+    for name, contract in _shrink_cases():
+        for phases in (("smoke", "sweep", "property"), ("sweep",), ("property",)):
+            out = Path(tempfile.mkdtemp(prefix="memcheck-shrink-"))
+            t0 = time.perf_counter()
+            res = check_contract(contract, phases=phases, seed=1, out_dir=out, build_dir=build_dir, waveform=False)
+            wall = time.perf_counter() - t0
+            label = "+".join(phases) if len(phases) == 1 else "default"
+            f = res.failure
+            if f is None:
+                print(f"  {name:34s} {label:9s} no failure found ({wall:.1f} s)")
+            else:
+                worst = max(worst, len(f.trace))
+                minimal = "1-minimal" if "1-minimal" in f.note else "NOT 1-minimal"
+                print(
+                    f"  {name:34s} {label:9s} found by {f.phase:8s} {len(f.trace):3d} cycles  {minimal:13s} "
+                    f"replay {'reproduces' if res.reproduced else 'DIFFERS'}  ({wall:.1f} s)"
+                )
+            shutil.rmtree(out, ignore_errors=True)
+    print(f"  -> longest minimal trace {worst} cycles: target <= 10 {'met' if worst <= 10 else 'NOT met'}")
+    shutil.rmtree(build_dir, ignore_errors=True)
+
+
 def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
     ap.add_argument("--bulk-examples", type=int, default=100, help="bulk examples of the bulk-mode measurement")
@@ -251,7 +336,22 @@ def main() -> None:
     ap.add_argument("--seed", type=int, default=1)
     ap.add_argument("--long-cycles", type=int, default=100_000, help="cycles of the long-batch measurement")
     ap.add_argument("--wall", action="store_true", help="also time a default check of every example wrapper")
+    ap.add_argument("--big", action="store_true", help="default check wall time on 64K x 64 and 1K x 32 wrappers")
+    ap.add_argument("--shrink", action="store_true", help="minimal-trace length of every failing example")
+    ap.add_argument("--skip-property", action="store_true", help="skip the property-phase measurements")
     args = ap.parse_args()
+    if not args.skip_property:
+        bench_properties(args)
+    if args.wall:
+        bench_examples_wall()
+    if args.big:
+        bench_big()
+    if args.shrink:
+        bench_shrink()
+
+
+def bench_properties(args: argparse.Namespace) -> None:
+    """The property-phase measurements against the plain testbench, and the long batches."""
     ratio = bench_property(
         "property phase, bulk mode, 1K x 32 single port", 0, args.bulk_examples, args.max_blocks, args.seed
     )
@@ -266,8 +366,6 @@ def main() -> None:
     bench_property("property phase, short examples only", args.examples, 0, args.max_blocks, args.seed)
     print()
     bench_long_batches(args.long_cycles, args.seed)
-    if args.wall:
-        bench_examples_wall()
 
 
 if __name__ == "__main__":
