@@ -39,8 +39,9 @@ from memcheck.model_fast import Columns
 from memcheck.ops import Cycle
 from memcheck.records import CheckedTrace
 from memcheck.sim.checking import sequences as seq
-from memcheck.sim.checking.compare import check_arrays
+from memcheck.sim.checking.compare import check, check_arrays
 from memcheck.sim.checking.runner import EXAMPLE_PREAMBLE, Runner
+from memcheck.sim.checking.sequences import Segment
 from memcheck.sim.checking.shrink import (
     ShrinkBudgetSpent,
     ddmin_batched,
@@ -60,17 +61,26 @@ SHRINK_SECONDS = 120.0
 
 @dataclass(frozen=True)
 class Shrunk:
-    """A shrunk failure: its check as reported (run once more alone), whether no single cycle or
-    operation can be removed (False: the budget ran out first), and the candidates tried."""
+    """A shrunk failure: its check as reported (run once more, after the replay preamble), whether no
+    single cycle or operation can be removed (False: the budget ran out first), the candidates tried,
+    and whether it failed right after a fresh fill as a replay runs it."""
 
     checked: CheckedTrace
     one_minimal: bool
     candidates: int
+    fresh: bool = True  # False: it fails after the canonical restore, not right after a fresh fill
 
     def note(self) -> str:
         if self.one_minimal:
-            return "1-minimal: no single cycle or operation can be removed"
-        return "shrinking stopped at its budget: not known to be 1-minimal"
+            text = "1-minimal: no single cycle or operation can be removed"
+        else:
+            text = "shrinking stopped at its budget: not known to be 1-minimal"
+        if not self.fresh:
+            text += (
+                "; it fails after the canonical restore but not right after a fresh fill (it depends on "
+                "state the fill does not set), so a replay may not reproduce it"
+            )
+        return text
 
 
 class CandidateRunner:
@@ -136,14 +146,28 @@ def minimise_cycles(runner: Runner, cycles: Sequence[Cycle], cr: CandidateRunner
     group = GROUP_CYCLES
     current = list(cycles)
     if not cr.fails_many([current])[0]:
-        return Shrunk(runner.run_example(current), False, cr.tried)
+        return Shrunk(runner.run_example(current), False, cr.tried, fresh=False)
     current, minimal = ddmin_batched(current, cr.fails_many, group_items=group)
     quieter = greedy(current, quiet_candidates(seq.quiet(runner.contract)), cr.fails_many, group_items=group)
     if quieter != current:
         current, minimal = ddmin_batched(quieter, cr.fails_many, group_items=group)
     current = greedy(current, simpler_candidates(seq.quiet(runner.contract)), cr.fails_many, group_items=group)
-    # Run the final trace once more, alone, so the canonical-state run is the reported one.
-    return Shrunk(runner.run_example(current), minimal and _still_minimal(current, cr), cr.tried)
+    minimal = minimal and _still_minimal(current, cr)
+    # Run the final trace once more the way a replay runs it (reset, the whole fill, flush, the trace),
+    # so the reported run is the one a replay reproduces.
+    final = as_replayed(runner, current)
+    if final.ok:
+        return Shrunk(runner.run_example(current), minimal, cr.tried, fresh=False)
+    return Shrunk(final, minimal, cr.tried)
+
+
+def as_replayed(runner: Runner, cycles: Sequence[Cycle]) -> CheckedTrace:
+    """Run ``cycles`` after the replay preamble (reset, fill, flush), as a replay of it does."""
+    runner.run_steps(EXAMPLE_PREAMBLE)
+    obs = runner._run([Segment(tuple(cycles))])
+    runner._dirty = seq.written_addresses(cycles)
+    runner.examples_run += 1
+    return check(runner.contract, "unknown", list(cycles), obs)
 
 
 def _still_minimal(current: list[Cycle], cr: CandidateRunner) -> bool:
