@@ -64,3 +64,17 @@ def test_a_64k_word_wrapper_gets_the_whole_sweep_and_a_short_trace_for_a_bug_nea
     assert bad.verdict == "fail" and f is not None and f.phase == "sweep"
     assert len(f.trace) <= 10 and "1-minimal" in f.note and bad.reproduced is True
     assert {op.address for cyc in f.trace.cycles for op in cyc if op.kind != OpKind.IDLE} == {0xFFF0}
+
+
+def test_a_sweep_failure_that_depends_on_hidden_state_is_reported_as_a_replay_shows_it(tmp_path: Path) -> None:
+    """scratchpad_bank_bug shows the other bank's output register, which the canonical restore and a
+    fresh fill leave in different states: the reported run is the one after the replay's preamble, so
+    a replay reproduces it exactly."""
+    from memcheck.examples import examples_dir
+
+    contract = examples_dir() / "scratchpad_bank_bug" / "contract.toml"
+    res = check_contract(contract, phases=("sweep",), seed=1, out_dir=tmp_path / "out", waveform=False)
+    f = res.failure
+    assert res.verdict == "fail" and f is not None and f.phase == "sweep"
+    assert len(f.trace) <= 10 and "1-minimal" in f.note
+    assert res.reproduced is True
