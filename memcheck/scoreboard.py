@@ -16,14 +16,11 @@ module joins the two, as the CLI does for its commands. Importing it imports coc
 
 from __future__ import annotations
 
-import os
-from typing import Any
-
 from memcheck.contract import Contract
-from memcheck.records import CheckedTrace, ModelStart
+from memcheck.records import CheckedTrace
 from memcheck.report.text import DISCLAIMER, render_failure
-from memcheck.sim.plumbing.scoreboard import Renderer, ScoreboardMismatch
 from memcheck.sim.plumbing.scoreboard import Scoreboard as _MonitorOnly
+from memcheck.sim.plumbing.scoreboard import ScoreboardMismatch
 
 
 def render_window(contract: Contract, checked: CheckedTrace, start_text: str) -> str:
@@ -33,17 +30,7 @@ def render_window(contract: Contract, checked: CheckedTrace, start_text: str) ->
 
 class Scoreboard(_MonitorOnly):
     __doc__ = _MonitorOnly.__doc__
-
-    def __init__(
-        self,
-        contract: Contract | str | os.PathLike[str],
-        dut: Any,
-        *,
-        window: int = 16,
-        start: ModelStart = "power-up",
-        render: Renderer | None = None,
-    ) -> None:
-        super().__init__(contract, dut, window=window, start=start, render=render or render_window)
+    default_render = staticmethod(render_window)
 
 
 __all__ = ["Scoreboard", "ScoreboardMismatch", "render_window"]

@@ -16,7 +16,7 @@ from __future__ import annotations
 import json
 import os
 from collections.abc import Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Literal
 
@@ -56,6 +56,8 @@ class DraftPort:
     pins: tuple[tuple[str, str], ...]
     active_low: tuple[str, ...]
     notes: tuple[str, ...] = ()
+    #: The name is the pins' shared name part (``a`` of ``addr_a``), not a made-up one.
+    from_pins: bool = False
 
     def pin(self, role: str) -> str | None:
         return dict(self.pins).get(role)
@@ -299,7 +301,7 @@ def build_draft(pins: Sequence[DraftPin], top: str) -> Draft:
         port, dropped = _port(name, groups[key], clock, lane_key is not None)
         left_out += dropped
         if port is not None:
-            ports.append(port)
+            ports.append(replace(port, from_pins=bool(key)))
     if not ports:
         listed = "; ".join(f"{p.direction} [{p.width}] {p.name}" for p in pins) or "(none)"
         raise ContractError(
@@ -383,7 +385,7 @@ def _port_lines(p: DraftPort, why: dict[str, str]) -> list[str]:
     roles = {"readwrite": "read data and write data", "read": "read data only", "write": "write data only"}
     out = [
         "[[port]]",
-        _line("name", _q(p.name), "from the pins' shared name part" if p.name != "a" else "any name"),
+        _line("name", _q(p.name), "the pins' shared name part" if p.from_pins else "any name will do"),
         _line("role", _q(p.role), f"the port has {roles[p.role]}"),
         _line("clock", _q(p.clock), why.get(p.clock, "the only clock found") or "the only clock found"),
     ]

@@ -10,8 +10,9 @@ At every rising edge of the contract's clock the pins are sampled as the edge fi
 (:mod:`memcheck.sim.checking.monitor` turns them into operations and steps the reference model);
 the first read data that differs from the contract raises :class:`ScoreboardMismatch` (an
 ``AssertionError``) from the scoreboard's task, which fails the cocotb test with the last cycles
-as memcheck's failure table. The renderer is passed in by :mod:`memcheck.scoreboard` (the report
-layer renders, this layer never imports it).
+as memcheck's failure table. The table comes from the report layer, which this layer never
+imports: :class:`memcheck.scoreboard.Scoreboard` (exported as ``memcheck.sim.Scoreboard``) is this
+class with that renderer as :attr:`Scoreboard.default_render`.
 """
 
 from __future__ import annotations
@@ -87,6 +88,9 @@ class Scoreboard:
         A contract with several clock pins or with ``[power]`` pins.
     """
 
+    #: The renderer used when none is passed (memcheck.scoreboard.Scoreboard: the failure table).
+    default_render: Renderer = staticmethod(_plain)
+
     def __init__(
         self,
         contract: Contract | str | os.PathLike[str],
@@ -101,7 +105,7 @@ class Scoreboard:
         )
         refuse_unsupported(self.contract)
         self.dut = dut
-        self.render = render or _plain
+        self.render = render or type(self).default_render
         self.handles = {pin: _handle(dut, pin, what) for pin, (_, _, what) in expected_pins(self.contract).items()}
         self.widths = {pin: self._width(pin, want) for pin, (_, want, _) in expected_pins(self.contract).items()}
         self.monitor = Monitor(self.contract, self.widths, window=window, start=start)
