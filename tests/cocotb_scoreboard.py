@@ -17,6 +17,7 @@ import cocotb
 from cocotb.clock import Clock
 from cocotb.triggers import RisingEdge
 
+from memcheck.errors import MemcheckError
 from memcheck.sim import Scoreboard
 
 #: Rising edges with rst_n low before the logger runs (edges 0..2; the logger's step 0 is edge 3).
@@ -34,7 +35,8 @@ def _finish(board: Any) -> None:
 @cocotb.test()
 async def logger_traffic(dut: Any) -> None:
     """The telemetry logger's own traffic drives the buffer; the scoreboard watches dut.u_buf."""
-    board = Scoreboard(os.environ["MEMCHECK_SB_CONTRACT"], dut.u_buf, window=12).start()
+    watch = os.environ.get("MEMCHECK_SB_WATCH", "1") == "1"  # bench/: the same run without the scoreboard
+    board = Scoreboard(os.environ["MEMCHECK_SB_CONTRACT"], dut.u_buf, window=12).start() if watch else None
     dut.rst_n.value = 0
     Clock(dut.clk, 10, "ns").start(start_high=False)
     for _ in range(RESET_EDGES):
@@ -42,7 +44,18 @@ async def logger_traffic(dut: Any) -> None:
     dut.rst_n.value = 1
     for _ in range(int(os.environ.get("MEMCHECK_SB_EDGES", "900"))):
         await RisingEdge(dut.clk)
-    _finish(board)
+    if board is not None:
+        _finish(board)
+
+
+@cocotb.test()
+async def wrong_handle(dut: Any) -> None:
+    """Another wrapper's contract on the buffer instance: refused with one clear message."""
+    try:
+        Scoreboard(os.environ["MEMCHECK_SB_OTHER_CONTRACT"], dut.u_buf)
+    except MemcheckError as exc:
+        with open(os.environ["MEMCHECK_SB_OUT"], "w", encoding="utf-8") as fh:
+            json.dump({"error": str(exc), "kind": type(exc).__name__}, fh)
 
 
 @cocotb.test()

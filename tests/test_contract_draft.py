@@ -87,6 +87,13 @@ def test_unnamed_pins_are_placed_by_width_and_direction(tmp_path: Path) -> None:
     assert (c.memory.words, c.memory.width) == (128, 12)
 
 
+def test_each_port_takes_its_own_clock(tmp_path: Path) -> None:
+    pins = _pins("in 1 clka", "in 1 en_a", "in 1 we_a", "in 6 addr_a", "in 8 din_a", "out 8 dout_a")
+    pins += _pins("in 1 clk_b", "in 1 en_b", "in 6 addr_b", "out 8 dout_b")
+    c = _write(tmp_path, pins)
+    assert {p.name: (p.role, p.clock) for p in c.ports} == {"a": ("readwrite", "clka"), "b": ("read", "clk_b")}
+
+
 def test_lane_width_from_the_lane_enable_width(tmp_path: Path) -> None:
     c = _write(tmp_path, _pins("in 1 clk", "in 1 en", "in 1 we", "in 6 be", "in 10 addr", "in 48 wdata", "out 48 q"))
     assert (c.memory.words, c.memory.width, c.memory.lane_width, c.memory.lanes) == (1024, 48, 8, 6)

@@ -163,9 +163,20 @@ def _run(
     return seen, "\n".join(failures)
 
 
-def _logger(tmp_path: Path, example: str, twin: str) -> tuple[dict[str, object] | None, str]:
+def _logger(
+    tmp_path: Path, example: str, twin: str, testcase: str = "logger_traffic"
+) -> tuple[dict[str, object] | None, str]:
     srcs = [examples_dir() / example / "pktbuf_wrap.v", examples_dir() / twin / "sram_sp_bw.v", LOGGER]
-    return _run(tmp_path, srcs, "telemetry_logger", "logger_traffic", _example(example))
+    other = str(_example("regfile"))
+    return _run(tmp_path, srcs, "telemetry_logger", testcase, _example(example), MEMCHECK_SB_OTHER_CONTRACT=other)
+
+
+@pytest.mark.icarus
+def test_a_handle_without_the_contracts_pins_is_refused_clearly(tmp_path: Path) -> None:
+    seen, failure = _logger(tmp_path, "packet_buffer", "packet_buffer", "wrong_handle")
+    assert failure == "" and seen is not None
+    assert seen["kind"] == "SimulationError"
+    assert "has no signal 'rst_n' (the reset)" in str(seen["error"]), seen["error"]
 
 
 @pytest.mark.icarus

@@ -80,7 +80,7 @@ class Draft:
 # -- name patterns (common practice, not a standard) -------------------------------------------
 
 _WORDS: dict[str, PinRole] = {
-    **dict.fromkeys(("clk", "clock", "ck", "clka", "clkb"), "clock"),
+    **dict.fromkeys(("clk", "clock", "ck"), "clock"),
     **dict.fromkeys(("rst", "reset", "rstb"), "reset"),
     **dict.fromkeys(("en", "ena", "enable", "ce", "cs", "me", "sel", "req", "re", "ren", "chipsel"), "enable"),
     **dict.fromkeys(("we", "wren", "wr_en", "write"), "write_enable"),
@@ -97,7 +97,14 @@ _CONTROLS: tuple[PinRole, ...] = ("enable", "write_enable", "lane_enable", "rese
 
 
 def _tokens(name: str) -> list[str]:
-    return [t for t in name.lower().split("_") if t]
+    """Lower-case name parts; ``clka`` splits into ``clk``, ``a`` (a per-port clock)."""
+    out: list[str] = []
+    for t in name.lower().split("_"):
+        if len(t) == 4 and t.startswith("clk") and t[3].isalnum():
+            out += ["clk", t[3]]
+        elif t:
+            out.append(t)
+    return out
 
 
 def _role_word(token: str) -> tuple[PinRole | None, bool]:

@@ -33,18 +33,16 @@ from memcheck.sim.checking.compare import start_model
 Sampled = tuple[int, int]
 
 
+_VALUE = str.maketrans("01xzXZuwlhUWLH-", "010000000000000")
+_DEFINED = str.maketrans("01xzXZuwlhUWLH-", "110000000000000")
+
+
 def parse_bits(text: str) -> Sampled:
-    """``"01xz"`` (MSB first, as simulators print a vector) -> (value, defined)."""
-    value = defined = 0
-    for ch in text.strip():
-        value <<= 1
-        defined <<= 1
-        if ch == "1":
-            value |= 1
-            defined |= 1
-        elif ch == "0":
-            defined |= 1
-    return value, defined
+    """``"01xz"`` (MSB first, as simulators print a vector) -> (value, defined); only 0 and 1 are defined."""
+    text = text.strip()
+    if not text:
+        return 0, 0
+    return int(text.translate(_VALUE), 2), int(text.translate(_DEFINED), 2)
 
 
 @dataclass(frozen=True)
