@@ -212,3 +212,16 @@ def test_rtl_that_does_not_compile_shows_the_compiler_lines(tmp_path: Path, caps
     err = capsys.readouterr().err
     assert rc == 2 and "Traceback" not in err
     assert "does not compile" in err and "nosuch" in err and "bad.v:2" in err
+
+
+@pytest.mark.icarus
+def test_without_o_the_draft_goes_to_standard_output(
+    tmp_path: Path, capsys: pytest.CaptureFixture[str], monkeypatch: pytest.MonkeyPatch
+) -> None:
+    src = examples_dir() / "regfile"
+    monkeypatch.chdir(src)
+    assert main(["contract", "draft", "regfile_wrap.v", "sram_2p.v", "--top", "regfile_wrap"]) == 0
+    doc = tomllib.loads(capsys.readouterr().out)
+    assert doc["rtl"] == {"sources": ["regfile_wrap.v", "sram_2p.v"], "top": "regfile_wrap"}
+    assert doc["reset"]["signal"] == "rst_n" and sorted(p["name"] for p in doc["port"]) == ["rd", "wr"]
+    assert not list(tmp_path.iterdir())  # nothing written

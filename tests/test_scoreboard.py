@@ -206,7 +206,12 @@ def test_buggy_wrapper_raises_with_the_bugs_cycle_in_the_table(tmp_path: Path) -
 
 @pytest.mark.icarus
 @pytest.mark.parametrize(
-    ("example", "top", "raises"), [("regfile", "regfile_wrap", False), ("line_buffer_bypass_bug", "linebuf_wrap", True)]
+    ("example", "top", "raises"),
+    [
+        ("regfile", "regfile_wrap", False),  # reset (active low), initial zero, collision new
+        ("line_buffer", "linebuf_wrap", False),  # read port without enable, read latency 2, collision old
+        ("line_buffer_bypass_bug", "linebuf_wrap", True),  # its twin that forwards the new pixel
+    ],
 )
 def test_user_traffic_from_the_test_on_two_port_wrappers(tmp_path: Path, example: str, top: str, raises: bool) -> None:
     c = load_contract(_example(example))
@@ -216,7 +221,9 @@ def test_user_traffic_from_the_test_on_two_port_wrappers(tmp_path: Path, example
         tmp_path, list(c.rtl.sources), top, "user_traffic_two_ports", _example(example), MEMCHECK_SB_SEED=str(seed)
     )
     if raises:
+        # Same seed, same traffic as the conforming twin: only the bypass can make this read differ.
         assert seen is None and "differs from" in failure and "<<" in failure, failure
+        assert 'collision = "old"' in failure and "while port rd read it" in failure
     else:
         assert failure == "" and seen is not None, failure
         assert isinstance(seen["reads_checked"], int) and seen["reads_checked"] > 100
