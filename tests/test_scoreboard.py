@@ -116,6 +116,23 @@ def test_x_enable_makes_the_model_forget_and_a_reset_restarts_it() -> None:
     assert mon.resets == 1
 
 
+def test_a_tied_pin_away_from_its_value_is_not_followed(tmp_path: Path) -> None:
+    text = (
+        _example("coeff_lut")
+        .read_text(encoding="utf-8")
+        .replace('top = "coeff_wrap"', 'top = "coeff_wrap"\ntie = { bank = 1 }')
+    )
+    (tmp_path / "c.toml").write_text(text, encoding="utf-8")
+    c = load_contract(tmp_path / "c.toml", check_sources=False)
+    widths = {"en": 1, "we": 1, "addr": 5, "wdata": 18, "rdata": 18, "bank": 1}
+    mon = Monitor(c, widths)
+    pins = {"en": (1, 1), "we": (1, 1), "addr": (3, 31), "wdata": (9, (1 << 18) - 1), "rdata": (0, 0), "bank": (1, 1)}
+    mon.step(pins)
+    assert mon.unfollowed == 0
+    mon.step({**pins, "bank": (0, 1)})
+    assert mon.unfollowed == 1 and "'bank' is not at its [rtl] tie value 1" in mon.notes[0]
+
+
 def test_multi_clock_contracts_are_refused_clearly(tmp_path: Path) -> None:
     text = (
         _example("regfile")

@@ -10,10 +10,10 @@ operation each port performs at that edge and the read data the model says a con
 there (:meth:`memcheck.model.Model.step`).
 
 A cycle the model cannot follow (an X/Z enable or write enable, an X/Z address of an access, an
-address beyond the contract's address range) makes the model forget everything (contents and
-pending reads unknown): later reads are checked again once the design writes known data. This
-happens typically before a testbench drives the pins at all. X/Z bits of write data make those
-stored bits unknown.
+address beyond the contract's address range, a ``[rtl] tie`` pin away from its value) makes the
+model forget everything (contents and pending reads unknown): later reads are checked again once
+the design writes known data. This happens typically before a testbench drives the pins at all.
+X/Z bits of write data make those stored bits unknown.
 """
 
 from __future__ import annotations
@@ -194,6 +194,7 @@ class Monitor:
         limit = self.contract.memory.address_limit
         decoded = [decode_port(p, self.contract, sampled, self.widths, limit) for p in ports]
         problems = [f"port {p.name!r}: {d.problem}" for p, d in zip(ports, decoded, strict=True) if d.problem]
+        problems += self._ties_off(sampled)
         ops = tuple(_stand_in(p) if d.problem else d.op for p, d in zip(ports, decoded, strict=True))
         expected = self.model.step(ops)
         if problems:
@@ -205,6 +206,19 @@ class Monitor:
         row = self._compare(k, ops, expected, sampled)
         self.rows.append(row)
         return row
+
+    def _ties_off(self, sampled: Mapping[str, Sampled]) -> list[str]:
+        """``[rtl] tie`` pins away from their value: the contract does not describe that state."""
+        rtl = self.contract.rtl
+        if rtl is None:
+            return []
+        out = []
+        for pin, want in rtl.tie.items():
+            value, defined = sampled[pin]
+            full = _full(self.widths[pin])
+            if defined & full != full or value & full != want:
+                out.append(f"pin {pin!r} is not at its [rtl] tie value {want}")
+        return out
 
     def _unfollowed(self, k: int, problems: list[str]) -> None:
         self.model.forget()
