@@ -10,6 +10,7 @@ from typing import Any
 from memcheck.contract import Contract
 from memcheck.ops import Expected, OpKind, PortOp
 from memcheck.records import CheckedTrace, CheckResult, Observed, RunRecord
+from memcheck.report.coverage_text import render_coverage
 from memcheck.report.explain import explain
 
 DISCLAIMER = (
@@ -188,6 +189,8 @@ def start_description(preamble: tuple[str, ...], start: str, contract: Contract 
 def render_report(result: CheckResult) -> str:
     """The whole human report of a check."""
     parts = [result.summary()]
+    if result.coverage is not None:
+        parts.append(render_coverage(result.coverage))
     if result.failure is not None:
         f = result.failure
         parts.append(
