@@ -109,6 +109,7 @@ class Runner:
             "bulk_shrink": 0.0,
             "bulk_generate": 0.0,
             "bulk_decode": 0.0,
+            "coverage": 0.0,
         }
         self._pool: ThreadPoolExecutor | None = None  # set while bulk examples run
         self.counts: dict[str, int] = {
@@ -123,11 +124,15 @@ class Runner:
 
     def cover(self, cycles: Sequence[Cycle]) -> None:
         """Count the cover points of a checked trace (memcheck.cover)."""
+        t0 = time.perf_counter()
         self.coverage = self.coverage.then(measure(self.contract, arrays_of_cycles(self.contract, cycles)))
+        self.timing["coverage"] += time.perf_counter() - t0
 
     def cover_columns(self, cols: Columns) -> None:
         """:meth:`cover` for a trace given as columns."""
+        t0 = time.perf_counter()
         self.coverage = self.coverage.then(measure(self.contract, TraceArrays(cols.kind, cols.address, cols.lanes)))
+        self.timing["coverage"] += time.perf_counter() - t0
 
     # -- running cycles --------------------------------------------------------------------
 
