@@ -278,3 +278,23 @@ def test_aggregated_points_name_what_was_never_seen() -> None:
     assert by_key["a:address.bits"].missing == ("bit 0 at 1", "bit 1 at 1", "bit 2 at 0")
     assert by_key["a:lanes.each"].missing == ("lane 1", "lane 2", "lane 3")
     assert isinstance(by_key["a:op.read"].point, CoverPoint)
+
+
+def test_the_check_report_shows_the_figure_the_table_and_the_json_section() -> None:
+    from memcheck.records import CheckResult, CheckVerdict, PhaseResult
+    from memcheck.report import render_report, report_dict
+
+    c = one_port()
+    cov = coverage_of(c, measure(c, arrays_of_cycles(c, [(write(0, 1),), (read(0),)])))
+    result = CheckResult(
+        verdict=CheckVerdict.PASS,
+        contract=c,
+        contract_path=None,
+        seed=1,
+        phases=(PhaseResult("property", "pass", 2, 2, 0.1),),
+        coverage=cov,
+    )
+    assert result.summary().splitlines()[0].endswith(f"conforms; {cov.hit} of {cov.total} cover points hit")
+    text = render_report(result)
+    assert render_coverage(cov) in text and text.index("HOLE") < text.index("Verdicts cover")
+    assert report_dict(result)["coverage"] == cov.to_json()

@@ -50,7 +50,12 @@ def arrays_of_cycles(contract: Contract, cycles: Sequence[Cycle], power: Sequenc
     kind = np.fromiter((op.kind for op in ops), dtype=np.int8, count=t * p).reshape(t, p)
     address = np.fromiter((op.address for op in ops), dtype=np.int64, count=t * p).reshape(t, p)
     ll = limbs_of(max(m.lanes, 1))
-    lanes = ints_to_limbs([m.all_lanes if op.lanes is None else op.lanes for op in ops], ll).reshape(t, p, ll)
+    full = m.all_lanes
+    if ll == 1:
+        values = (full if op.lanes is None else op.lanes for op in ops)
+        lanes = np.fromiter(values, dtype=np.uint64, count=t * p).reshape(t, p, 1)
+    else:
+        lanes = ints_to_limbs([full if op.lanes is None else op.lanes for op in ops], ll).reshape(t, p, ll)
     pw = np.array([int(s) for s in power], dtype=np.int8) if power else None
     return TraceArrays(kind, address, lanes, pw)
 

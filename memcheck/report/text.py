@@ -189,8 +189,6 @@ def start_description(preamble: tuple[str, ...], start: str, contract: Contract 
 def render_report(result: CheckResult) -> str:
     """The whole human report of a check."""
     parts = [result.summary()]
-    if result.coverage is not None:
-        parts.append(render_coverage(result.coverage))
     if result.failure is not None:
         f = result.failure
         parts.append(
@@ -210,6 +208,8 @@ def render_report(result: CheckResult) -> str:
             )
         if files:
             parts.append("\n".join(files))
+    if result.coverage is not None:
+        parts.append(render_coverage(result.coverage))
     parts += render_notes(result)
     parts.append(DISCLAIMER)
     return "\n\n".join(parts)
