@@ -321,6 +321,11 @@ class CheckResult(RunRecord[Failure]):
     coverage: Coverage | None = None
 
     @property
+    def covered(self) -> bool:
+        """True when every cover point of the contract was hit (what ``--require-coverage`` asks)."""
+        return self.coverage is None or not self.coverage.holes
+
+    @property
     def operations(self) -> int:
         return sum(p.operations for p in self.phases)
 

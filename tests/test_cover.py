@@ -298,3 +298,4 @@ def test_the_check_report_shows_the_figure_the_table_and_the_json_section() -> N
     text = render_report(result)
     assert render_coverage(cov) in text and text.index("HOLE") < text.index("Verdicts cover")
     assert report_dict(result)["coverage"] == cov.to_json()
+    assert not result.covered and cov.holes

@@ -146,7 +146,7 @@ def check(
     result = run_check(contract_file, opts, json_file=json_file, junit_file=junit_file, quiet=quiet)
     if not result.passed:
         return EXIT_FAIL
-    if opts.require_coverage and result.coverage is not None and result.coverage.holes:
+    if opts.require_coverage and not result.covered and result.coverage is not None:
         click.echo(f"--require-coverage: cover points not hit: {result.coverage.hole_text()}.", err=True)
         return EXIT_FAIL
     return EXIT_OK
