@@ -20,7 +20,7 @@ import numpy as np
 from memcheck.contract import Contract
 from memcheck.cover import Counts, TraceArrays, arrays_of_cycles, measure
 from memcheck.model_fast import Columns, ints_to_limbs, limbs_of, limbs_to_ints
-from memcheck.ops import Cycle, OpKind
+from memcheck.ops import Cycle, OpKind, Power
 from memcheck.records import CheckedTrace, Failure, Observed
 from memcheck.sim.checking import sequences as seq
 from memcheck.sim.checking.compare import ArrayCheck, check, check_arrays, expected_arrays
@@ -122,10 +122,10 @@ class Runner:
 
     # -- coverage ----------------------------------------------------------------------------
 
-    def cover(self, cycles: Sequence[Cycle]) -> None:
-        """Count the cover points of a checked trace (memcheck.cover)."""
+    def cover(self, cycles: Sequence[Cycle], power: Sequence[Power] = ()) -> None:
+        """Count the cover points of a checked trace (memcheck.cover), with its per-tick power states."""
         t0 = time.perf_counter()
-        self.coverage = self.coverage.then(measure(self.contract, arrays_of_cycles(self.contract, cycles)))
+        self.coverage = self.coverage.then(measure(self.contract, arrays_of_cycles(self.contract, cycles, power)))
         self.timing["coverage"] += time.perf_counter() - t0
 
     def cover_columns(self, cols: Columns) -> None:
