@@ -153,7 +153,7 @@ def _port_hits(contract: Contract, arr: TraceArrays, p: int, hits: dict[str, int
     lane_counts = _lane_bits(arr.lanes[edges, p][writes], nl).sum(axis=0, dtype=np.int64)
     access = (k == _R) | writes
     aa = a[access]
-    ones = np.array([np.count_nonzero((aa >> b) & 1) for b in range(m.address_bits)], dtype=np.int64)
+    ones = ((aa[:, None] >> np.arange(m.address_bits, dtype=np.int64)) & 1).sum(axis=0, dtype=np.int64)
     bits = np.stack([len(aa) - ones, ones], axis=1)
     hits[f"{name}:address.first"] = int(np.count_nonzero(aa == 0))
     hits[f"{name}:address.last"] = int(np.count_nonzero(aa == m.words - 1))
@@ -235,5 +235,5 @@ def measure(contract: Contract, arr: TraceArrays) -> Counts:
     if arr.power is not None:
         hits[f"{MEMORY}:power.sleep"] = _episodes(arr.power, Power.SLEEP)
         hits[f"{MEMORY}:power.shutdown"] = _episodes(arr.power, Power.SHUTDOWN)
-    accessed = bool(np.isin(arr.kind, (_R, _W)).any())
+    accessed = bool(((arr.kind == _R) | (arr.kind == _W)).any())
     return Counts(MappingProxyType(hits), bits, lanes, accessed)
