@@ -17,6 +17,7 @@ from pathlib import Path
 from typing import Any, Generic, Literal, TypeVar
 
 from memcheck.contract import Contract
+from memcheck.cover import Coverage
 from memcheck.march.expand import MarchStep
 from memcheck.march.notation import MarchTest
 from memcheck.ops import Expected, PortOp, Trace
@@ -316,6 +317,13 @@ class CheckResult(RunRecord[Failure]):
 
     replayed: CheckedTrace | None = None
     error: str | None = None
+    #: The cover points of the contract with their hit counts (None when no phase ran).
+    coverage: Coverage | None = None
+
+    @property
+    def covered(self) -> bool:
+        """True when every cover point of the contract was hit (what ``--require-coverage`` asks)."""
+        return self.coverage is None or not self.coverage.holes
 
     @property
     def operations(self) -> int:
@@ -328,7 +336,7 @@ class CheckResult(RunRecord[Failure]):
     def summary(self) -> str:
         """A few lines for an assertion message or a log: verdict, phases, seed, time, replay command."""
         verdict = {"pass": "conforms", "fail": "DIFFERENCE FOUND", "error": "ERROR"}[self.verdict]
-        lines = [f"{self.name}: {verdict}"]
+        lines = [f"{self.name}: {verdict}" + ("" if self.coverage is None else f"; {self.coverage.summary()}")]
         if self.error:
             lines.append(self.error)
         if self.phases:

@@ -75,6 +75,7 @@ BAD_ARGS: list[tuple[tuple[str, ...], tuple[str, ...]]] = [
     (("march", "run", REGFILE, "MATS+", "--layout", "3x3"), ("layout 3x3",)),
     (("march", "run", REGFILE, "MATS+", "--max-ops", "0"), ("--max-ops",)),
     (("demo", "--examples", "-1"), ("--examples",)),
+    (("check", REGFILE, "--directed-examples", "-1"), ("--directed-examples",)),
     # bist campaign / faulty-memory (refused before any simulation)
     (("bist", "campaign", "MATS+", "--words", "16", "--faults", "SAF,NPSF"), ("unknown fault class", "NPSF")),
     (("bist", "campaign", "MATS+", "--words", "16", "--layout", "3x4"), ("layout 3x4", "16")),

@@ -219,7 +219,7 @@ def test_one_json_layout_keeps_every_earlier_field(tmp_path: Path) -> None:
     )  # fmt: skip
     assert set(check) >= _CHECK_FIELDS_BEFORE and set(march) >= _MARCH_FIELDS_BEFORE
     # One layout: what a check and a March run share is every field but the job's own.
-    assert set(check) - {"minimal_trace"} == set(march) - set(march_fields_only())
+    assert set(check) - {"minimal_trace", "coverage"} == set(march) - set(march_fields_only())
     assert check["job"] == "check" and march["job"] == "march run"
     err = error_dict("c.toml", "bad", 3, job="march run", test="MATS+")
     assert set(err) >= _ERROR_FIELDS_BEFORE and err["verdict"] == "error" and err["first_failure"] is None

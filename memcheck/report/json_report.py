@@ -81,6 +81,7 @@ def report_dict(result: CheckResult | MarchRunResult) -> dict[str, Any]:
         cycles=result.cycles,
         minimal_trace=_minimal_trace(result),
         error=result.error,
+        coverage=None if result.coverage is None else result.coverage.to_json(),
     )
     return out
 
@@ -102,6 +103,7 @@ def error_dict(
         "cycles": 0,
         "minimal_trace": None,
         "first_failure": None,
+        "coverage": None,
         "error": message,
         "note": DISCLAIMER,
     }

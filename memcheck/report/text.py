@@ -10,6 +10,7 @@ from typing import Any
 from memcheck.contract import Contract
 from memcheck.ops import Expected, OpKind, PortOp
 from memcheck.records import CheckedTrace, CheckResult, Observed, RunRecord
+from memcheck.report.coverage_text import render_coverage
 from memcheck.report.explain import explain
 
 DISCLAIMER = (
@@ -207,6 +208,8 @@ def render_report(result: CheckResult) -> str:
             )
         if files:
             parts.append("\n".join(files))
+    if result.coverage is not None:
+        parts.append(render_coverage(result.coverage))
     parts += render_notes(result)
     parts.append(DISCLAIMER)
     return "\n\n".join(parts)

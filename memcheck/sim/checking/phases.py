@@ -20,11 +20,13 @@ from __future__ import annotations
 import time
 from dataclasses import replace
 
+from memcheck.cover import coverage_of
 from memcheck.ops import Cycle, Trace
 from memcheck.records import CheckedTrace, CycleRow, Failure, ModelStart, PhaseResult
 from memcheck.sim.checking import sequences as seq
 from memcheck.sim.checking.compare import check, compare, start_model
 from memcheck.sim.checking.examples import bulk_examples, short_examples
+from memcheck.sim.checking.holes import close_holes
 from memcheck.sim.checking.outcome import RunResult
 from memcheck.sim.checking.runner import EXAMPLE_PREAMBLE, Runner, operation_count
 from memcheck.sim.checking.sequences import Segment
@@ -54,6 +56,7 @@ class PhaseRunner(Runner):
             phases=tuple(results),
             failure=failure,
             seed=self.options.seed_or_zero(),
+            coverage=coverage_of(self.contract, self.coverage),
             extra={
                 "cycles_simulated": self.cycles,
                 "examples_run": self.examples_run,
@@ -74,6 +77,7 @@ class PhaseRunner(Runner):
         if c.reset is not None:
             self.run_steps(["reset"])
         obs = self._run([Segment(tuple(cycles))])
+        self.cover(cycles)
         self.history.append("smoke")
         checked = check(c, start, cycles, obs)
         ops = operation_count(cycles)
@@ -134,6 +138,7 @@ class PhaseRunner(Runner):
         for segment in plan.segments(self.backend.batch_limit):
             self.where["done"] = counts[1]
             obs = self._run([segment])
+            self.cover(segment.cycles)
             checked = compare(model.run(segment.cycles), obs, segment.cycles, "unknown")
             done += len(segment)
             counts[0] += len(segment)
@@ -176,11 +181,15 @@ class PhaseRunner(Runner):
         found, note = short_examples(self, stats) if n > 0 else (None, "")
         if found is None and nb > 0:
             found, note = bulk_examples(self, stats)
+        if found is None:
+            found = close_holes(self, stats)
         parts = []
         if n > 0:
             parts.append(f"{min(stats['examples'], n)} examples")
         if nb > 0:
             parts.append(f"{self.counts['bulk_examples']} bulk examples ({self.counts['bulk_operations']} operations)")
+        if stats.get("directed"):
+            parts.append(f"{stats['directed']} directed examples for cover holes")
         detail = " + ".join(parts)
         if found is None:
             return PhaseResult(

@@ -18,8 +18,9 @@ from typing import Any, Protocol
 import numpy as np
 
 from memcheck.contract import Contract
+from memcheck.cover import Counts, TraceArrays, arrays_of_cycles, measure
 from memcheck.model_fast import Columns, ints_to_limbs, limbs_of, limbs_to_ints
-from memcheck.ops import Cycle, OpKind
+from memcheck.ops import Cycle, OpKind, Power
 from memcheck.records import CheckedTrace, Failure, Observed
 from memcheck.sim.checking import sequences as seq
 from memcheck.sim.checking.compare import ArrayCheck, check, check_arrays, expected_arrays
@@ -108,6 +109,7 @@ class Runner:
             "bulk_shrink": 0.0,
             "bulk_generate": 0.0,
             "bulk_decode": 0.0,
+            "coverage": 0.0,
         }
         self._pool: ThreadPoolExecutor | None = None  # set while bulk examples run
         self.counts: dict[str, int] = {
@@ -116,6 +118,21 @@ class Runner:
             "bulk_cycles": 0,
             "bulk_shrink_runs": 0,
         }
+        self.coverage = Counts.empty(contract)  # cover points hit by the checked traces (memcheck.cover)
+
+    # -- coverage ----------------------------------------------------------------------------
+
+    def cover(self, cycles: Sequence[Cycle], power: Sequence[Power] = ()) -> None:
+        """Count the cover points of a checked trace (memcheck.cover), with its per-tick power states."""
+        t0 = time.perf_counter()
+        self.coverage = self.coverage.then(measure(self.contract, arrays_of_cycles(self.contract, cycles, power)))
+        self.timing["coverage"] += time.perf_counter() - t0
+
+    def cover_columns(self, cols: Columns) -> None:
+        """:meth:`cover` for a trace given as columns."""
+        t0 = time.perf_counter()
+        self.coverage = self.coverage.then(measure(self.contract, TraceArrays(cols.kind, cols.address, cols.lanes)))
+        self.timing["coverage"] += time.perf_counter() - t0
 
     # -- running cycles --------------------------------------------------------------------
 
@@ -142,6 +159,7 @@ class Runner:
         for step in steps:
             if step == "reset":
                 self._run([seq.reset_segment(c)])
+                self.coverage = self.coverage.after_reset()
             elif step == "fill":
                 self._canonical = False
                 self._run(list(seq.fill_segments(c, chunk)))
@@ -175,6 +193,7 @@ class Runner:
         t1 = time.perf_counter()
         self._dirty = seq.written_addresses(cycles)
         self.examples_run += 1
+        self.cover(cycles)
         checked = check(c, "unknown", list(cycles), obs[len(pre) :])
         self.timing["example_rtl"] += t1 - t0
         self.timing["example_model"] += time.perf_counter() - t1
@@ -211,6 +230,7 @@ class Runner:
         t1 = time.perf_counter()
         self._dirty = set(cols.written_addresses().tolist())
         self.examples_run += 1
+        self.cover_columns(cols)
         checked = check_arrays(
             c, cols, value[len(pre) :], defined[len(pre) :], "unknown", model.result() if model is not None else None
         )
@@ -265,4 +285,5 @@ class Runner:
         self.where = {"phase": "replay", "what": "trace"}
         cycles = list(failure.trace.cycles)
         obs = self._run([Segment(tuple(cycles))], dump=dump)
+        self.cover(cycles)
         return check(self.contract, failure.checked.start, cycles, obs)

@@ -26,7 +26,7 @@ def _validate(c: Contract, opts: SimOptions) -> None:
     unknown = [p for p in opts.phases if p not in PHASES]
     if unknown or not opts.phases:
         raise MemcheckError(f"unknown phase(s) {', '.join(unknown) or '(none given)'}; allowed: {', '.join(PHASES)}.")
-    for name in ("examples", "bulk_examples", "pause_cycles"):
+    for name in ("examples", "bulk_examples", "pause_cycles", "directed_examples"):
         value = getattr(opts, name)
         if isinstance(value, bool) or not isinstance(value, int) or value < 0:
             raise MemcheckError(f"{name} = {value!r}; allowed: 0 or more.")
@@ -71,6 +71,7 @@ def check_contract(
         replayed=replayed,
         notes=res.notes,
         extra=dict(res.extra),
+        coverage=res.coverage,
         **s.record_fields(),
     )
 
