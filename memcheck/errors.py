@@ -58,6 +58,11 @@ class SimulationError(MemcheckError):
     """The simulator could not build, start, or finish a run (compile errors, missing pins, hangs)."""
 
 
+class SimulationStalled(SimulationError):
+    """The stall watchdog stopped a simulation that made no progress (a zero-delay loop, a wait for
+    something that never happens)."""
+
+
 class NotYetSimulated(SimulationError):
     """A contract key the contract and the model support but the simulator harness does not honour yet
     (raised before anything is built, so no verdict is ever given on a contract the harness would drive
