@@ -23,6 +23,7 @@ from memcheck.mutation.tokens import Kind, Token, tokenize
 
 _DIRECTIONS = frozenset({"input", "output", "inout"})
 _ASSIGN = frozenset({"=", "<="})
+_DECLARE = frozenset({"wire", "reg", "logic", "integer", "tri"})
 
 
 @dataclass(frozen=True)
@@ -43,6 +44,8 @@ def _outputs(tokens: list[Token]) -> set[str]:
     for t in tokens:
         if t.text in _DIRECTIONS:
             direction = t.text
+        elif t.text == ";":
+            direction = ""
         elif t.kind == Kind.NAME and direction == "output":
             out.add(t.text)
     return out
@@ -79,9 +82,23 @@ def _statement_names(tokens: list[Token], mutant: Mutant) -> tuple[list[str], li
     return written, used
 
 
+def _declared_positions(tokens: list[Token]) -> set[int]:
+    """Indices of names being declared (``reg [7:0] a, b;``: up to a ``=`` or the ``;``)."""
+    out: set[int] = set()
+    inside = False
+    for i, t in enumerate(tokens):
+        if t.text in _DECLARE:
+            inside = True
+        elif t.text in ("=", ";"):
+            inside = False
+        elif inside and t.kind == Kind.NAME:
+            out.add(i)
+    return out
+
+
 def _unread(tokens: list[Token], names: Sequence[str]) -> list[str]:
     frozen = frozen_tokens(tokens)
-    lhs = _lhs_positions(tokens)
+    lhs = _lhs_positions(tokens) | _declared_positions(tokens)
     outputs = _outputs(tokens)
     read = {t.text for i, t in enumerate(tokens) if t.kind == Kind.NAME and not frozen[i] and i not in lhs}
     return [n for n in names if n not in read and n not in outputs]

@@ -92,6 +92,22 @@ class Mutant:
             raise ValueError(f"{self.file}: the text at offset {self.start} is not {self.original!r}")
         return text[: self.start] + self.replacement + text[self.end :]
 
+    @classmethod
+    def from_edit(cls, file: Path | str, text: str, old: str, new: str, operator: Operator, description: str) -> Mutant:
+        """A hand-made mutant: the one occurrence of ``old`` in ``text`` (the file's contents) replaced
+        by ``new``.
+
+        Raises
+        ------
+        ValueError
+            ``old`` does not occur exactly once.
+        """
+        if text.count(old) != 1:
+            raise ValueError(f"{file}: {old!r} occurs {text.count(old)} times; allowed: exactly once")
+        start = text.index(old)
+        line = text.count("\n", 0, start) + 1
+        return cls(Path(file), operator, line, start, start + len(old), old, new, description)
+
     def key(self) -> tuple[str, int, int, int, str]:
         return (str(self.file), self.start, self.end, int(self.operator), self.replacement)
 

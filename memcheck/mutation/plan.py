@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import difflib
+from collections.abc import Sequence
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -61,8 +62,9 @@ def mutation_files(contract: Contract) -> tuple[Path, ...]:
     )
 
 
-def plan_mutants(contract: Contract, mutants: int, seed: int) -> MutationPlan:
-    """Every candidate mutant of the contract's mutation files and ``mutants`` of them drawn with ``seed``.
+def plan_mutants(contract: Contract, mutants: int, seed: int, given: Sequence[Mutant] | None = None) -> MutationPlan:
+    """Every candidate mutant of the contract's mutation files and ``mutants`` of them drawn with ``seed``;
+    with ``given`` (hand-made mutants of those files), exactly those, named ``H000``, ``H001``...
 
     Raises
     ------
@@ -73,6 +75,8 @@ def plan_mutants(contract: Contract, mutants: int, seed: int) -> MutationPlan:
         raise UsageError(f"--mutants {mutants}: allowed: 1 or more mutants.")
     files = mutation_files(contract)
     texts = {f: _read(f) for f in files}
+    if given is not None:
+        return _given_plan(files, texts, given)
     candidates = tuple(m for f in files for m in find_mutants(texts[f], f))
     if not candidates:
         names = ", ".join(f.name for f in files)
@@ -82,6 +86,17 @@ def plan_mutants(contract: Contract, mutants: int, seed: int) -> MutationPlan:
         )
     chosen = tuple((f"M{k:03d}", m) for k, m in sample_mutants(candidates, mutants, seed))
     return MutationPlan(files, texts, candidates, chosen)
+
+
+def _given_plan(files: tuple[Path, ...], texts: dict[Path, str], given: Sequence[Mutant]) -> MutationPlan:
+    if not given:
+        raise UsageError("no mutants given; allowed: at least one hand-made mutant.")
+    for m in given:
+        if m.file not in texts:
+            allowed = ", ".join(str(f) for f in files)
+            raise UsageError(f"mutant of {m.file}: allowed: mutants of the mutation files ({allowed}).")
+        m.apply(texts[m.file])  # raises when the mutant does not fit the file
+    return MutationPlan(files, texts, tuple(given), tuple((f"H{k:03d}", m) for k, m in enumerate(given)))
 
 
 def source_diff(mutant: Mutant, text: str, ident: str) -> str:

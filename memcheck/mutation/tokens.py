@@ -2,6 +2,7 @@
 literals, selects and statement boundaries, never a full parser.
 
 Comments, strings, attributes ``(* ... *)`` and compiler directives (`` `define `` lines whole, other
+`` `timescale ``, `` `include `` and the like to the end of their line, other
 directives as one token) are skipped, so a mutation never lands inside them. Each token keeps its
 character offsets in the original text, so a mutation is a plain text splice.
 """
@@ -41,6 +42,7 @@ _SKIP = re.compile(
   | (?P<string>"(?:\\.|[^"\\\n])*")
   | (?P<attribute>\(\*(?!\s*\))[^\n]*?\*\))
   | (?P<define>`define(?:[^\n\\]|\\\n|\\.)*)
+  | (?P<line_directive>`(?:timescale|include|default_nettype|undef|line|pragma)\b[^\n]*)
   | (?P<directive>`[A-Za-z_]\w*)
     """,
     re.VERBOSE | re.DOTALL,

@@ -11,7 +11,7 @@ from __future__ import annotations
 import dataclasses
 import multiprocessing
 import time
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 from concurrent.futures import Future, ProcessPoolExecutor, as_completed
 from dataclasses import dataclass
 from pathlib import Path
@@ -20,6 +20,7 @@ from memcheck._atomic import write_text_atomic
 from memcheck.contract import Contract, unchecked_behaviours
 from memcheck.errors import MemcheckError, SimulationError, SimulationStalled, UsageError
 from memcheck.mutation.explain import survivor_reason
+from memcheck.mutation.operators import Mutant
 from memcheck.mutation.plan import MutationPlan, plan_mutants, source_diff
 from memcheck.mutation.results import MutantOutcome, MutantStatus, MutationReport
 from memcheck.sim.checking.support import require_simulator_support
@@ -146,6 +147,7 @@ def mutate_contract(
     options: SimOptions | None = None,
     out_dir: str | Path | None = None,
     on_outcome: OutcomeCallback | None = None,
+    given: Sequence[Mutant] | None = None,
 ) -> MutationReport:
     """Measure the check's strength on the contract's own wrapper RTL with ``mutants`` source mutants.
 
@@ -161,6 +163,8 @@ def mutate_contract(
         Worker processes, each checking one mutant at a time.
     options:
         The check's budget (``examples``, ``bulk_examples``, ``phases``, ``stall_timeout`` ...).
+    given:
+        Hand-made mutants (:meth:`Mutant.from_edit`) to run instead of a sample of the candidates.
     out_dir:
         Scratch folder for the mutated sources, builds and check outputs (default
         ``memcheck-out/<name>/mutate``).
@@ -182,7 +186,7 @@ def mutate_contract(
     c, path = resolve_contract(contract)
     require_simulator_support(c)
     seed = fresh_seed() if seed is None else seed
-    plan = plan_mutants(c, mutants, seed)
+    plan = plan_mutants(c, mutants, seed, given)
     out = Path(out_dir) if out_dir is not None else default_out_dir(c, path) / "mutate"
     base = (options or SimOptions()).replace(seed=seed, waveform=False, build_dir=out / "build")
     results: dict[str, _Done] = {}
