@@ -144,3 +144,36 @@ def test_report_counts_rates_json_and_text() -> None:
     text = render_mutation_report(rep)
     assert "-        spare <= d ^ 8'h0f;" in text and "+        spare <= d ^ 8'h0e;" in text
     assert "kill rate 50.0% (66.7% of the non-equivalent)" in text and "not sign-off" in text
+
+
+def test_the_pure_mutation_package_imports_no_simulator() -> None:
+    import subprocess
+    import sys
+
+    code = (
+        "import sys, memcheck.mutation\n"
+        "bad = [m for m in sys.modules if m.split('.')[0] in ('cocotb', 'cocotb_tools')\n"
+        "       or m.startswith('memcheck.sim')]\n"
+        "print(bad)\n"
+    )
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert out.stdout.strip() == "[]"
+
+
+def test_given_mutants_are_matched_to_the_contract_files_by_path(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    path = _copy(tmp_path, "regfile")
+    c = load_contract(path)
+    text = (path.parent / "regfile_wrap.v").read_text()
+    monkeypatch.chdir(tmp_path)
+    m = Mutant.from_edit(
+        Path("regfile/regfile_wrap.v"), text, "wr_addr == rd_addr", "wr_addr != rd_addr", Operator.SWAP, "hand-made"
+    )
+    plan = plan_mutants(c, 1, seed=0, given=[m])
+    assert [k for k, _ in plan.chosen] == ["H000"] and plan.chosen[0][1].file == c.rtl.sources[0]  # type: ignore[union-attr]
+    other = Mutant.from_edit(
+        path.parent / "sram_2p.v", (path.parent / "sram_2p.v").read_text(), "endmodule", "endmodule", Operator.SWAP, ""
+    )
+    with pytest.raises(UsageError, match="allowed: mutants of the mutation files"):
+        plan_mutants(c, 1, seed=0, given=[other])

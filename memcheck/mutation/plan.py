@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import dataclasses
 import difflib
 from collections.abc import Sequence
 from dataclasses import dataclass
@@ -91,12 +92,17 @@ def plan_mutants(contract: Contract, mutants: int, seed: int, given: Sequence[Mu
 def _given_plan(files: tuple[Path, ...], texts: dict[Path, str], given: Sequence[Mutant]) -> MutationPlan:
     if not given:
         raise UsageError("no mutants given; allowed: at least one hand-made mutant.")
+    by_path = {f.resolve(): f for f in files}
+    fitted = []
     for m in given:
-        if m.file not in texts:
-            allowed = ", ".join(str(f) for f in files)
+        f = by_path.get(m.file.resolve())
+        if f is None:
+            allowed = ", ".join(str(x) for x in files)
             raise UsageError(f"mutant of {m.file}: allowed: mutants of the mutation files ({allowed}).")
-        m.apply(texts[m.file])  # raises when the mutant does not fit the file
-    return MutationPlan(files, texts, tuple(given), tuple((f"H{k:03d}", m) for k, m in enumerate(given)))
+        m = dataclasses.replace(m, file=f)
+        m.apply(texts[f])  # raises when the mutant does not fit the file
+        fitted.append(m)
+    return MutationPlan(files, texts, tuple(fitted), tuple((f"H{k:03d}", m) for k, m in enumerate(fitted)))
 
 
 def source_diff(mutant: Mutant, text: str, ident: str) -> str:
