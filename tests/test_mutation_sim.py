@@ -3,7 +3,8 @@
 The tag store (tag_store/tag_wrap.v) keeps 22-bit tags in a 24-bit macro: bits 23:22 of every word
 are written from a constant and never read (``rdata = q[21:0]``), so flipping a bit of that constant
 is an equivalent mutant and must survive; swapping the two 11-bit halves of the write data is a lane
-swap every partial or full write shows, and must be killed; a lost brace must not compile.
+swap every partial or full write shows, and must be killed; a lost brace must not compile;
+a zero-delay loop on the first write hangs the simulator, which the stall watchdog stops (killed).
 """
 
 from __future__ import annotations
@@ -23,7 +24,9 @@ from memcheck.sim import SimOptions
 
 pytestmark = pytest.mark.icarus
 
-SMALL = SimOptions(examples=20, bulk_examples=2)
+SMALL = SimOptions(examples=20, bulk_examples=2, stall_timeout=10.0)
+#: A zero-delay loop that never yields once a write starts: the simulator hangs.
+_HANG = "reg osc;\n    always @(negedge wen) while (1) osc = ~osc;\n    "
 
 
 def _tag_store(tmp_path: Path) -> Path:
@@ -47,11 +50,18 @@ def test_hand_made_mutants_have_their_known_outcomes(tmp_path: Path) -> None:
             wrap, text, "{2'b00, wdata}", "{2'b00, wdata[10:0], wdata[21:11]}", Operator.INDEX, "data halves swapped"
         ),
         Mutant.from_edit(wrap, text, "{2'b11, bwen}", "{2'b11, bwen", Operator.SWAP, "a brace lost"),
+        Mutant.from_edit(wrap, text, "assign rdata", _HANG + "assign rdata", Operator.ARM, "a loop on the first write"),
     ]
     rep = mutate_contract(contract, seed=3, workers=2, options=SMALL, out_dir=tmp_path / "scratch", given=given)
     status = {o.ident: o.status for o in rep.outcomes}
-    assert status == {"H000": MutantStatus.SURVIVED, "H001": MutantStatus.KILLED, "H002": MutantStatus.NOT_COMPILED}
-    assert (rep.killed, rep.survived, rep.not_compiled, rep.kill_rate) == (1, 1, 1, 0.5)
+    assert status == {
+        "H000": MutantStatus.SURVIVED,
+        "H001": MutantStatus.KILLED,
+        "H002": MutantStatus.NOT_COMPILED,
+        "H003": MutantStatus.KILLED,
+    }
+    assert rep.outcomes[3].how == "hang"
+    assert (rep.killed, rep.survived, rep.not_compiled, rep.kill_rate) == (2, 1, 1, 2 / 3)
     killed = rep.outcomes[1]
     assert killed.cycles is not None and killed.how in ("smoke", "sweep", "property")
     survivor = rep.outcomes[0]

@@ -1,8 +1,9 @@
 """``memcheck mutate``: the check's strength on the user's own wrapper, measured with source mutants.
 
 Each sampled mutant (:mod:`memcheck.mutation`) is written to a scratch folder (never over the
-user's sources), compiled and checked with the normal check (:func:`check_contract`, same seed and
-budget for every mutant) in worker processes, each with its own output folder. The unmutated
+user's sources), compiled and checked with the normal check (the job of ``check_contract``, same
+seed and budget for every mutant, without the replay of a failure) in worker processes, each with
+its own output folder. The unmutated
 wrapper is checked too, alongside: when it fails, the measure means nothing and the run stops.
 """
 
@@ -24,8 +25,9 @@ from memcheck.mutation.operators import Mutant
 from memcheck.mutation.plan import MutationPlan, plan_mutants, source_diff
 from memcheck.mutation.results import MutantOutcome, MutantStatus, MutationReport
 from memcheck.sim.checking.support import require_simulator_support
+from memcheck.sim.jobs.check import _validate as validate_options
 from memcheck.sim.options import SimOptions
-from memcheck.sim.session import default_out_dir, fresh_seed, resolve_contract
+from memcheck.sim.session import Session, default_out_dir, fresh_seed, resolve_contract
 
 #: Called with each mutant's outcome as it arrives (progress output).
 OutcomeCallback = Callable[[MutantOutcome], None]
@@ -53,27 +55,26 @@ def _first_line(text: str) -> str:
 
 
 def _run_task(task: _Task) -> _Done:
-    """Compile and check one contract (a worker process's job)."""
-    from memcheck.sim.jobs.check import check_contract
-    from memcheck.sim.plumbing.build import build
-
+    """Compile and check one contract (a worker process's job): the check of ``check_contract``
+    without the replay of a failure, which a mutant does not need."""
     t0 = time.perf_counter()
-    assert task.options.build_dir is not None
+    s = Session.open(task.contract, task.options)
     try:
-        build(task.contract, task.options.build_dir)
+        s.compile()
     except SimulationError as exc:
         return _Done(task.ident, MutantStatus.NOT_COMPILED, _first_line(str(exc)), None, time.perf_counter() - t0)
+    unconnected = s.build.pins.unconnected_inputs if s.build is not None else ()
     try:
-        res = check_contract(task.contract, task.options)
+        res = s.launch({"mode": "check"}, "run")
     except SimulationStalled:
         return _Done(task.ident, MutantStatus.KILLED, "hang", None, time.perf_counter() - t0)
     except MemcheckError as exc:
         return _Done(task.ident, MutantStatus.KILLED, f"error: {_first_line(str(exc))}", None, time.perf_counter() - t0)
     seconds = time.perf_counter() - t0
     if res.failure is None:
-        return _Done(task.ident, MutantStatus.SURVIVED, "", None, seconds, res.unconnected_inputs)
+        return _Done(task.ident, MutantStatus.SURVIVED, "", None, seconds, unconnected)
     cycles = len(res.failure.trace.cycles)
-    return _Done(task.ident, MutantStatus.KILLED, res.failure.phase, cycles, seconds, res.unconnected_inputs)
+    return _Done(task.ident, MutantStatus.KILLED, res.failure.phase, cycles, seconds, unconnected)
 
 
 def _mutant_contract(c: Contract, plan: MutationPlan, ident: str, folder: Path) -> Contract:
@@ -189,6 +190,7 @@ def mutate_contract(
     plan = plan_mutants(c, mutants, seed, given)
     out = Path(out_dir) if out_dir is not None else default_out_dir(c, path) / "mutate"
     base = (options or SimOptions()).replace(seed=seed, waveform=False, build_dir=out / "build")
+    validate_options(c, base)
     results: dict[str, _Done] = {}
 
     def on_done(done: _Done) -> None:
