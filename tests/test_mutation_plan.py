@@ -177,3 +177,12 @@ def test_given_mutants_are_matched_to_the_contract_files_by_path(
     )
     with pytest.raises(UsageError, match="allowed: mutants of the mutation files"):
         plan_mutants(c, 1, seed=0, given=[other])
+
+
+def test_reason_names_bits_the_file_never_reads() -> None:
+    # tag_store keeps 22-bit tags in a 24-bit macro: rdata = q[21:0], and q is driven by the instance.
+    text = (examples_dir() / "tag_store" / "tag_wrap.v").read_text()
+    m = next(m for m in find_mutants(text) if m.original == "2'b00")
+    r = survivor_reason(m, text)
+    assert not r.equivalent
+    assert "only bits 21:0 of 'q' (declared [23:0])" in r.text

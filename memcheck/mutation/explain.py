@@ -104,6 +104,88 @@ def _unread(tokens: list[Token], names: Sequence[str]) -> list[str]:
     return [n for n in names if n not in read and n not in outputs]
 
 
+def _declared_ranges(tokens: list[Token]) -> dict[str, tuple[int, int]]:
+    """``wire [23:0] q, r;`` -> {"q": (23, 0), "r": (23, 0)} for numeric ranges."""
+    out: dict[str, tuple[int, int]] = {}
+    for i, t in enumerate(tokens[:-6]):
+        texts = [x.text for x in tokens[i + 1 : i + 6]]
+        if t.text not in _DECLARE or texts[0] != "[" or texts[2] != ":" or texts[4] != "]":
+            continue
+        if not (texts[1].isdigit() and texts[3].isdigit()):
+            continue
+        hi, lo = int(texts[1]), int(texts[3])
+        j = i + 6
+        while j < len(tokens) and tokens[j].kind == Kind.NAME:
+            out[tokens[j].text] = (hi, lo)
+            j += 2 if j + 1 < len(tokens) and tokens[j + 1].text == "," else len(tokens)
+    return out
+
+
+def _bits_read(tokens: list[Token], k: int, hi: int, lo: int) -> set[int]:
+    """Bits of the name at ``k`` that this occurrence reads (a constant select, or all of them)."""
+    sel = [x.text for x in tokens[k + 1 : k + 6]]
+    if len(sel) >= 5 and sel[0] == "[" and sel[2] == ":" and sel[4] == "]" and sel[1].isdigit() and sel[3].isdigit():
+        return set(range(int(sel[3]), int(sel[1]) + 1))
+    if len(sel) >= 3 and sel[0] == "[" and sel[2] == "]" and sel[1].isdigit():
+        return {int(sel[1])}
+    return set(range(lo, hi + 1))
+
+
+def _ranges(bits: set[int]) -> str:
+    out: list[str] = []
+    for b in sorted(bits, reverse=True):
+        if out and int(out[-1].split(":")[-1]) == b + 1:
+            out[-1] = f"{out[-1].split(':')[0]}:{b}"
+        else:
+            out.append(str(b))
+    return ", ".join(out)
+
+
+def _whole_connection(tokens: list[Token], k: int) -> bool:
+    """True for ``.PIN(name)``: the name at ``k`` connected whole to an instance pin."""
+    if k < 3 or k + 1 >= len(tokens):
+        return False
+    dot, pin, paren, close = tokens[k - 3], tokens[k - 2], tokens[k - 1], tokens[k + 1]
+    return dot.text == "." and pin.kind == Kind.NAME and paren.text == "(" and close.text == ")"
+
+
+def partially_read(tokens: list[Token]) -> dict[str, tuple[tuple[int, int], set[int]]]:
+    """Signals of which the file reads only some bits: name -> ((hi, lo) declared, bits read)."""
+    declared = _declared_ranges(tokens)
+    frozen = frozen_tokens(tokens)
+    lhs = _lhs_positions(tokens)
+    assigned = {tokens[k].text for k in lhs}
+    skip = lhs | _declared_positions(tokens)
+    read: dict[str, set[int]] = {}
+    for k, t in enumerate(tokens):
+        if t.text not in assigned and _whole_connection(tokens, k):
+            continue  # never assigned here, so an instance drives it through this connection
+        if t.text in declared and not frozen[k] and k not in skip:
+            hi, lo = declared[t.text]
+            read.setdefault(t.text, set()).update(_bits_read(tokens, k, hi, lo))
+    return {
+        n: (declared[n], bits) for n, bits in read.items() if bits and len(bits) < declared[n][0] - declared[n][1] + 1
+    }
+
+
+def _statement_tokens(tokens: list[Token], mutant: Mutant) -> list[Token]:
+    at = next((k for k, t in enumerate(tokens) if t.end > mutant.start), len(tokens) - 1)
+    lo = next((k + 1 for k in range(at - 1, -1, -1) if tokens[k].text == ";"), 0)
+    hi = next((k for k in range(at, len(tokens)) if tokens[k].text == ";"), len(tokens) - 1)
+    return tokens[lo : hi + 1]
+
+
+def _partial_hint(tokens: list[Token], mutant: Mutant) -> str:
+    partial = partially_read(tokens)
+    names = sorted({t.text for t in _statement_tokens(tokens, mutant) if t.text in partial})
+    parts = [
+        f"only bits {_ranges(partial[n][1])} of '{n}' (declared [{partial[n][0][0]}:{partial[n][0][1]}])" for n in names
+    ]
+    return (
+        f" The file reads {'; '.join(parts)}: a change that reaches only the other bits is equivalent." if parts else ""
+    )
+
+
 def survivor_reason(
     mutant: Mutant,
     text: str,
@@ -136,8 +218,8 @@ def survivor_reason(
         False,
         f"no stimulus of the check showed a difference. It is equivalent only if the change reaches no bit an "
         f"output reads{hint}; otherwise it is a hole in the check: add examples or a directed test "
-        f"that exercises line {mutant.line}.",
+        f"that exercises line {mutant.line}.{_partial_hint(tokens, mutant)}",
     )
 
 
-__all__ = ["Reason", "survivor_reason"]
+__all__ = ["Reason", "partially_read", "survivor_reason"]
