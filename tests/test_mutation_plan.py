@@ -65,9 +65,12 @@ def test_mutate_cli_bad_input_exits_2_with_one_sentence(tmp_path: Path, capsys: 
     assert main(["mutate", str(path), "--workers", "0", "--seed", "1"]) == 2
     assert "--workers 0" in capsys.readouterr().err
     _set_rtl_key(path, 'mutate = ["nope.v"]')
-    assert main(["mutate", str(path), "--seed", "1"]) == 2
+    report = tmp_path / "err.json"
+    assert main(["mutate", str(path), "--seed", "1", "--json", str(report)]) == 2
     err = capsys.readouterr().err
     assert "not among [rtl] sources" in err and "Traceback" not in err
+    doc = json.loads(report.read_text())
+    assert "not among [rtl] sources" in doc["error"] and doc["seed"] == 1
 
 
 def test_no_operator_found_exits_2(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:

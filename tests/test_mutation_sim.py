@@ -75,6 +75,7 @@ def test_cli_samples_mutants_and_writes_json(tmp_path: Path, capsys: pytest.Capt
     contract = _tag_store(tmp_path)
     report = tmp_path / "mutate.json"
     argv = ["mutate", str(contract), "--mutants", "1", "--seed", "11", "--examples", "20", "--bulk-examples", "2"]
+    argv += ["--workers", "1"]  # in this process
     rc = main([*argv, "--json", str(report), "--out", str(tmp_path / "scratch"), "-q"])
     out = capsys.readouterr().out
     assert rc == 0 and out.splitlines()[0].endswith("seed 11, 1 mutants, 2 worker(s)")

@@ -13,6 +13,7 @@ import click
 from memcheck.cli import EXIT_FAIL, EXIT_OK, cli
 from memcheck.cli._options import resolve_seed, seed_option
 from memcheck.cli._sim_options import DEFAULTS
+from memcheck.errors import MemcheckError
 from memcheck.sim.options import SimOptions
 
 
@@ -85,20 +86,26 @@ def mutate(
     """
     from memcheck._atomic import write_text_atomic
     from memcheck.mutation import mutate_contract
+    from memcheck.report import error_dict, write_json
     from memcheck.report.mutation_report import render_mutation_report, render_outcome
 
     seed = resolve_seed(seed)
     click.echo(f"memcheck mutate {contract_file}: seed {seed}, {mutants} mutants, {workers} worker(s)")
     opts = SimOptions(examples=examples, bulk_examples=bulk_examples, stall_timeout=stall_timeout)
-    report = mutate_contract(
-        contract_file,
-        mutants=mutants,
-        seed=seed,
-        workers=workers,
-        options=opts,
-        out_dir=out_dir,
-        on_outcome=None if quiet else lambda o: click.echo(render_outcome(o)),
-    )
+    try:
+        report = mutate_contract(
+            contract_file,
+            mutants=mutants,
+            seed=seed,
+            workers=workers,
+            options=opts,
+            out_dir=out_dir,
+            on_outcome=None if quiet else lambda o: click.echo(render_outcome(o)),
+        )
+    except MemcheckError as exc:
+        if json_file:
+            write_json(json_file, error_dict(contract_file, str(exc), seed, job="mutate"))
+        raise
     if json_file:
         write_text_atomic(json_file, json.dumps(report.to_json(), indent=2) + "\n")
     click.echo(report.summary() if quiet else "\n" + render_mutation_report(report))

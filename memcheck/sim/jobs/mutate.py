@@ -127,6 +127,11 @@ def _baseline_failed(done: _Done) -> UsageError:
 
 
 def _run_all(tasks: list[_Task], workers: int, on_done: Callable[[_Done], None]) -> None:
+    """Run ``tasks`` in ``workers`` processes (one: in this process, one after the other)."""
+    if workers == 1:
+        for t in tasks:
+            on_done(_run_task(t))
+        return
     ctx = multiprocessing.get_context("spawn")
     with ProcessPoolExecutor(max_workers=workers, mp_context=ctx) as pool:
         futures: list[Future[_Done]] = [pool.submit(_run_task, t) for t in tasks]
@@ -161,7 +166,7 @@ def mutate_contract(
         How many mutants to draw among all candidates, and the seed of that draw and of every check
         (None: a fresh seed, recorded in the report).
     workers:
-        Worker processes, each checking one mutant at a time.
+        Worker processes, each checking one mutant at a time (1: in this process).
     options:
         The check's budget (``examples``, ``bulk_examples``, ``phases``, ``stall_timeout`` ...).
     given:
