@@ -78,7 +78,7 @@ def test_cli_samples_mutants_and_writes_json(tmp_path: Path, capsys: pytest.Capt
     argv += ["--workers", "1"]  # in this process
     rc = main([*argv, "--json", str(report), "--out", str(tmp_path / "scratch"), "-q"])
     out = capsys.readouterr().out
-    assert rc == 0 and out.splitlines()[0].endswith("seed 11, 1 mutants, 2 worker(s)")
+    assert rc == 0 and out.splitlines()[0].endswith("seed 11, 1 mutants, 1 worker(s)")
     doc = json.loads(report.read_text())
     assert doc["seed"] == 11 and doc["mutants"] == 1 and doc["candidates"] == 6
     assert doc["killed"] + doc["survived"] + doc["not_compiled"] == 1
