@@ -13,7 +13,9 @@ from memcheck.mutation.tokens import Token, matching, semicolon_at
 #: Declarations whose whole statement is left alone (widths and elaboration constants).
 _WHOLE = frozenset({"parameter", "localparam", "defparam", "genvar", "integer", "real", "time", "specparam"})
 #: Declarations whose ranges (before any ``=``) are left alone; an initialiser may be mutated.
-_RANGED = frozenset({"input", "output", "inout", "wire", "reg", "logic", "tri", "supply0", "supply1", "signed"})
+_RANGED = frozenset(
+    {"input", "output", "inout", "wire", "reg", "logic", "tri", "supply0", "supply1", "signed", "function"}
+)
 
 
 def _statement_stop(tokens: list[Token], i: int) -> int:
