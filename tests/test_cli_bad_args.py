@@ -17,6 +17,7 @@ from memcheck.cli import main
 from memcheck.examples import examples_dir
 
 REGFILE = str(examples_dir() / "regfile" / "contract.toml")
+REGFILE_V = str(examples_dir() / "regfile" / "regfile_wrap.v")
 W8 = ("--words", "8", "--width", "8")
 
 BAD_ARGS: list[tuple[tuple[str, ...], tuple[str, ...]]] = [
@@ -57,6 +58,10 @@ BAD_ARGS: list[tuple[tuple[str, ...], tuple[str, ...]]] = [
     # contract
     (("contract", "validate", "missing.toml"), ("missing.toml", "cannot read")),
     (("contract", "validate"), ("missing argument",)),
+    (("contract", "draft", REGFILE_V), ("--top",)),
+    (("contract", "draft", "--top", "regfile_wrap"), ("missing argument",)),
+    (("contract", "draft", "missing.v", "--top", "x"), ("missing.v", "does not exist")),
+    (("contract", "draft", REGFILE_V, "--top", "regfile_wrap", "-o", REGFILE), ("already exists", "--force")),
     # simulator commands, refused before any simulation
     (("check", "missing.toml"), ("missing.toml", "cannot read")),
     (("check", REGFILE, "--phases", "smoke,bogus"), ("--phases", "bogus")),
@@ -114,6 +119,7 @@ sys.exit(main(sys.argv[1:]))
         ("replay", "missing.json"),
         ("march", "run", REGFILE, "MATS+"),
         ("demo", "--examples", "1", "--bulk-examples", "0"),
+        ("contract", "draft", REGFILE_V, "--top", "regfile_wrap"),
     ],
 )
 def test_simulator_commands_without_the_sim_extra_name_it(argv: tuple[str, ...], tmp_path: Path) -> None:

@@ -75,6 +75,7 @@ def _register_commands() -> None:
         "bist_cmds",
         "campaign_cmds",
         "diagnose_cmds",
+        "draft_cmds",
         "mutate_cmds",
     ):
         try:
