@@ -189,3 +189,13 @@ def test_reason_names_bits_the_file_never_reads() -> None:
     r = survivor_reason(m, text)
     assert not r.equivalent
     assert "only bits 21:0 of 'q' (declared [23:0])" in r.text
+
+
+def test_only_picks_candidates_by_id_and_refuses_unknown_ones(tmp_path: Path) -> None:
+    c = load_contract(_copy(tmp_path, "regfile"))
+    every = dict(plan_mutants(c, 1000, seed=0).chosen)
+    plan = plan_mutants(c, 1, seed=0, only=("M005", "m002"))
+    assert [k for k, _ in plan.chosen] == ["M002", "M005"]
+    assert [m for _, m in plan.chosen] == [every["M002"], every["M005"]]
+    with pytest.raises(UsageError, match=r"--only M999: no such mutant; allowed: M000 to M0\d\d"):
+        plan_mutants(c, 1, seed=0, only=("M999",))

@@ -77,7 +77,7 @@ def test_cli_samples_mutants_and_writes_json(tmp_path: Path, capsys: pytest.Capt
     argv = ["mutate", str(contract), "--mutants", "1", "--seed", "11", "--examples", "20", "--bulk-examples", "2"]
     argv += ["--workers", "1"]  # in this process
     argv += ["--fail-under", "50"]
-    rc = main([*argv, "--json", str(report), "--out", str(tmp_path / "scratch"), "-q"])
+    rc = main([*argv, "--json", str(report), "--out", str(tmp_path / "scratch")])
     out = capsys.readouterr().out
     assert out.splitlines()[0].endswith("seed 11, 1 mutants, 1 worker(s)")
     doc = json.loads(report.read_text())
@@ -86,3 +86,5 @@ def test_cli_samples_mutants_and_writes_json(tmp_path: Path, capsys: pytest.Capt
     assert [o["id"] for o in doc["outcomes"]] == ["M003"] and doc["survived"] == 1
     assert doc["outcomes"][0]["reason"]["label"] == "possible hole"
     assert rc == 1 and "below --fail-under 50%" in out
+    assert "M003 survived (possible hole):" in out and "+        .BWEB({2'b10, bwen})," in out
+    assert "--seed 11 --examples 20 --bulk-examples 2 --only M003" in out

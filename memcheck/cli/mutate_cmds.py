@@ -62,6 +62,12 @@ from memcheck.sim.options import SimOptions
     default=None,
     help="Exit 1 when the kill rate of non-equivalent mutants is below this percentage.",
 )
+@click.option(
+    "--only",
+    "only",
+    multiple=True,
+    help="Run just this mutant id of an earlier run (M007; repeatable), with the same seed to repeat its check.",
+)
 @click.option("--quiet", "-q", is_flag=True, help="Print only the summary.")
 def mutate(
     contract_file: str,
@@ -74,6 +80,7 @@ def mutate(
     bulk_examples: int,
     stall_timeout: float,
     fail_under: float | None,
+    only: tuple[str, ...],
     quiet: bool,
 ) -> int:
     """Measure how strong the check is on the wrapper RTL of CONTRACT_FILE.
@@ -101,6 +108,7 @@ def mutate(
             options=opts,
             out_dir=out_dir,
             on_outcome=None if quiet else lambda o: click.echo(render_outcome(o)),
+            only=only,
         )
     except MemcheckError as exc:
         if json_file:
@@ -109,6 +117,14 @@ def mutate(
     if json_file:
         write_text_atomic(json_file, json.dumps(report.to_json(), indent=2) + "\n")
     click.echo(report.summary() if quiet else "\n" + render_mutation_report(report))
+    if not quiet and report.outcomes:
+        budget = (
+            ""
+            if (examples, bulk_examples) == (DEFAULTS.examples, DEFAULTS.bulk_examples)
+            else (f" --examples {examples} --bulk-examples {bulk_examples}")
+        )
+        ident = report.outcomes[0].ident
+        click.echo(f"one mutant again: memcheck mutate {contract_file} --seed {seed}{budget} --only {ident}")
     rate = report.kill_rate_non_equivalent
     if fail_under is not None and rate is not None and 100 * rate < fail_under:
         click.echo(f"kill rate {100 * rate:.1f}% of the non-equivalent mutants is below --fail-under {fail_under:g}%")

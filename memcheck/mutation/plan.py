@@ -63,14 +63,21 @@ def mutation_files(contract: Contract) -> tuple[Path, ...]:
     )
 
 
-def plan_mutants(contract: Contract, mutants: int, seed: int, given: Sequence[Mutant] | None = None) -> MutationPlan:
+def plan_mutants(
+    contract: Contract,
+    mutants: int,
+    seed: int,
+    given: Sequence[Mutant] | None = None,
+    only: Sequence[str] = (),
+) -> MutationPlan:
     """Every candidate mutant of the contract's mutation files and ``mutants`` of them drawn with ``seed``;
-    with ``given`` (hand-made mutants of those files), exactly those, named ``H000``, ``H001``...
+    with ``only`` (ids such as ``M007``), exactly those candidates; with ``given`` (hand-made mutants of
+    those files), exactly those, named ``H000``, ``H001``...
 
     Raises
     ------
     UsageError
-        ``mutants`` below 1, or no operator applies anywhere in the files.
+        ``mutants`` below 1, an unknown id in ``only``, or no operator applies anywhere in the files.
     """
     if mutants < 1:
         raise UsageError(f"--mutants {mutants}: allowed: 1 or more mutants.")
@@ -85,8 +92,22 @@ def plan_mutants(contract: Contract, mutants: int, seed: int, given: Sequence[Mu
             f"no mutation operator applies to {names} (no operators, conditions, sized constants, selects or "
             "arms to change); name other wrapper files with [rtl] mutate = [...]."
         )
+    if only:
+        return MutationPlan(files, texts, candidates, _only(candidates, only))
     chosen = tuple((f"M{k:03d}", m) for k, m in sample_mutants(candidates, mutants, seed))
     return MutationPlan(files, texts, candidates, chosen)
+
+
+def _only(candidates: tuple[Mutant, ...], ids: Sequence[str]) -> tuple[tuple[str, Mutant], ...]:
+    ids_ok = {f"M{k:03d}": k for k in range(len(candidates))}
+    bad = [i for i in ids if i.upper() not in ids_ok]
+    if bad:
+        raise UsageError(
+            f"--only {', '.join(bad)}: no such mutant; allowed: M000 to M{len(candidates) - 1:03d} "
+            f"(the ids of the {len(candidates)} candidates)."
+        )
+    picked = sorted({ids_ok[i.upper()] for i in ids})
+    return tuple((f"M{k:03d}", candidates[k]) for k in picked)
 
 
 def _given_plan(files: tuple[Path, ...], texts: dict[Path, str], given: Sequence[Mutant]) -> MutationPlan:

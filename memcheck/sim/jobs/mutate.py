@@ -154,6 +154,7 @@ def mutate_contract(
     out_dir: str | Path | None = None,
     on_outcome: OutcomeCallback | None = None,
     given: Sequence[Mutant] | None = None,
+    only: Sequence[str] = (),
 ) -> MutationReport:
     """Measure the check's strength on the contract's own wrapper RTL with ``mutants`` source mutants.
 
@@ -169,6 +170,8 @@ def mutate_contract(
         Worker processes, each checking one mutant at a time (1: in this process).
     options:
         The check's budget (``examples``, ``bulk_examples``, ``phases``, ``stall_timeout`` ...).
+    only:
+        Mutant ids (``M007``) to run instead of a sample: one mutant of an earlier run again.
     given:
         Hand-made mutants (:meth:`Mutant.from_edit`) to run instead of a sample of the candidates.
     out_dir:
@@ -192,7 +195,7 @@ def mutate_contract(
     c, path = resolve_contract(contract)
     require_simulator_support(c)
     seed = fresh_seed() if seed is None else seed
-    plan = plan_mutants(c, mutants, seed, given)
+    plan = plan_mutants(c, mutants, seed, given, only)
     out = Path(out_dir) if out_dir is not None else default_out_dir(c, path) / "mutate"
     base = (options or SimOptions()).replace(seed=seed, waveform=False, build_dir=out / "build")
     validate_options(c, base)
