@@ -2,7 +2,7 @@
 
 ``MemcheckError`` > ``ContractError``, ``InvalidOperation``, ``NotationError`` (March notation
 only), ``UsageError`` (bad argument or option values), ``BudgetError`` (size and time limits),
-``UnknownAlgorithm``, ``FaultModelError``, ``SimulationError``, ``ReplayError``.
+``UnknownAlgorithm``, ``FaultModelError``, ``SimulationError`` (> ``SimulationStalled``), ``ReplayError``.
 
 Errors are raised where the cause is known (file, key, position) and rendered once,
 by the CLI, as a single paragraph with exit code 2.
