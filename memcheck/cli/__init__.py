@@ -76,6 +76,7 @@ def _register_commands() -> None:
         "campaign_cmds",
         "diagnose_cmds",
         "draft_cmds",
+        "mutate_cmds",
     ):
         try:
             __import__(f"memcheck.cli.{optional}")

@@ -18,7 +18,7 @@ from pathlib import Path
 from typing import Any
 
 from memcheck.contract import Contract
-from memcheck.errors import SimulationError
+from memcheck.errors import SimulationError, SimulationStalled
 from memcheck.sim.checking.outcome import RunResult
 from memcheck.sim.options import SimOptions
 from memcheck.sim.plumbing.build import Build
@@ -134,7 +134,7 @@ def run_job(
             log_file=log,
         )
     except Stalled as exc:
-        raise SimulationError(
+        raise SimulationStalled(
             f"the simulation stopped making progress (nothing for {exc.seconds:g} s) {_where(exc.last)}; "
             "the RTL may contain a zero-delay loop or wait for something that never happens. "
             f"The simulator was stopped; its log is {log}."
