@@ -250,7 +250,7 @@ class ContractItem(pytest.Item):
 
         s = self._settings()
         out = path_folder(self.path, self.config.rootpath, s.out_base)
-        result = check_contract(self.path, s.options(out))
+        result = check_contract(_as_given(self.path), s.options(out))
         self.result = result
         if result.out_dir is not None:
             write_reports(result, json_file=result.out_dir / "report.json", text_file=result.out_dir / "report.txt")
@@ -275,6 +275,14 @@ class ContractItem(pytest.Item):
 
     def reportinfo(self) -> tuple[Path, int | None, str]:
         return self.path, None, f"memcheck contract {self.nodeid}"
+
+
+def _as_given(path: Path) -> Path:
+    """``path`` relative to the working folder when it lies below it (reports and headlines read better)."""
+    try:
+        return path.resolve().relative_to(Path.cwd().resolve())
+    except ValueError:
+        return path
 
 
 def _folder_name(nodeid: str) -> str:
