@@ -206,7 +206,9 @@ def pytest_collection_modifyitems(session: pytest.Session, config: pytest.Config
     for path in s.contracts:
         if path not in seen:
             seen.add(path)
-            items.extend(session.genitems(ContractFile.from_parent(session, path=path)))
+            inside = path.is_relative_to(config.rootpath.resolve())
+            node = ContractFile.from_parent(session, path=path, nodeid=None if inside else str(path))
+            items.extend(session.genitems(node))
 
 
 class ContractFile(pytest.File):

@@ -140,3 +140,18 @@ def test_under_xdist_each_item_has_its_own_folder_and_the_controller_seed(pytest
     assert not (root / "memcheck-out" / "rtl" / GOOD / "replay.json").exists()
     suite = ET.parse(root / "junit.xml").getroot()[0]
     assert (suite.get("tests"), suite.get("failures")) == ("3", "1")
+
+
+def test_which_run_includes_the_contracts(pytester: pytest.Pytester) -> None:
+    _project(pytester, broken=True)
+    # a plain run adds contracts outside testpaths; explicit paths leave them to pytest's own walk
+    plain = pytester.runpytest("-p", "no:cacheprovider", "--collect-only", "-q")
+    plain.stdout.fnmatch_lines(["tests/test_plain.py::test_plain", "rtl/broken/contract.toml::check"])
+    only_tests = pytester.runpytest("-p", "no:cacheprovider", "--collect-only", "-q", "tests")
+    assert "contract.toml" not in only_tests.stdout.str()
+    walked = pytester.runpytest("-p", "no:cacheprovider", "--collect-only", "-q", "rtl")
+    walked.stdout.fnmatch_lines(["rtl/broken/contract.toml::check", "1 test collected*"])
+    # --memcheck-contracts always adds its files; one outside the project is named by its absolute path
+    outside = str(examples_dir() / "regfile" / "contract.toml")
+    cli = pytester.runpytest("-p", "no:cacheprovider", "--collect-only", "-q", "tests", "--memcheck-contracts", outside)
+    cli.stdout.fnmatch_lines(["tests/test_plain.py::test_plain", f"{outside}::check", "2 tests collected*"])
