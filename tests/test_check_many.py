@@ -11,6 +11,7 @@ import pytest
 
 from memcheck._outdirs import contract_name, distinct_out_dirs, path_folder
 from memcheck.cli import main
+from memcheck.errors import MemcheckError
 from memcheck.examples import examples_dir
 from memcheck.report.many import ContractOutcome, many_junit_xml, worst_verdict
 
@@ -120,3 +121,24 @@ def test_all_conforming_exit_0_and_one_contract_keeps_the_single_output(
     assert rc == 0
     assert out.startswith(f"memcheck check {REGFILE}: seed 4, 5 examples, 0 bulk examples")
     assert "trace (cycles)" not in out and "conform," not in out
+
+
+def test_an_unexpected_error_in_one_contract_does_not_hide_the_others(
+    tmp_path: Path, monkeypatch: pytest.MonkeyPatch, capsys: pytest.CaptureFixture[str]
+) -> None:
+    # Fault injection: the check itself breaks (a bug of ours) for one contract only.
+    import memcheck.sim.jobs.check as job
+
+    def broken(contract: str, *args: object, **kwargs: object) -> object:
+        if "regfile" in str(contract):
+            raise RuntimeError("injected")
+        raise MemcheckError(f"{contract}: injected bad input")
+
+    monkeypatch.setattr(job, "check_contract", broken)
+    monkeypatch.chdir(tmp_path)
+    rc = main(["check", REGFILE, GOOD, "-j", "1", "--json", "r.json", *CHEAP])
+    out = capsys.readouterr().out
+    assert rc == 2
+    assert "internal error (RuntimeError: injected)" in out and "injected bad input" in out
+    report = json.loads((tmp_path / "r.json").read_text())
+    assert [c["verdict"] for c in report["contracts"]] == ["error", "error"]

@@ -87,8 +87,12 @@ def _run(contracts: Sequence[str], plans: Sequence[SimOptions], jobs: int) -> It
         futures: list[Future[ContractOutcome]] = [
             pool.submit(check_one, c, o) for c, o in zip(contracts, plans, strict=True)
         ]
-        for f in as_completed(futures):
-            yield f.result()
+        try:
+            for f in as_completed(futures):
+                yield f.result()
+        except BaseException:  # Ctrl-C or SIGTERM: start no further contract
+            pool.shutdown(wait=False, cancel_futures=True)
+            raise
 
 
 def default_jobs(count: int) -> int:
