@@ -155,3 +155,14 @@ def test_which_run_includes_the_contracts(pytester: pytest.Pytester) -> None:
     outside = str(examples_dir() / "regfile" / "contract.toml")
     cli = pytester.runpytest("-p", "no:cacheprovider", "--collect-only", "-q", "tests", "--memcheck-contracts", outside)
     cli.stdout.fnmatch_lines(["tests/test_plain.py::test_plain", f"{outside}::check", "2 tests collected*"])
+
+
+@pytest.mark.icarus
+def test_rtl_that_does_not_compile_fails_its_item_with_the_compiler_lines(pytester: pytest.Pytester) -> None:
+    root = _project(pytester, "regfile")
+    verilog = root / "rtl" / "regfile" / "regfile_wrap.v"
+    verilog.write_text(verilog.read_text() + "\nmodule unfinished(input a\n")
+    res = pytester.runpytest(*BUDGET)
+    res.assert_outcomes(passed=1, failed=1)
+    res.stdout.fnmatch_lines(["memcheck: error: the RTL of * does not compile; iverilog says:", "*syntax error"])
+    assert "Traceback" not in res.stdout.str()
