@@ -64,6 +64,8 @@ BAD_ARGS: list[tuple[tuple[str, ...], tuple[str, ...]]] = [
     (("contract", "draft", REGFILE_V, "--top", "regfile_wrap", "-o", REGFILE), ("already exists", "--force")),
     # simulator commands, refused before any simulation
     (("check", "missing.toml"), ("missing.toml", "cannot read")),
+    (("check", REGFILE, REGFILE), ("named twice",)),
+    (("check", REGFILE, "other.toml", "-j", "0"), ("--jobs", "0")),
     (("check", REGFILE, "--phases", "smoke,bogus"), ("--phases", "bogus")),
     (("check", REGFILE, "--examples", "-3"), ("--examples",)),
     (("check", REGFILE, "--stall-timeout", "0"), ("--stall-timeout",)),
@@ -117,6 +119,7 @@ sys.exit(main(sys.argv[1:]))
     "argv",
     [
         ("check", REGFILE),
+        ("check", REGFILE, REGFILE + "x", "-j", "2"),
         ("replay", "missing.json"),
         ("march", "run", REGFILE, "MATS+"),
         ("demo", "--examples", "1", "--bulk-examples", "0"),
