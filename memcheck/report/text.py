@@ -11,6 +11,7 @@ from memcheck.contract import Contract
 from memcheck.ops import Expected, OpKind, PortOp
 from memcheck.records import CheckedTrace, CheckResult, Observed, RunRecord
 from memcheck.report.explain import explain
+from memcheck.report.lookalike import bits_phrase, lookalike
 
 DISCLAIMER = (
     "Verdicts cover the behaviour modelled by the contract only (behaviours it leaves unknown "
@@ -70,10 +71,8 @@ def _op_cells(contract: Contract, op: PortOp) -> tuple[str, str, str, str]:
 
 
 def _bits_text(diff: int) -> str:
-    bits = [b for b in range(diff.bit_length()) if diff >> b & 1]
-    if len(bits) > 6:
-        return f"{len(bits)} bits"
-    return "bit" + ("s " if len(bits) > 1 else " ") + ",".join(str(b) for b in reversed(bits))
+    text = bits_phrase(diff)
+    return text if len(text) <= 28 else f"{diff.bit_count()} bits"
 
 
 def render_table(contract: Contract, checked: CheckedTrace) -> str:
@@ -114,10 +113,7 @@ def render_table(contract: Contract, checked: CheckedTrace) -> str:
                         f"{pad}differs  {_marks(d, width)}"
                     )
                 else:
-                    details.append(
-                        f"cycle {r.cycle} port {spec.name}: differing bits "
-                        f"{', '.join(str(b) for b in range(width - 1, -1, -1) if d >> b & 1)}"
-                    )
+                    details.append(f"cycle {r.cycle} port {spec.name}: differing {bits_phrase(d)}")
     widths = [max(len(h), *(len(x[i]) for x in lines)) if lines else len(h) for i, h in enumerate(header)]
 
     def fmt(cells: tuple[str, ...]) -> str:
@@ -147,6 +143,9 @@ def render_failure(contract: Contract, checked: CheckedTrace, *, start_text: str
         parts.append(f"Violated: {ex.rule}")
         if ex.detail:
             parts.append(ex.detail)
+    hint = lookalike(contract, checked)
+    if hint is not None:
+        parts.append(f"Hint: {hint}.")
     return "\n\n".join(parts)
 
 
