@@ -16,10 +16,22 @@ from enum import StrEnum
 from pathlib import Path
 from typing import Any, Generic, Literal, TypeVar
 
-from memcheck.contract import Contract
+from memcheck.contract import Contract, unchecked_behaviours
 from memcheck.march.expand import MarchStep
 from memcheck.march.notation import MarchTest
 from memcheck.ops import Expected, PortOp, Trace
+
+#: The note of a failure that did not fail again when run from the same state (the same canonical
+#: fill and flush, the same operations): a fixed function of the pins would fail again, so the RTL's
+#: result depends on something else, most often the order of processes woken by one clock edge.
+LIKELY_RACE = (
+    "likely a race in the RTL: this example failed once and passed when run again from the same state "
+    "(same fill, same operations). Verilog runs the processes that one clock edge wakes in no defined "
+    "order (IEEE 1364-2005 §11, scheduling semantics; IEEE 1800-2017 §4, scheduling regions), so a "
+    "blocking assignment (=) in a clocked always block to a register that another block reads on the "
+    "same edge, where a non-blocking assignment (<=) was meant, gives different results from run to run "
+    "or simulator to simulator"
+)
 
 # -- observations and compared cycles ---------------------------------------------------------
 
@@ -274,12 +286,16 @@ class RunRecord(Generic[F]):
     failure: F | None = None
     seconds: float = 0.0
     build_seconds: float = 0.0
+    #: The simulation image was already up to date: ``build_seconds`` only checked it.
+    build_reused: bool = False
     out_dir: Path | None = None
     replay_file: Path | None = None
     waveform_file: Path | None = None
     reproduced: bool | None = None
     notes: tuple[str, ...] = ()
     unconnected_inputs: tuple[str, ...] = ()
+    #: Pin -> width as the RTL declares it (empty when the RTL was not elaborated).
+    pin_widths: dict[str, int] = field(default_factory=dict)
     extra: dict[str, object] = field(default_factory=dict)
 
     @property
@@ -287,9 +303,14 @@ class RunRecord(Generic[F]):
         return self.verdict == CheckVerdict.PASS
 
     @property
+    def build_text(self) -> str:
+        """``build 1.3 s``, or ``build reused, 0.0 s`` when the image was already up to date."""
+        return f"build {'reused, ' if self.build_reused else ''}{self.build_seconds:.1f} s"
+
+    @property
     def unchecked(self) -> list[str]:
-        """Behaviours the contract leaves unknown, so no job checks them."""
-        return self.contract.unchecked_behaviours()
+        """Behaviours the contract leaves unknown, so no job checks them (only those this RTL can have)."""
+        return unchecked_behaviours(self.contract, self.pin_widths or None)
 
     @property
     def replay_command(self) -> str | None:
@@ -339,7 +360,7 @@ class CheckResult(RunRecord[Failure]):
                     for p in self.phases
                 )
             )
-        lines.append(f"seed {self.seed}; {self.seconds:.1f} s (build {self.build_seconds:.1f} s)")
+        lines.append(f"seed {self.seed}; {self.seconds:.1f} s ({self.build_text})")
         if self.failure is not None:
             f = self.failure
             first = f.checked.first_mismatch
@@ -396,7 +417,7 @@ class MarchRunResult(RunRecord[MarchFailure]):
             f = self.failure
             lines.append(f"FAIL at cycle {f.cycle}: {f.description}")
             lines.append(f"failed: {' and '.join(f.failed_checks)}")
-        lines.append(f"{self.seconds:.1f} s (build {self.build_seconds:.1f} s)")
+        lines.append(f"{self.seconds:.1f} s ({self.build_text})")
         return "\n".join(lines)
 
 

@@ -2,15 +2,30 @@
 
 from __future__ import annotations
 
+from collections.abc import Mapping
+
 from memcheck.contract.spec import Contract
 
 
-def unchecked_behaviours(c: Contract) -> list[str]:
-    """Behaviours the contract leaves unknown (never checked), for behaviours this memory can have."""
-    return _single_clock_unchecked(c) + _clock_unchecked(c) + _power_unchecked(c)
+def unchecked_behaviours(c: Contract, pin_widths: Mapping[str, int] | None = None) -> list[str]:
+    """Behaviours the contract leaves unknown (never checked), for behaviours this memory can have.
+
+    ``pin_widths`` (pin -> width, as the RTL declares them; None when not known) drops what the
+    RTL cannot have: the undriven upper address bits of address pins exactly as wide as ``words``
+    needs.
+    """
+    return _single_clock_unchecked(c, pin_widths) + _clock_unchecked(c) + _power_unchecked(c)
 
 
-def _single_clock_unchecked(c: Contract) -> list[str]:
+def _wider_address_pins(c: Contract, pin_widths: Mapping[str, int] | None) -> bool:
+    """Whether some address pin has bits above the ones ``words`` needs (unknown widths: assume so)."""
+    if pin_widths is None:
+        return True
+    bits = c.memory.address_bits
+    return any(pin_widths.get(p.address, bits + 1) > bits for p in c.ports)
+
+
+def _single_clock_unchecked(c: Contract, pin_widths: Mapping[str, int] | None = None) -> list[str]:
     m = c.memory
     out: list[str] = []
     writers = [p for p in c.ports if p.can_write]
@@ -31,7 +46,8 @@ def _single_clock_unchecked(c: Contract) -> list[str]:
                 f"read data of addresses {m.words}..{(1 << m.address_bits) - 1} (beyond words; writes there "
                 "must still change nothing)"
             )
-        out.append(f"address pin bits above bit {m.address_bits - 1}: held at 0, never driven (out_of_range)")
+        if _wider_address_pins(c, pin_widths):
+            out.append(f"address pin bits above bit {m.address_bits - 1}: held at 0, never driven (out_of_range)")
     elif m.out_of_range == "ignore":
         out.append('read data of addresses at or beyond words (out_of_range = "ignore")')
     return out

@@ -10,7 +10,14 @@ from typing import Any
 
 from memcheck.records import MarchFailure, MarchRunResult
 from memcheck.report.lookalike import bits_phrase
-from memcheck.report.text import DISCLAIMER, binary_known, hex_known, render_failure, render_notes
+from memcheck.report.text import (
+    DISCLAIMER,
+    binary_known,
+    hex_known,
+    render_failure,
+    render_notes,
+    render_unconnected,
+)
 
 
 def _marks(diff: int, width: int) -> str:
@@ -53,7 +60,7 @@ def value_lines(f: MarchFailure, width: int) -> str:
 
 def render_march_report(result: MarchRunResult) -> str:
     """The whole text report of a March run."""
-    parts = [result.summary()]
+    parts = [result.summary(), *render_unconnected(result)]
     f = result.failure
     if f is not None:
         parts.append(value_lines(f, result.contract.memory.width))

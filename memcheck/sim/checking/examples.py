@@ -18,7 +18,7 @@ import numpy as np
 
 from memcheck.model_fast import Columns
 from memcheck.ops import Trace
-from memcheck.records import CheckedTrace
+from memcheck.records import LIKELY_RACE, CheckedTrace
 from memcheck.sim.checking.compare import ArrayCheck
 from memcheck.sim.checking.runner import Runner
 
@@ -26,7 +26,7 @@ from memcheck.sim.checking.runner import Runner
 #: ``SimOptions.bulk_shrink_runs`` simulator runs; later candidates count as passing), then delta
 #: debugging finishes the job.
 BULK_SHRINK_SECONDS = 30.0
-_FLAKY_NOTE = "Hypothesis saw this example pass once and fail once (state left by earlier examples)"
+_FLAKY_NOTE = LIKELY_RACE
 
 
 class _Mismatch(Exception):
@@ -226,5 +226,5 @@ def bulk_examples(runner: Runner, stats: dict[str, int]) -> tuple[CheckedTrace |
     # Run the smallest failing bulk example again, so the RTL state matches a replay of it.
     again = runner.run_example_columns(found.cols)
     if again.ok:  # pragma: no cover - keep what was seen; the phase notes the non-reproduction
-        return found.checked(), note or "the failure did not reproduce from the canonical state"
+        return found.checked(), note or LIKELY_RACE
     return again.checked(), note

@@ -21,7 +21,7 @@ import time
 from dataclasses import replace
 
 from memcheck.ops import Cycle, Trace
-from memcheck.records import CheckedTrace, CycleRow, Failure, ModelStart, PhaseResult
+from memcheck.records import LIKELY_RACE, CheckedTrace, CycleRow, Failure, ModelStart, PhaseResult
 from memcheck.sim.checking import sequences as seq
 from memcheck.sim.checking.compare import check, compare, start_model
 from memcheck.sim.checking.examples import bulk_examples, short_examples
@@ -215,5 +215,5 @@ class PhaseRunner(Runner):
             final = small
         if final.ok:  # pragma: no cover - the canonical state did not reproduce it
             final = found
-            note = note or "the failure did not reproduce from the canonical state"
+            note = note or LIKELY_RACE
         return Failure("property", EXAMPLE_PREAMBLE, final, note)

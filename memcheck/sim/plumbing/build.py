@@ -41,6 +41,8 @@ class Build:
     folder: Path
     layout: Layout
     pins: PinCheck
+    #: True when the simulation image was already up to date (nothing was compiled for it).
+    reused: bool = False
 
     @property
     def sim_dir(self) -> Path:
@@ -159,6 +161,8 @@ def build(contract: Contract, cache_root: Path) -> Build:
         harness = folder / f"{HARNESS_TOP}.v"
         if not harness.is_file() or harness.read_text(encoding="utf-8") != text:
             harness.write_text(text, encoding="utf-8")
+        image = folder / "sim" / "sim.vvp"
+        before = image.stat().st_mtime_ns if image.is_file() else None
         _compile(
             rtl,
             [*rtl.sources, harness],
@@ -168,7 +172,8 @@ def build(contract: Contract, cache_root: Path) -> Build:
             parameters=False,
             timescale=scale,
         )
-    return Build(contract=contract, folder=folder, layout=layout, pins=pins)
+        reused = before is not None and image.is_file() and image.stat().st_mtime_ns == before
+    return Build(contract=contract, folder=folder, layout=layout, pins=pins, reused=reused)
 
 
 def iverilog_version() -> str:
