@@ -157,7 +157,7 @@ class PhaseRunner(Runner):
         if small is not None and not small.ok:
             return Failure("sweep", EXAMPLE_PREAMBLE, small, f"shrunk from a failure at cycle {at} of {what}"), at
         # Not reproducible as a short example: the sweep from its start is the trace (a replay reruns it).
-        prefix = plan.schedule.cycles(at + 1)
+        prefix = plan.cycles(at + 1, self.backend.batch_limit)
         note = (
             f"the sweep ({what}) up to its first difference, at cycle {at}; "
             "it does not fail as a short independent example"

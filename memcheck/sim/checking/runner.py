@@ -25,6 +25,7 @@ from memcheck.sim.checking import sequences as seq
 from memcheck.sim.checking.compare import ArrayCheck, check, check_arrays, expected_arrays
 from memcheck.sim.checking.sequences import Segment
 from memcheck.sim.checking.shrink import ddmin, quieten, simplify_values, trim_quiet_edges
+from memcheck.sim.checking.ticks import fit, fit_columns, hyper_ticks
 from memcheck.sim.options import SimOptions
 
 #: The preamble of every independent example: reset, canonical fill, flush.
@@ -162,8 +163,10 @@ class Runner:
     # -- independent examples ----------------------------------------------------------------
 
     def run_example(self, cycles: Sequence[Cycle]) -> CheckedTrace:
-        """Check ``cycles`` as an independent example: canonical RTL state, model knows nothing."""
+        """Check ``cycles`` as an independent example: canonical RTL state, model knows nothing. With
+        several clocks ``cycles`` are first made valid on the tick timeline (:func:`ticks.fit`)."""
         c = self.contract
+        cycles = fit(c, cycles)
         if not self._canonical:
             self.run_steps(EXAMPLE_PREAMBLE)
             pre: list[Cycle] = []
@@ -195,6 +198,7 @@ class Runner:
     def run_example_columns(self, cols: Columns) -> ArrayCheck:
         """:meth:`run_example` for a trace given as columns, checked by the vectorised model."""
         c = self.contract
+        cols = fit_columns(c, cols)
         if not self._canonical:
             self.run_steps(EXAMPLE_PREAMBLE)
             pre = Columns.quiet(c, 0)
@@ -247,8 +251,10 @@ class Runner:
         cache: dict[tuple[Cycle, ...], CheckedTrace] = {}
         fails = self._fails(cache)
         w = 1
+        hyper = hyper_ticks(self.contract)
         while w <= min(failing + 1, self.window_max):
-            window = list(recent[failing - w + 1 : failing + 1])
+            start = (failing - w + 1) // hyper * hyper  # several clocks: windows start on the tick pattern
+            window = list(recent[start : failing + 1])
             if fails(window):
                 return self.minimise(window)
             if w == failing + 1:

@@ -9,33 +9,11 @@ calls :func:`require_simulator_support` before building.
 
 from __future__ import annotations
 
-from memcheck.contract import DEFAULT_PERIOD, Contract
+from memcheck.contract import Contract
 from memcheck.errors import NotYetSimulated
+from memcheck.sim.checking.ticks import harness_timing
 
 _MODEL_HINT = "check them with the model API (memcheck.model.Model) or wait for harness support"
-
-
-def _ns(value: float) -> str:
-    return f"{value:g} ns"
-
-
-def _clock_problem(contract: Contract) -> str | None:
-    clocks = contract.port_clocks
-    if not contract.lockstep:
-        listed = ", ".join(f"{c.name} {_ns(c.period)}" + (f" phase {_ns(c.phase)}" if c.phase else "") for c in clocks)
-        return (
-            f"several clocks with different edges ({listed}): the contract and model support them, but the "
-            f"simulator harness drives one clock so far; {_MODEL_HINT}"
-        )
-    period = clocks[0].period
-    if period != DEFAULT_PERIOD:
-        names = ", ".join(c.name for c in clocks)
-        return (
-            f"[[clock]] period = {_ns(period)} ({names}): the contract and model support it, but the simulator "
-            f"harness drives a {_ns(DEFAULT_PERIOD)} clock so far; leave the period at its default to check the "
-            f"logic, or {_MODEL_HINT}"
-        )
-    return None
 
 
 def _power_problem(contract: Contract) -> str | None:
@@ -60,19 +38,12 @@ def _memory_problems(contract: Contract) -> list[str]:
             f"harness drives only the low {m.address_bits} address bit(s) so far (addresses below words = "
             f'{m.words}); use "unchecked", or {_MODEL_HINT}'
         )
-    sample = contract.timing.sample
-    if sample is not None:
-        out.append(
-            f"[timing] sample = {_ns(sample)}: the contract and model support it, but the simulator harness samples "
-            "read data 1 ns before the next rising edge so far; remove the key to check with that sample point, "
-            f"or {_MODEL_HINT}"
-        )
     return out
 
 
 def simulator_support_problems(contract: Contract) -> list[str]:
     """One sentence per key of ``contract`` the simulator harness cannot honour yet (empty: none)."""
-    found = [_clock_problem(contract), _power_problem(contract)]
+    found = [_power_problem(contract)]
     return [p for p in found if p is not None] + _memory_problems(contract)
 
 
@@ -87,6 +58,7 @@ def require_simulator_support(contract: Contract) -> None:
     """
     problems = simulator_support_problems(contract)
     if not problems:
+        harness_timing(contract)  # clocks and sample points the harness can place exactly
         return
     where = f"{contract.path}: " if contract.path is not None else ""
     raise NotYetSimulated(
