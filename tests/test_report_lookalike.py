@@ -45,6 +45,18 @@ def test_lane_holds_another_lanes_byte() -> None:
     assert lookalike(c, ct) == "lane 3 holds the byte written to lane 2 at cycle 0: lane slices swapped or miswired?"
 
 
+def test_uneven_lanes_and_a_write_cycle_that_shows_data() -> None:
+    c = Contract.simple(16, 40, lanes=[9, 9, 9, 9, 4], read_during_write="new")
+    # a write of every lane shows the new word in its own cycle's read data (due one cycle later);
+    # lane 3 (bits 35:27) shows lane 2's 9 bits
+    word = 0x5 << 36 | 0x1E1 << 27 | 0x00F << 18 | 0x1C3 << 9 | 0x07E
+    bad = word & ~(0x1FF << 27) | 0x00F << 27
+    ct = checked(c, [(write(0, word),), (PortOp(),)], {1: bad})
+    assert lookalike(c, ct) == (
+        "lane 3 holds the 9-bit lane data written to lane 2 at cycle 0: lane slices swapped or miswired?"
+    )
+
+
 def test_lost_write_and_early_forwarding() -> None:
     c = Contract.simple(16, 16)
     lost = [(write(1, 0x1111),), (write(1, 0x2222),), (read(1),), (PortOp(),)]

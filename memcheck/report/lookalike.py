@@ -143,7 +143,7 @@ def lookalike(contract: Contract, checked: CheckedTrace) -> str | None:
     if obs is None or diff & ~obs.defined:
         return None
     issued = issue_row(checked, first, p, m.read_latency)
-    if issued is None or issued.ops[p].kind != OpKind.READ:
+    if issued is None or issued.ops[p].kind not in (OpKind.READ, OpKind.WRITE):
         return None
     addr = issued.ops[p].address
     earlier = [r for r in checked.rows if r.cycle <= first.cycle]
@@ -164,7 +164,7 @@ def lookalike(contract: Contract, checked: CheckedTrace) -> str | None:
     late = next((w for w in writes if w.op.address == addr and w.cycle >= issued.cycle and same(w)), None)
     if late is not None:
         when = (
-            "on the read's own edge"
+            "on the access's own edge"
             if late.cycle == issued.cycle
             else f"after the read was issued at cycle {issued.cycle}: write data forwarded too early?"
         )
