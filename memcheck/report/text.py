@@ -145,7 +145,7 @@ def render_failure(contract: Contract, checked: CheckedTrace, *, start_text: str
             parts.append(ex.detail)
     hint = lookalike(contract, checked)
     if hint is not None:
-        parts.append(f"Hint: {hint}.")
+        parts.append(f"Hint: {hint}" + ("" if hint.endswith("?") else "."))
     return "\n\n".join(parts)
 
 
