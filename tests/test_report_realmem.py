@@ -7,6 +7,8 @@ from __future__ import annotations
 from dataclasses import replace
 from pathlib import Path
 
+import pytest
+
 from memcheck.contract import Contract, PortSpec, unchecked_behaviours
 from memcheck.ops import PortOp, read, write
 from memcheck.records import LIKELY_RACE, CheckResult, CheckVerdict, Failure, Observed, PhaseResult
@@ -85,3 +87,66 @@ def test_not_checked_lists_only_what_can_apply() -> None:
     assert any("address pin bits above bit 3" in u for u in unchecked_behaviours(c, {port.address: 6}))
     # ... and a check result uses the widths the RTL declared
     assert not any("address pin bits" in u for u in _failing_result(pin_widths={"addr": 4}).unchecked)
+
+
+@pytest.mark.parametrize(
+    ("name", "needles"),
+    [
+        (
+            "tile_exchange",
+            [
+                "rising edges at 5.0 + k x 15.0 ns; port compute steps on these edges",
+                "edges of different clocks at the same instant are simultaneous",
+                "less than 2.0 ns apart collide",
+                "less than 2.0 ns away (collision_window)",  # unchecked
+            ],
+        ),
+        (
+            "coeff_store_slow",
+            [
+                "read data is sampled 15.0 ns after the rising edge that begins the cycle in which it is due",
+                "1ns/100ps for RTL files without a `timescale directive",
+                "read data from the edge to 15.0 ns after it, and after that ([timing] sample)",  # unchecked
+            ],
+        ),
+        (
+            "retention_buffer",
+            [
+                "sleep_req (active high), sampled by rising edges: contents kept, accesses ignored",
+                "pwr_ok (active low)",
+                "read data due after an edge that sampled a power pin: zero",
+                "test_mode = 0",
+                "accesses and read data on the first 1 edge(s) after wake-up (wake_cycles)",  # unchecked
+                "contents after a shutdown",  # unchecked
+            ],
+        ),
+        (
+            "flit_store",
+            [
+                "lane 3 = bits 35:27",
+                "lane 8 = bits 75:72",
+                "no write_enable: an access with any lane enable active writes those lanes",
+            ],
+        ),
+    ],
+)
+def test_validate_explains_each_new_key_of_the_real_memory_examples(
+    name: str, needles: list[str], capsys: pytest.CaptureFixture[str]
+) -> None:
+    from memcheck.cli import main
+    from memcheck.examples import examples_dir
+
+    assert main(["contract", "validate", str(examples_dir() / name / "contract.toml")]) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    for needle in needles:
+        assert needle in out, needle
+    assert "idle_read_data" not in out.split("Not promised")[-1]  # keep: nothing left unknown there
+
+
+def test_a_collision_window_on_identical_clocks_is_explained_as_doing_nothing() -> None:
+    from memcheck.contract import key_explanations
+
+    c = Contract.simple(16, 8, collision_window=1.0)
+    assert ("[memory] collision_window", "changes nothing here: every port clock has the same edges") in (
+        key_explanations(c)
+    )

@@ -55,9 +55,15 @@ def _single_clock_unchecked(c: Contract, pin_widths: Mapping[str, int] | None = 
 
 def _clock_unchecked(c: Contract) -> list[str]:
     m = c.memory
-    if c.lockstep:
-        return []
+    sample = c.timing.sample
     out: list[str] = []
+    if sample is not None and any(p.can_read for p in c.ports):
+        out.append(
+            f"read data from the edge to {sample} ns after it, and after that ([timing] sample): only the "
+            "value at the sample point is compared"
+        )
+    if c.lockstep:
+        return out
     writers = [p for p in c.ports if p.can_write]
     cross = [(r, w) for r in c.ports if r.can_read for w in writers if w.clock != r.clock]
     if cross and m.read_latency == 0:
@@ -126,7 +132,7 @@ def _clock_lines(c: Contract) -> list[tuple[str, str]]:
         if t.sample is not None
         else "just before the port clock's next rising edge"
     )
-    out.append(("[timing] sample", f"read data is sampled {when}"))
+    out.append(("[timing] sample", f"read data is sampled {when}; what it shows before or after that is not checked"))
     out.append(("[timing] timescale", f"{t.timescale} for RTL files without a `timescale directive"))
     return out
 
@@ -158,6 +164,8 @@ def _memory_lines(c: Contract) -> list[tuple[str, str]]:
         f"so address a selects word a mod {m.words}",
     }
     out.append(("[memory] out_of_range", f"{m.out_of_range}: {oor[m.out_of_range]}"))
+    if c.lockstep and m.collision_window:
+        out.append(("[memory] collision_window", "changes nothing here: every port clock has the same edges"))
     if not c.lockstep:
         window = m.collision_window
         out.append(
