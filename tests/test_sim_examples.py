@@ -11,6 +11,7 @@ import pytest
 
 from memcheck.contract import load_contract
 from memcheck.examples import examples_dir
+from memcheck.report import render_report
 from memcheck.sim import check_contract, replay_file
 from memcheck.sim.checking.support import simulator_support_problems
 
@@ -57,6 +58,8 @@ def test_buggy_example_is_caught_with_a_short_replayable_trace(ex: dict[str, Any
     assert res.replay_file is not None
     again = replay_file(res.replay_file, waveform=False, build_dir=cache)
     assert again.reproduced
+    if ex.get("hint"):  # the report names what the wrong data looks like (memcheck.report.lookalike)
+        assert ex["hint"] in render_report(res), render_report(res)
 
 
 def test_index_lists_enough_examples() -> None:
