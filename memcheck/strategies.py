@@ -40,16 +40,21 @@ __all__ = [
 EXTRA_ADDRESS_BITS = 2
 
 
-def driven_address_bits(contract: Contract) -> int:
-    """Address bits a trace drives: the minimum, or a few more when addresses beyond it are checked."""
+def driven_address_bits(contract: Contract, pin_bits: int | None = None) -> int:
+    """Address bits a trace drives: the minimum, or, when addresses beyond ``words`` are checked
+    (``out_of_range`` "ignore" or "wrap"), the address pins' full width ``pin_bits`` (a few bits more
+    than the minimum when it is not known)."""
     m = contract.memory
-    return m.address_bits + (EXTRA_ADDRESS_BITS if m.out_of_range != "unchecked" else 0)
+    if m.out_of_range == "unchecked":
+        return m.address_bits
+    return max(pin_bits, m.address_bits) if pin_bits is not None else m.address_bits + EXTRA_ADDRESS_BITS
 
 
-def hot_addresses(contract: Contract) -> list[int]:
-    """Addresses where wrapper bugs hide, smallest first (0 first so that shrinking ends there)."""
+def hot_addresses(contract: Contract, pin_bits: int | None = None) -> list[int]:
+    """Addresses where wrapper bugs hide, smallest first (0 first so that shrinking ends there); with
+    out-of-range addresses checked, also just above ``words`` and at the top of the pin range."""
     m = contract.memory
-    limit = 1 << driven_address_bits(contract)
+    limit = 1 << driven_address_bits(contract, pin_bits)
     hot: set[int] = {0, m.words - 1, m.words // 2, m.words // 4, 3 * m.words // 4}
     p = 1
     while p < limit:
@@ -60,11 +65,11 @@ def hot_addresses(contract: Contract) -> list[int]:
     return sorted(a for a in hot if 0 <= a < limit)
 
 
-def addresses(contract: Contract) -> st.SearchStrategy[int]:
+def addresses(contract: Contract, pin_bits: int | None = None) -> st.SearchStrategy[int]:
     """One address: usually a hot one, sometimes a neighbour one bit away, sometimes any."""
-    bits = driven_address_bits(contract)
+    bits = driven_address_bits(contract, pin_bits)
     limit = 1 << bits
-    hot = hot_addresses(contract)
+    hot = hot_addresses(contract, pin_bits)
     one_bit_apart = st.tuples(st.sampled_from(hot), st.integers(0, bits - 1)).map(lambda t: t[0] ^ (1 << t[1]))
     return st.one_of(st.sampled_from(hot), one_bit_apart, st.integers(0, limit - 1))
 
@@ -220,15 +225,17 @@ def traces(
     max_pool: int = 4,
     drain: bool = True,
     first_tick: int = 0,
+    pin_bits: int | None = None,
 ) -> st.SearchStrategy[Trace]:
     """A trace of blocks over a small pool of hot addresses.
 
     With ``drain`` the trace ends with ``read_latency`` quiet cycles, so the result of every read in
     it is observed within the trace. With several clocks the trace starts at tick ``first_tick`` of
-    the timeline (a model that has already stepped k times stands at tick k).
+    the timeline (a model that has already stepped k times stands at tick k). ``pin_bits``: the width
+    of the address pins, driven in full when out-of-range addresses are checked.
     """
     plan = _Plan(contract, max_pool)
-    pools = st.lists(addresses(contract), min_size=1, max_size=max_pool, unique=True)
+    pools = st.lists(addresses(contract, pin_bits), min_size=1, max_size=max_pool, unique=True)
     blocks = st.lists(plan.block, min_size=min_blocks, max_size=max_blocks)
     tail = tuple(drain_cycle(contract) for _ in range(contract.memory.read_latency)) if drain else ()
 

@@ -27,6 +27,7 @@ from memcheck.sim.checking.sequences import Segment
 from memcheck.sim.checking.shrink import ddmin, quieten, simplify_values, trim_quiet_edges
 from memcheck.sim.checking.ticks import fit, fit_columns, hyper_ticks
 from memcheck.sim.options import SimOptions
+from memcheck.strategies import driven_address_bits
 
 #: The preamble of every independent example: reset, canonical fill, flush.
 EXAMPLE_PREAMBLE: tuple[str, ...] = ("reset", "fill", "flush")
@@ -111,12 +112,20 @@ class Runner:
             "bulk_decode": 0.0,
         }
         self._pool: ThreadPoolExecutor | None = None  # set while bulk examples run
+        #: Width of the address pins (the narrowest port's), set by the simulator side: with
+        #: ``out_of_range`` "ignore" or "wrap" examples drive addresses over all of it.
+        self.pin_address_bits: int | None = None
         self.counts: dict[str, int] = {
             "bulk_examples": 0,
             "bulk_operations": 0,
             "bulk_cycles": 0,
             "bulk_shrink_runs": 0,
         }
+
+    @property
+    def driven_address_bits(self) -> int:
+        """Address bits examples drive (see :func:`memcheck.strategies.driven_address_bits`)."""
+        return driven_address_bits(self.contract, self.pin_address_bits)
 
     # -- running cycles --------------------------------------------------------------------
 

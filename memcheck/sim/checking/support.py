@@ -29,22 +29,10 @@ def _power_problem(contract: Contract) -> str | None:
     )
 
 
-def _memory_problems(contract: Contract) -> list[str]:
-    out: list[str] = []
-    m = contract.memory
-    if m.out_of_range != "unchecked":
-        out.append(
-            f'[memory] out_of_range = "{m.out_of_range}": the contract and model support it, but the simulator '
-            f"harness drives only the low {m.address_bits} address bit(s) so far (addresses below words = "
-            f'{m.words}); use "unchecked", or {_MODEL_HINT}'
-        )
-    return out
-
-
 def simulator_support_problems(contract: Contract) -> list[str]:
     """One sentence per key of ``contract`` the simulator harness cannot honour yet (empty: none)."""
     found = [_power_problem(contract)]
-    return [p for p in found if p is not None] + _memory_problems(contract)
+    return [p for p in found if p is not None]
 
 
 def require_simulator_support(contract: Contract) -> None:
