@@ -239,15 +239,55 @@ def traces(
     blocks = st.lists(plan.block, min_size=min_blocks, max_size=max_blocks)
     tail = tuple(drain_cycle(contract) for _ in range(contract.memory.read_latency)) if drain else ()
 
+    if contract.power is not None:
+        on = plan.block.map(lambda b: (b, [Power.ON] * len(b)))
+        powered = st.lists(st.one_of(on, _power_block(plan, contract)), min_size=min_blocks, max_size=max_blocks)
+
     @st.composite
     def draw_trace(draw: st.DrawFn) -> Trace:
         pool = draw(pools)
-        raw = [c for b in draw(blocks) for c in b]
+        power: list[Power] = []
+        if contract.power is not None:
+            parts = draw(powered)
+            raw = [c for b, _ in parts for c in b]
+            power = [p for _, ps in parts for p in ps] + [Power.ON] * len(tail)
+        else:
+            raw = [c for b in draw(blocks) for c in b]
         cycles = _fit(contract, [tuple(_resolve(r, pool) for r in c) for c in raw] + list(tail), first_tick)
-        power = draw(power_states(contract, len(cycles))) if contract.power is not None else ()
-        return Trace(tuple(cycles), tuple(power))
+        return Trace(tuple(cycles), tuple(power) if any(power) else ())
 
     return draw_trace()
+
+
+def _power_block(plan: _Plan, contract: Contract) -> st.SearchStrategy[tuple[list[tuple[_Raw, ...]], list[Power]]]:
+    """A power episode placed where power bugs hide: a write just before the power pins are asserted,
+    a few cycles of any operations while they are (ignored by the memory), any operations on the
+    wake-up edges and right after them, then a read of the address written before the episode."""
+    spec = contract.power
+    assert spec is not None
+    states = [s for s, pin in ((Power.SLEEP, spec.sleep), (Power.SHUTDOWN, spec.shutdown)) if pin is not None]
+    wake = spec.wake_cycles
+    can_access = bool(contract.ports) and any(p.can_write for p in contract.ports)
+    can_read = any(p.can_read for p in contract.ports)
+
+    @st.composite
+    def block(draw: st.DrawFn) -> tuple[list[tuple[_Raw, ...]], list[Power]]:
+        ai = draw(plan.index)
+        state = draw(st.sampled_from(states))
+        k = draw(st.integers(1, 4))
+        before = list(draw(plan.rest_cycle))
+        if can_access:
+            data, lanes = draw(plan.payload)
+            before[draw(plan.writer)] = (OpKind.WRITE, ai, data, lanes)
+        asleep = [draw(plan.cycle) for _ in range(k)]
+        woken = [draw(plan.cycle) for _ in range(wake + 1)]
+        after = list(draw(plan.rest_cycle))
+        if can_read:
+            after[draw(plan.reader)] = (OpKind.READ, ai)
+        cycles = [tuple(before), *asleep, *woken, tuple(after)]
+        return cycles, [Power.ON, *[state] * k, *[Power.ON] * (wake + 2)]
+
+    return block()
 
 
 def _fit(contract: Contract, cycles: list[Cycle], first_tick: int) -> list[Cycle]:

@@ -151,3 +151,16 @@ def test_smoke_reads_back_through_a_read_only_port(tmp_path: Path) -> None:
     assert res.verdict == "fail", res.summary()
     assert res.phases[0].name == "smoke" and res.phases[0].verdict == "fail"
     _caught_short_and_replays(res)
+
+
+@pytest.mark.icarus
+@pytest.mark.parametrize(
+    ("defines", "verdict"), [("", "pass"), ("BUG_SLEEP_WRITE = 1", "fail"), ("BUG_NO_WAKE = 1", "fail")]
+)
+def test_power_pins_are_driven_with_sleep_and_shutdown_episodes(tmp_path: Path, defines: str, verdict: str) -> None:
+    c = _fixture(tmp_path, "pwr", defines=defines)
+    res = _run(c, tmp_path, examples=150, bulk_examples=1)
+    assert res.verdict == verdict, res.summary()
+    if verdict == "fail":
+        _caught_short_and_replays(res)
+        assert res.failure is not None and any(res.failure.trace.power), "the failing trace has a power episode"

@@ -85,7 +85,7 @@ def short_examples(runner: Runner, stats: dict[str, int]) -> tuple[CheckedTrace 
         stats["ops"] += trace.operation_count()
         stats["cycles"] += len(trace)
         runner.where["done"] = stats["examples"]
-        checked = runner.run_example(trace.cycles)
+        checked = runner.run_example(trace.cycles, trace.power)
         if not checked.ok:
             raise _Mismatch(checked)
 
