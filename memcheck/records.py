@@ -19,7 +19,7 @@ from typing import Any, Generic, Literal, TypeVar
 from memcheck.contract import Contract, unchecked_behaviours
 from memcheck.march.expand import MarchStep
 from memcheck.march.notation import MarchTest
-from memcheck.ops import Expected, PortOp, Trace
+from memcheck.ops import Expected, PortOp, Power, Trace
 
 #: The note of a failure that did not fail again when run from the same state (the same canonical
 #: fill and flush, the same operations): a fixed function of the pins would fail again, so the RTL's
@@ -65,19 +65,24 @@ class CycleRow:
     expected: tuple[Expected, ...]
     observed: tuple[Observed | None, ...]
     diff: tuple[int, ...]
+    #: The power pins during this cycle (contracts with ``[power]``; "on" otherwise).
+    power: Power = Power.ON
 
     @property
     def ok(self) -> bool:
         return not any(self.diff)
 
     def to_json(self) -> dict[str, Any]:
-        return {
+        out: dict[str, Any] = {
             "cycle": self.cycle,
             "ops": [op.to_json() for op in self.ops],
             "expected": [[hex(e.value), hex(e.known)] for e in self.expected],
             "observed": [None if o is None else [hex(o.value), hex(o.defined)] for o in self.observed],
             "diff": [hex(d) for d in self.diff],
         }
+        if self.power != Power.ON:
+            out["power"] = self.power.name.lower()
+        return out
 
     @classmethod
     def from_json(cls, obj: dict[str, Any]) -> CycleRow:
@@ -87,6 +92,7 @@ class CycleRow:
             expected=tuple(Expected(int(v, 16), int(k, 16)) for v, k in obj["expected"]),
             observed=tuple(None if o is None else Observed(int(o[0], 16), int(o[1], 16)) for o in obj["observed"]),
             diff=tuple(int(d, 16) for d in obj["diff"]),
+            power=Power[str(obj.get("power", "on")).upper()],
         )
 
 
@@ -110,7 +116,9 @@ class CheckedTrace:
 
     @property
     def trace(self) -> Trace:
-        return Trace(tuple(r.ops for r in self.rows))
+        """The cycles (with their power states when any is not "on")."""
+        power = tuple(r.power for r in self.rows)
+        return Trace(tuple(r.ops for r in self.rows), power if any(power) else ())
 
     def mismatches(self) -> list[tuple[int, int, int]]:
         """(cycle, port index, differing bits) for every mismatch."""

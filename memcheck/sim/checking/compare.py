@@ -42,12 +42,13 @@ def compare(
     observed: Sequence[tuple[Observed | None, ...]],
     cycles: Sequence[Cycle],
     start: ModelStart,
+    power: Sequence[Power] = (),
 ) -> CheckedTrace:
-    """Pair up expectations and observations of a trace."""
+    """Pair up expectations and observations of a trace (with its power states, if any)."""
     rows = []
     for k, (ops, exp, obs) in enumerate(zip(cycles, expected, observed, strict=True)):
         diff = tuple(0 if o is None else e.mismatch(o.value, o.defined) for e, o in zip(exp, obs, strict=True))
-        rows.append(CycleRow(k, tuple(ops), tuple(exp), tuple(obs), diff))
+        rows.append(CycleRow(k, tuple(ops), tuple(exp), tuple(obs), diff, power[k] if power else Power.ON))
     return CheckedTrace(start, tuple(rows))
 
 
@@ -84,7 +85,7 @@ def check(
     power: Sequence[Power] = (),
 ) -> CheckedTrace:
     """Run the model from ``start`` over ``cycles`` and compare with ``observed``."""
-    return compare(expected_for(contract, start, cycles, power), observed, cycles, start)
+    return compare(expected_for(contract, start, cycles, power), observed, cycles, start, power)
 
 
 def expected_arrays(contract: Contract, cols: Columns, start: ModelStart = "unknown") -> tuple[np.ndarray, np.ndarray]:

@@ -85,12 +85,12 @@ def short_examples(runner: Runner, stats: dict[str, int]) -> tuple[CheckedTrace 
         stats["ops"] += trace.operation_count()
         stats["cycles"] += len(trace)
         runner.where["done"] = stats["examples"]
-        checked = runner.run_example(trace.cycles)
+        checked = runner.run_example(trace.cycles, trace.power)
         if not checked.ok:
             raise _Mismatch(checked)
 
     test = _settings(opts.examples, opts.seed_or_zero())(
-        given(traces(runner.contract, max_blocks=opts.max_blocks))(prop)
+        given(traces(runner.contract, max_blocks=opts.max_blocks, pin_bits=runner.pin_address_bits))(prop)
     )
     try:
         test()
@@ -162,7 +162,7 @@ class _BulkSearch:
         if self._budget_spent():
             raise _ShrinkBudgetSpent
         t_in = time.perf_counter()
-        cols = decode(self.runner.contract, spec)
+        cols = decode(self.runner.contract, spec, address_bits=self.runner.driven_address_bits)
         key = _digest(cols)
         self.runner.timing["bulk_decode"] += time.perf_counter() - t_in
         if key in self.seen:

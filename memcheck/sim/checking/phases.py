@@ -198,7 +198,7 @@ class PhaseRunner(Runner):
         k = found.first_mismatch
         assert k is not None
         if len(found.rows) <= _LONG_ROWS:
-            final = self.minimise(found.trace.cycles)
+            final = self.minimise(found.trace.cycles, found.trace.power)
         else:
             # A long (bulk) trace: the shortest window ending at the difference that fails on its own.
             cycles = found.trace.cycles[: k + 1]

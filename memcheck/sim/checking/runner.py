@@ -19,7 +19,7 @@ import numpy as np
 
 from memcheck.contract import Contract
 from memcheck.model_fast import Columns, ints_to_limbs, limbs_of, limbs_to_ints
-from memcheck.ops import Cycle, OpKind
+from memcheck.ops import Cycle, OpKind, Power
 from memcheck.records import CheckedTrace, Failure, Observed
 from memcheck.sim.checking import sequences as seq
 from memcheck.sim.checking.compare import ArrayCheck, check, check_arrays, expected_arrays
@@ -27,6 +27,7 @@ from memcheck.sim.checking.sequences import Segment
 from memcheck.sim.checking.shrink import ddmin, quieten, simplify_values, trim_quiet_edges
 from memcheck.sim.checking.ticks import fit, fit_columns, hyper_ticks
 from memcheck.sim.options import SimOptions
+from memcheck.strategies import driven_address_bits
 
 #: The preamble of every independent example: reset, canonical fill, flush.
 EXAMPLE_PREAMBLE: tuple[str, ...] = ("reset", "fill", "flush")
@@ -111,12 +112,20 @@ class Runner:
             "bulk_decode": 0.0,
         }
         self._pool: ThreadPoolExecutor | None = None  # set while bulk examples run
+        #: Width of the address pins (the narrowest port's), set by the simulator side: with
+        #: ``out_of_range`` "ignore" or "wrap" examples drive addresses over all of it.
+        self.pin_address_bits: int | None = None
         self.counts: dict[str, int] = {
             "bulk_examples": 0,
             "bulk_operations": 0,
             "bulk_cycles": 0,
             "bulk_shrink_runs": 0,
         }
+
+    @property
+    def driven_address_bits(self) -> int:
+        """Address bits examples drive (see :func:`memcheck.strategies.driven_address_bits`)."""
+        return driven_address_bits(self.contract, self.pin_address_bits)
 
     # -- running cycles --------------------------------------------------------------------
 
@@ -162,11 +171,12 @@ class Runner:
 
     # -- independent examples ----------------------------------------------------------------
 
-    def run_example(self, cycles: Sequence[Cycle]) -> CheckedTrace:
+    def run_example(self, cycles: Sequence[Cycle], power: Sequence[Power] = ()) -> CheckedTrace:
         """Check ``cycles`` as an independent example: canonical RTL state, model knows nothing. With
         several clocks ``cycles`` are first made valid on the tick timeline (:func:`ticks.fit`)."""
         c = self.contract
         cycles = fit(c, cycles)
+        power = tuple(power) if any(power) else ()
         if not self._canonical:
             self.run_steps(EXAMPLE_PREAMBLE)
             pre: list[Cycle] = []
@@ -174,11 +184,14 @@ class Runner:
             restore = seq.restore_cycles(c, self._dirty) if seq.fill_limit(c) else []
             pre = restore + seq.flush_cycles(c)
         t0 = time.perf_counter()
-        obs = self._run([Segment(tuple(pre) + tuple(cycles))])
+        states = (Power.ON,) * len(pre) + power if power else ()
+        obs = self._run([Segment(tuple(pre) + tuple(cycles), power=states)])
         t1 = time.perf_counter()
         self._dirty = seq.written_addresses(cycles)
+        if Power.SHUTDOWN in power:
+            self._canonical = False  # a shutdown lost the contents: the next example refills them
         self.examples_run += 1
-        checked = check(c, "unknown", list(cycles), obs[len(pre) :])
+        checked = check(c, "unknown", list(cycles), obs[len(pre) :], power)
         self.timing["example_rtl"] += t1 - t0
         self.timing["example_model"] += time.perf_counter() - t1
         return checked
@@ -231,8 +244,10 @@ class Runner:
 
         return fails
 
-    def minimise(self, cycles: Sequence[Cycle]) -> CheckedTrace:
+    def minimise(self, cycles: Sequence[Cycle], power: Sequence[Power] = ()) -> CheckedTrace:
         """Shrink a trace that fails as an independent example; returns the smallest one's check."""
+        if any(power):
+            return self._minimise_powered(list(cycles), list(power))
         cache: dict[tuple[Cycle, ...], CheckedTrace] = {}
         fails = self._fails(cache)
         current = list(cycles)
@@ -245,6 +260,23 @@ class Runner:
         current = simplify_values(current, fails)
         # Run the final trace once more, so the canonical-state run is the reported one.
         return self.run_example(current)
+
+    def _minimise_powered(self, cycles: list[Cycle], power: list[Power]) -> CheckedTrace:
+        """:meth:`minimise` for a trace with power states: delta debugging over its cycles, each with its
+        power state."""
+        cache: dict[tuple[int, ...], CheckedTrace] = {}
+
+        def fails(keep: list[int]) -> bool:
+            key = tuple(keep)
+            if key not in cache:
+                cache[key] = self.run_example([cycles[i] for i in keep], [power[i] for i in keep])
+            return not cache[key].ok
+
+        current = list(range(len(cycles)))
+        if not fails(current):
+            return cache[tuple(current)]
+        current = ddmin(current, fails)
+        return self.run_example([cycles[i] for i in current], [power[i] for i in current])
 
     def shrink_window(self, recent: Sequence[Cycle], failing: int) -> CheckedTrace | None:
         """Find a short window ending at ``recent[failing]`` that fails on its own, and minimise it."""
@@ -270,5 +302,6 @@ class Runner:
         self.run_steps(failure.preamble)
         self.where = {"phase": "replay", "what": "trace"}
         cycles = list(failure.trace.cycles)
-        obs = self._run([Segment(tuple(cycles))], dump=dump)
-        return check(self.contract, failure.checked.start, cycles, obs)
+        power = failure.trace.power
+        obs = self._run([Segment(tuple(cycles), power=power)], dump=dump)
+        return check(self.contract, failure.checked.start, cycles, obs, power)

@@ -123,6 +123,7 @@ def restore_columns(contract: Contract, addresses: np.ndarray) -> Columns:
     w = writer_index(contract)
     if w is None:
         return Columns.quiet(contract, 0)
+    addresses = np.array(restore_targets(contract, addresses.tolist()), dtype=np.int64)
     cols = Columns.quiet(contract, len(addresses))
     cols.kind[:, w] = WRITE
     cols.address[:, w] = addresses
@@ -145,6 +146,15 @@ def flush_columns(contract: Contract) -> Columns:
     return lay_columns(contract, Columns.concat(parts))
 
 
+def restore_targets(contract: Contract, addresses: Iterable[int]) -> list[int]:
+    """The addresses to write back after writes to ``addresses``, ascending: beyond ``words`` a write
+    changes nothing ("ignore") or the word it aliases ("wrap"), which is the one written back."""
+    m = contract.memory
+    if m.out_of_range == "unchecked":
+        return sorted(set(addresses))
+    return sorted({w for w in (m.word_of(a) for a in addresses) if w is not None})
+
+
 def fill_limit(contract: Contract) -> int:
     """Addresses the canonical fill covers (every address the address bits reach), or 0 if none."""
     n = 1 << contract.memory.address_bits
@@ -164,9 +174,8 @@ def restore_cycles(contract: Contract, addresses: Iterable[int]) -> list[Cycle]:
     if w is None:
         return []
     width = contract.memory.width
-    return lay(
-        contract, [_with(contract, {w: PortOp(OpKind.WRITE, a, fill_word(width, a))}) for a in sorted(set(addresses))]
-    )
+    targets = restore_targets(contract, addresses)
+    return lay(contract, [_with(contract, {w: PortOp(OpKind.WRITE, a, fill_word(width, a))}) for a in targets])
 
 
 def fill_segments(contract: Contract, chunk: int) -> Iterator[Segment]:

@@ -74,6 +74,7 @@ def _session(dut: Any, job: dict[str, Any]) -> dict[str, Any]:
     progress.backend = backend
     runner = PhaseRunner(contract, backend, SimOptions.from_json(job["options"]), progress)
     backend.runner = runner
+    runner.pin_address_bits = min(pf.address.width for w in layout.words for pf in w.ports)
     t0 = time.perf_counter()
     out = _run(runner, job).to_json()
     out["extra"] = {
