@@ -30,7 +30,9 @@ LIKELY_RACE = (
     "order (IEEE 1364-2005 §11, scheduling semantics; IEEE 1800-2017 §4, scheduling regions), so a "
     "blocking assignment (=) in a clocked always block to a register that another block reads on the "
     "same edge, where a non-blocking assignment (<=) was meant, gives different results from run to run "
-    "or simulator to simulator"
+    "or simulator to simulator. Less often it is a register that neither the fill nor the flush sets "
+    "(an output register holding data across examples, a synchroniser or power-state flop), whose "
+    "value the earlier examples chose"
 )
 
 # -- observations and compared cycles ---------------------------------------------------------
