@@ -15,7 +15,10 @@ from memcheck.ops import OpKind
 from memcheck.records import Observed
 from memcheck.sim.checking.sequences import Segment
 
-BUGS = ("none", "swap_lanes", "stale_bypass", "late_data", "no_lane_mask", "decay")
+BUGS = ("none", "swap_lanes", "stale_bypass", "late_data", "no_lane_mask", "decay", "race")
+#: Bugs that are not a fixed function of the inputs: "race" corrupts one read, once per PyRam, the way
+#: a same-edge race in RTL shows under one process order and not under another.
+ONE_OFF_BUGS = ("race",)
 
 
 def contract(words: int = 16, width: int = 8, lane_width: int = 4) -> Contract:
@@ -42,6 +45,8 @@ class PyRam:
         self.batches = 0
         self.now = 0
         self.written_at: dict[int, int] = {}  # "decay": a word not rewritten for 12 cycles loses bit 0
+        self.raced = False  # "race": the first read right after a lane write to its address, once, is wrong
+        self.lane_write_at: dict[int, int] = {}
 
     def _bits(self, lanes: int | None) -> int:
         m = self.c.memory
@@ -63,6 +68,9 @@ class PyRam:
                     word = self.bypass[1]
                 if self.bug == "decay" and self.now - self.written_at.get(address, self.now) > 12:
                     word ^= 1
+                if self.bug == "race" and not self.raced and self.lane_write_at.get(address) == self.now - 1:
+                    word ^= 1
+                    self.raced = True
                 new_rdata = (word, self.mask)
             else:
                 new_rdata = (0, 0)
@@ -71,6 +79,8 @@ class PyRam:
             old = self.mem.get(address, 0)
             self.mem[address] = (old & ~bits) | (data & bits)
             self.written_at[address] = self.now
+            if lanes is not None:
+                self.lane_write_at[address] = self.now
             if bits == self.mask:
                 self.bypass = (address, data)
         self.prev = self.rdata

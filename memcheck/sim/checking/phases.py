@@ -22,7 +22,7 @@ from dataclasses import replace
 
 from memcheck.cover import coverage_of
 from memcheck.ops import Cycle, Trace
-from memcheck.records import CheckedTrace, CycleRow, Failure, ModelStart, PhaseResult
+from memcheck.records import LIKELY_RACE, CheckedTrace, CycleRow, Failure, ModelStart, PhaseResult
 from memcheck.sim.checking import sequences as seq
 from memcheck.sim.checking.compare import check, compare, start_model
 from memcheck.sim.checking.examples import bulk_examples, short_examples
@@ -162,7 +162,7 @@ class PhaseRunner(Runner):
         if small is not None and not small.ok:
             return Failure("sweep", EXAMPLE_PREAMBLE, small, f"shrunk from a failure at cycle {at} of {what}"), at
         # Not reproducible as a short example: the sweep from its start is the trace (a replay reruns it).
-        prefix = plan.schedule.cycles(at + 1)
+        prefix = plan.cycles(at + 1, self.backend.batch_limit)
         note = (
             f"the sweep ({what}) up to its first difference, at cycle {at}; "
             "it does not fail as a short independent example"
@@ -207,7 +207,7 @@ class PhaseRunner(Runner):
         k = found.first_mismatch
         assert k is not None
         if len(found.rows) <= _LONG_ROWS:
-            final = self.minimise(found.trace.cycles)
+            final = self.minimise(found.trace.cycles, found.trace.power)
         else:
             # A long (bulk) trace: the shortest window ending at the difference that fails on its own.
             cycles = found.trace.cycles[: k + 1]
@@ -224,5 +224,5 @@ class PhaseRunner(Runner):
             final = small
         if final.ok:  # pragma: no cover - the canonical state did not reproduce it
             final = found
-            note = note or "the failure did not reproduce from the canonical state"
+            note = note or LIKELY_RACE
         return Failure("property", EXAMPLE_PREAMBLE, final, note)

@@ -26,7 +26,9 @@ from memcheck.sim.checking import sequences as seq
 from memcheck.sim.checking.compare import ArrayCheck, check, check_arrays, expected_arrays
 from memcheck.sim.checking.sequences import Segment
 from memcheck.sim.checking.shrink import ddmin, quieten, simplify_values, trim_quiet_edges
+from memcheck.sim.checking.ticks import fit, fit_columns, hyper_ticks
 from memcheck.sim.options import SimOptions
+from memcheck.strategies import driven_address_bits
 
 #: The preamble of every independent example: reset, canonical fill, flush.
 EXAMPLE_PREAMBLE: tuple[str, ...] = ("reset", "fill", "flush")
@@ -112,6 +114,9 @@ class Runner:
             "coverage": 0.0,
         }
         self._pool: ThreadPoolExecutor | None = None  # set while bulk examples run
+        #: Width of the address pins (the narrowest port's), set by the simulator side: with
+        #: ``out_of_range`` "ignore" or "wrap" examples drive addresses over all of it.
+        self.pin_address_bits: int | None = None
         self.counts: dict[str, int] = {
             "bulk_examples": 0,
             "bulk_operations": 0,
@@ -133,6 +138,11 @@ class Runner:
         t0 = time.perf_counter()
         self.coverage = self.coverage.then(measure(self.contract, TraceArrays(cols.kind, cols.address, cols.lanes)))
         self.timing["coverage"] += time.perf_counter() - t0
+
+    @property
+    def driven_address_bits(self) -> int:
+        """Address bits examples drive (see :func:`memcheck.strategies.driven_address_bits`)."""
+        return driven_address_bits(self.contract, self.pin_address_bits)
 
     # -- running cycles --------------------------------------------------------------------
 
@@ -179,9 +189,12 @@ class Runner:
 
     # -- independent examples ----------------------------------------------------------------
 
-    def run_example(self, cycles: Sequence[Cycle]) -> CheckedTrace:
-        """Check ``cycles`` as an independent example: canonical RTL state, model knows nothing."""
+    def run_example(self, cycles: Sequence[Cycle], power: Sequence[Power] = ()) -> CheckedTrace:
+        """Check ``cycles`` as an independent example: canonical RTL state, model knows nothing. With
+        several clocks ``cycles`` are first made valid on the tick timeline (:func:`ticks.fit`)."""
         c = self.contract
+        cycles = fit(c, cycles)
+        power = tuple(power) if any(power) else ()
         if not self._canonical:
             self.run_steps(EXAMPLE_PREAMBLE)
             pre: list[Cycle] = []
@@ -189,12 +202,15 @@ class Runner:
             restore = seq.restore_cycles(c, self._dirty) if seq.fill_limit(c) else []
             pre = restore + seq.flush_cycles(c)
         t0 = time.perf_counter()
-        obs = self._run([Segment(tuple(pre) + tuple(cycles))])
+        states = (Power.ON,) * len(pre) + power if power else ()
+        obs = self._run([Segment(tuple(pre) + tuple(cycles), power=states)])
         t1 = time.perf_counter()
         self._dirty = seq.written_addresses(cycles)
+        if Power.SHUTDOWN in power:
+            self._canonical = False  # a shutdown lost the contents: the next example refills them
         self.examples_run += 1
-        self.cover(cycles)
-        checked = check(c, "unknown", list(cycles), obs[len(pre) :])
+        self.cover(cycles, power)
+        checked = check(c, "unknown", list(cycles), obs[len(pre) :], power)
         self.timing["example_rtl"] += t1 - t0
         self.timing["example_model"] += time.perf_counter() - t1
         return checked
@@ -214,6 +230,7 @@ class Runner:
     def run_example_columns(self, cols: Columns) -> ArrayCheck:
         """:meth:`run_example` for a trace given as columns, checked by the vectorised model."""
         c = self.contract
+        cols = fit_columns(c, cols)
         if not self._canonical:
             self.run_steps(EXAMPLE_PREAMBLE)
             pre = Columns.quiet(c, 0)
@@ -247,8 +264,10 @@ class Runner:
 
         return fails
 
-    def minimise(self, cycles: Sequence[Cycle]) -> CheckedTrace:
+    def minimise(self, cycles: Sequence[Cycle], power: Sequence[Power] = ()) -> CheckedTrace:
         """Shrink a trace that fails as an independent example; returns the smallest one's check."""
+        if any(power):
+            return self._minimise_powered(list(cycles), list(power))
         cache: dict[tuple[Cycle, ...], CheckedTrace] = {}
         fails = self._fails(cache)
         current = list(cycles)
@@ -262,13 +281,32 @@ class Runner:
         # Run the final trace once more, so the canonical-state run is the reported one.
         return self.run_example(current)
 
+    def _minimise_powered(self, cycles: list[Cycle], power: list[Power]) -> CheckedTrace:
+        """:meth:`minimise` for a trace with power states: delta debugging over its cycles, each with its
+        power state."""
+        cache: dict[tuple[int, ...], CheckedTrace] = {}
+
+        def fails(keep: list[int]) -> bool:
+            key = tuple(keep)
+            if key not in cache:
+                cache[key] = self.run_example([cycles[i] for i in keep], [power[i] for i in keep])
+            return not cache[key].ok
+
+        current = list(range(len(cycles)))
+        if not fails(current):
+            return cache[tuple(current)]
+        current = ddmin(current, fails)
+        return self.run_example([cycles[i] for i in current], [power[i] for i in current])
+
     def shrink_window(self, recent: Sequence[Cycle], failing: int) -> CheckedTrace | None:
         """Find a short window ending at ``recent[failing]`` that fails on its own, and minimise it."""
         cache: dict[tuple[Cycle, ...], CheckedTrace] = {}
         fails = self._fails(cache)
         w = 1
+        hyper = hyper_ticks(self.contract)
         while w <= min(failing + 1, self.window_max):
-            window = list(recent[failing - w + 1 : failing + 1])
+            start = (failing - w + 1) // hyper * hyper  # several clocks: windows start on the tick pattern
+            window = list(recent[start : failing + 1])
             if fails(window):
                 return self.minimise(window)
             if w == failing + 1:
@@ -284,6 +322,7 @@ class Runner:
         self.run_steps(failure.preamble)
         self.where = {"phase": "replay", "what": "trace"}
         cycles = list(failure.trace.cycles)
-        obs = self._run([Segment(tuple(cycles))], dump=dump)
-        self.cover(cycles)
-        return check(self.contract, failure.checked.start, cycles, obs)
+        power = failure.trace.power
+        obs = self._run([Segment(tuple(cycles), power=power)], dump=dump)
+        self.cover(cycles, power)
+        return check(self.contract, failure.checked.start, cycles, obs, power)

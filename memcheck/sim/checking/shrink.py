@@ -9,11 +9,14 @@ from __future__ import annotations
 
 from collections.abc import Callable, Sequence
 from dataclasses import replace
+from typing import TypeVar
 
 from memcheck.ops import Cycle, OpKind, PortOp
 
+T = TypeVar("T")
 
-def ddmin(items: Sequence[Cycle], fails: Callable[[list[Cycle]], bool], *, budget: int = 2000) -> list[Cycle]:
+
+def ddmin(items: Sequence[T], fails: Callable[[list[T]], bool], *, budget: int = 2000) -> list[T]:
     """A 1-minimal failing subsequence of ``items`` (``fails(items)`` must hold)."""
     current = list(items)
     n = 2

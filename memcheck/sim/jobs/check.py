@@ -77,10 +77,10 @@ def check_contract(
 
 
 def _validate_trace(c: Contract, failure: Failure, where: Path) -> None:
-    m = Model(c)
+    m = Model(c)  # stepped, so that each cycle is checked at its own tick (several clocks)
     for k, cycle in enumerate(failure.trace.cycles):
         try:
-            m.validate(cycle)
+            m.step(cycle, failure.trace.power_at(k))
         except InvalidOperation as exc:
             raise ReplayError(f"{where}: cycle {k} of the trace does not fit the contract: {exc}.") from None
 
