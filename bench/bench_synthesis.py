@@ -44,12 +44,17 @@ def main() -> None:
     p = r.proof
     print(f"\nall static single- and two-cell faults ({ALL_STATIC}), time limit {args.static_limit:.0f} s:")
     if r.test is not None:
-        print(f"  shortest: {r.length}n {r.test.to_unicode()} in {dt:.1f} s (March SS: 22n)")
+        status = "proven shortest" if r.minimal else f"found by the {r.found_by}, not proven shortest"
+        print(f"  shortest found: {r.length}n ({status}) {r.test.to_unicode()} in {dt:.1f} s")
+        print("  against March SS 22n and March MSS 18n (library lengths)")
     else:
-        why = "time limit" if p.timed_out else "max length 22"
-        print(f"  no test found before the {why}; no test of length <= {p.complete_below - 1} exists ({dt:.1f} s)")
+        print(f"  no test found (cut by: {p.cut_by or 'max length 22'}) in {dt:.1f} s")
+    if p.cut_by is not None:
+        print(f"  the {p.cut_by} cut the exact search: no test of length <= {p.complete_below - 1} exists")
         if r.fallback is not None:
             print(f"  shortest library test that detects them: {r.fallback.name} {r.fallback.length}n")
+    if r.beam is not None:
+        print(f"  beam search: {r.beam.length or '-'}n in {r.beam.seconds:.1f} s (width {r.beam.width})")
     print(f"  distinct states per length: {list(p.states_per_length)}")
 
 

@@ -2,7 +2,7 @@
 
 ``MemcheckError`` > ``ContractError``, ``InvalidOperation``, ``NotationError`` (March notation
 only), ``UsageError`` (bad argument or option values), ``BudgetError`` (size and time limits),
-``UnknownAlgorithm``, ``FaultModelError``, ``SimulationError``, ``ReplayError``.
+``UnknownAlgorithm``, ``FaultModelError``, ``SimulationError`` (> ``SimulationStalled``), ``ReplayError``.
 
 Errors are raised where the cause is known (file, key, position) and rendered once,
 by the CLI, as a single paragraph with exit code 2.
@@ -56,6 +56,11 @@ class FaultModelError(MemcheckError):
 
 class SimulationError(MemcheckError):
     """The simulator could not build, start, or finish a run (compile errors, missing pins, hangs)."""
+
+
+class SimulationStalled(SimulationError):
+    """The stall watchdog stopped a simulation that made no progress (a zero-delay loop, a wait for
+    something that never happens)."""
 
 
 class NotYetSimulated(SimulationError):

@@ -16,10 +16,25 @@ from enum import StrEnum
 from pathlib import Path
 from typing import Any, Generic, Literal, TypeVar
 
-from memcheck.contract import Contract
+from memcheck.contract import Contract, unchecked_behaviours
+from memcheck.cover import Coverage
 from memcheck.march.expand import MarchStep
 from memcheck.march.notation import MarchTest
-from memcheck.ops import Expected, PortOp, Trace
+from memcheck.ops import Expected, PortOp, Power, Trace
+
+#: The note of a failure that did not fail again when run from the same state (the same canonical
+#: fill and flush, the same operations): a fixed function of the pins would fail again, so the RTL's
+#: result depends on something else, most often the order of processes woken by one clock edge.
+LIKELY_RACE = (
+    "likely a race in the RTL: this example failed once and passed when run again from the same state "
+    "(same fill, same operations). Verilog runs the processes that one clock edge wakes in no defined "
+    "order (IEEE 1364-2005 §11, scheduling semantics; IEEE 1800-2017 §4, scheduling regions), so a "
+    "blocking assignment (=) in a clocked always block to a register that another block reads on the "
+    "same edge, where a non-blocking assignment (<=) was meant, gives different results from run to run "
+    "or simulator to simulator. Less often it is a register that neither the fill nor the flush sets "
+    "(an output register holding data across examples, a synchroniser or power-state flop), whose "
+    "value the earlier examples chose"
+)
 
 # -- observations and compared cycles ---------------------------------------------------------
 
@@ -53,19 +68,24 @@ class CycleRow:
     expected: tuple[Expected, ...]
     observed: tuple[Observed | None, ...]
     diff: tuple[int, ...]
+    #: The power pins during this cycle (contracts with ``[power]``; "on" otherwise).
+    power: Power = Power.ON
 
     @property
     def ok(self) -> bool:
         return not any(self.diff)
 
     def to_json(self) -> dict[str, Any]:
-        return {
+        out: dict[str, Any] = {
             "cycle": self.cycle,
             "ops": [op.to_json() for op in self.ops],
             "expected": [[hex(e.value), hex(e.known)] for e in self.expected],
             "observed": [None if o is None else [hex(o.value), hex(o.defined)] for o in self.observed],
             "diff": [hex(d) for d in self.diff],
         }
+        if self.power != Power.ON:
+            out["power"] = self.power.name.lower()
+        return out
 
     @classmethod
     def from_json(cls, obj: dict[str, Any]) -> CycleRow:
@@ -75,6 +95,7 @@ class CycleRow:
             expected=tuple(Expected(int(v, 16), int(k, 16)) for v, k in obj["expected"]),
             observed=tuple(None if o is None else Observed(int(o[0], 16), int(o[1], 16)) for o in obj["observed"]),
             diff=tuple(int(d, 16) for d in obj["diff"]),
+            power=Power[str(obj.get("power", "on")).upper()],
         )
 
 
@@ -98,7 +119,9 @@ class CheckedTrace:
 
     @property
     def trace(self) -> Trace:
-        return Trace(tuple(r.ops for r in self.rows))
+        """The cycles (with their power states when any is not "on")."""
+        power = tuple(r.power for r in self.rows)
+        return Trace(tuple(r.ops for r in self.rows), power if any(power) else ())
 
     def mismatches(self) -> list[tuple[int, int, int]]:
         """(cycle, port index, differing bits) for every mismatch."""
@@ -274,12 +297,16 @@ class RunRecord(Generic[F]):
     failure: F | None = None
     seconds: float = 0.0
     build_seconds: float = 0.0
+    #: The simulation image was already up to date: ``build_seconds`` only checked it.
+    build_reused: bool = False
     out_dir: Path | None = None
     replay_file: Path | None = None
     waveform_file: Path | None = None
     reproduced: bool | None = None
     notes: tuple[str, ...] = ()
     unconnected_inputs: tuple[str, ...] = ()
+    #: Pin -> width as the RTL declares it (empty when the RTL was not elaborated).
+    pin_widths: dict[str, int] = field(default_factory=dict)
     extra: dict[str, object] = field(default_factory=dict)
 
     @property
@@ -287,9 +314,14 @@ class RunRecord(Generic[F]):
         return self.verdict == CheckVerdict.PASS
 
     @property
+    def build_text(self) -> str:
+        """``build 1.3 s``, or ``build reused, 0.0 s`` when the image was already up to date."""
+        return f"build {'reused, ' if self.build_reused else ''}{self.build_seconds:.1f} s"
+
+    @property
     def unchecked(self) -> list[str]:
-        """Behaviours the contract leaves unknown, so no job checks them."""
-        return self.contract.unchecked_behaviours()
+        """Behaviours the contract leaves unknown, so no job checks them (only those this RTL can have)."""
+        return unchecked_behaviours(self.contract, self.pin_widths or None)
 
     @property
     def replay_command(self) -> str | None:
@@ -316,6 +348,13 @@ class CheckResult(RunRecord[Failure]):
 
     replayed: CheckedTrace | None = None
     error: str | None = None
+    #: The cover points of the contract with their hit counts (None when no phase ran).
+    coverage: Coverage | None = None
+
+    @property
+    def covered(self) -> bool:
+        """True when every cover point of the contract was hit (what ``--require-coverage`` asks)."""
+        return self.coverage is None or not self.coverage.holes
 
     @property
     def operations(self) -> int:
@@ -328,7 +367,7 @@ class CheckResult(RunRecord[Failure]):
     def summary(self) -> str:
         """A few lines for an assertion message or a log: verdict, phases, seed, time, replay command."""
         verdict = {"pass": "conforms", "fail": "DIFFERENCE FOUND", "error": "ERROR"}[self.verdict]
-        lines = [f"{self.name}: {verdict}"]
+        lines = [f"{self.name}: {verdict}" + ("" if self.coverage is None else f"; {self.coverage.summary()}")]
         if self.error:
             lines.append(self.error)
         if self.phases:
@@ -339,7 +378,7 @@ class CheckResult(RunRecord[Failure]):
                     for p in self.phases
                 )
             )
-        lines.append(f"seed {self.seed}; {self.seconds:.1f} s (build {self.build_seconds:.1f} s)")
+        lines.append(f"seed {self.seed}; {self.seconds:.1f} s ({self.build_text})")
         if self.failure is not None:
             f = self.failure
             first = f.checked.first_mismatch
@@ -396,7 +435,7 @@ class MarchRunResult(RunRecord[MarchFailure]):
             f = self.failure
             lines.append(f"FAIL at cycle {f.cycle}: {f.description}")
             lines.append(f"failed: {' and '.join(f.failed_checks)}")
-        lines.append(f"{self.seconds:.1f} s (build {self.build_seconds:.1f} s)")
+        lines.append(f"{self.seconds:.1f} s ({self.build_text})")
         return "\n".join(lines)
 
 

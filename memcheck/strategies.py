@@ -40,16 +40,21 @@ __all__ = [
 EXTRA_ADDRESS_BITS = 2
 
 
-def driven_address_bits(contract: Contract) -> int:
-    """Address bits a trace drives: the minimum, or a few more when addresses beyond it are checked."""
+def driven_address_bits(contract: Contract, pin_bits: int | None = None) -> int:
+    """Address bits a trace drives: the minimum, or, when addresses beyond ``words`` are checked
+    (``out_of_range`` "ignore" or "wrap"), the address pins' full width ``pin_bits`` (a few bits more
+    than the minimum when it is not known)."""
     m = contract.memory
-    return m.address_bits + (EXTRA_ADDRESS_BITS if m.out_of_range != "unchecked" else 0)
+    if m.out_of_range == "unchecked":
+        return m.address_bits
+    return max(pin_bits, m.address_bits) if pin_bits is not None else m.address_bits + EXTRA_ADDRESS_BITS
 
 
-def hot_addresses(contract: Contract) -> list[int]:
-    """Addresses where wrapper bugs hide, smallest first (0 first so that shrinking ends there)."""
+def hot_addresses(contract: Contract, pin_bits: int | None = None) -> list[int]:
+    """Addresses where wrapper bugs hide, smallest first (0 first so that shrinking ends there); with
+    out-of-range addresses checked, also just above ``words`` and at the top of the pin range."""
     m = contract.memory
-    limit = 1 << driven_address_bits(contract)
+    limit = 1 << driven_address_bits(contract, pin_bits)
     hot: set[int] = {0, m.words - 1, m.words // 2, m.words // 4, 3 * m.words // 4}
     p = 1
     while p < limit:
@@ -60,11 +65,11 @@ def hot_addresses(contract: Contract) -> list[int]:
     return sorted(a for a in hot if 0 <= a < limit)
 
 
-def addresses(contract: Contract) -> st.SearchStrategy[int]:
+def addresses(contract: Contract, pin_bits: int | None = None) -> st.SearchStrategy[int]:
     """One address: usually a hot one, sometimes a neighbour one bit away, sometimes any."""
-    bits = driven_address_bits(contract)
+    bits = driven_address_bits(contract, pin_bits)
     limit = 1 << bits
-    hot = hot_addresses(contract)
+    hot = hot_addresses(contract, pin_bits)
     one_bit_apart = st.tuples(st.sampled_from(hot), st.integers(0, bits - 1)).map(lambda t: t[0] ^ (1 << t[1]))
     return st.one_of(st.sampled_from(hot), one_bit_apart, st.integers(0, limit - 1))
 
@@ -220,27 +225,69 @@ def traces(
     max_pool: int = 4,
     drain: bool = True,
     first_tick: int = 0,
+    pin_bits: int | None = None,
 ) -> st.SearchStrategy[Trace]:
     """A trace of blocks over a small pool of hot addresses.
 
     With ``drain`` the trace ends with ``read_latency`` quiet cycles, so the result of every read in
     it is observed within the trace. With several clocks the trace starts at tick ``first_tick`` of
-    the timeline (a model that has already stepped k times stands at tick k).
+    the timeline (a model that has already stepped k times stands at tick k). ``pin_bits``: the width
+    of the address pins, driven in full when out-of-range addresses are checked.
     """
     plan = _Plan(contract, max_pool)
-    pools = st.lists(addresses(contract), min_size=1, max_size=max_pool, unique=True)
+    pools = st.lists(addresses(contract, pin_bits), min_size=1, max_size=max_pool, unique=True)
     blocks = st.lists(plan.block, min_size=min_blocks, max_size=max_blocks)
     tail = tuple(drain_cycle(contract) for _ in range(contract.memory.read_latency)) if drain else ()
+
+    if contract.power is not None:
+        on = plan.block.map(lambda b: (b, [Power.ON] * len(b)))
+        powered = st.lists(st.one_of(on, _power_block(plan, contract)), min_size=min_blocks, max_size=max_blocks)
 
     @st.composite
     def draw_trace(draw: st.DrawFn) -> Trace:
         pool = draw(pools)
-        raw = [c for b in draw(blocks) for c in b]
+        power: list[Power] = []
+        if contract.power is not None:
+            parts = draw(powered)
+            raw = [c for b, _ in parts for c in b]
+            power = [p for _, ps in parts for p in ps] + [Power.ON] * len(tail)
+        else:
+            raw = [c for b in draw(blocks) for c in b]
         cycles = _fit(contract, [tuple(_resolve(r, pool) for r in c) for c in raw] + list(tail), first_tick)
-        power = draw(power_states(contract, len(cycles))) if contract.power is not None else ()
-        return Trace(tuple(cycles), tuple(power))
+        return Trace(tuple(cycles), tuple(power) if any(power) else ())
 
     return draw_trace()
+
+
+def _power_block(plan: _Plan, contract: Contract) -> st.SearchStrategy[tuple[list[tuple[_Raw, ...]], list[Power]]]:
+    """A power episode placed where power bugs hide: a write just before the power pins are asserted,
+    a few cycles of any operations while they are (ignored by the memory), any operations on the
+    wake-up edges and right after them, then a read of the address written before the episode."""
+    spec = contract.power
+    assert spec is not None
+    states = [s for s, pin in ((Power.SLEEP, spec.sleep), (Power.SHUTDOWN, spec.shutdown)) if pin is not None]
+    wake = spec.wake_cycles
+    can_access = bool(contract.ports) and any(p.can_write for p in contract.ports)
+    can_read = any(p.can_read for p in contract.ports)
+
+    @st.composite
+    def block(draw: st.DrawFn) -> tuple[list[tuple[_Raw, ...]], list[Power]]:
+        ai = draw(plan.index)
+        state = draw(st.sampled_from(states))
+        k = draw(st.integers(1, 4))
+        before = list(draw(plan.rest_cycle))
+        if can_access:
+            data, lanes = draw(plan.payload)
+            before[draw(plan.writer)] = (OpKind.WRITE, ai, data, lanes)
+        asleep = [draw(plan.cycle) for _ in range(k)]
+        woken = [draw(plan.cycle) for _ in range(wake + 1)]
+        after = list(draw(plan.rest_cycle))
+        if can_read:
+            after[draw(plan.reader)] = (OpKind.READ, ai)
+        cycles = [tuple(before), *asleep, *woken, tuple(after)]
+        return cycles, [Power.ON, *[state] * k, *[Power.ON] * (wake + 2)]
+
+    return block()
 
 
 def _fit(contract: Contract, cycles: list[Cycle], first_tick: int) -> list[Cycle]:

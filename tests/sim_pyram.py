@@ -15,7 +15,10 @@ from memcheck.ops import OpKind
 from memcheck.records import Observed
 from memcheck.sim.checking.sequences import Segment
 
-BUGS = ("none", "swap_lanes", "stale_bypass", "late_data", "no_lane_mask", "decay", "posted_write")
+BUGS = ("none", "swap_lanes", "stale_bypass", "late_data", "no_lane_mask", "decay", "race", "posted_write")
+#: Bugs that are not a fixed function of the inputs: "race" corrupts one read, once per PyRam, the way
+#: a same-edge race in RTL shows under one process order and not under another.
+ONE_OFF_BUGS = ("race",)
 
 
 def contract(words: int = 16, width: int = 8, lane_width: int = 4) -> Contract:
@@ -46,6 +49,8 @@ class PyRam:
         # arrives the oldest entry is committed with the address of the newest (a pointer off by one),
         # so a word shows its old contents once two more writes have followed the write to it.
         self.posted: list[tuple[int, int, int]] = []  # (address, data, bits), oldest first
+        self.raced = False  # "race": the first read right after a lane write to its address, once, is wrong
+        self.lane_write_at: dict[int, int] = {}
 
     def _bits(self, lanes: int | None) -> int:
         m = self.c.memory
@@ -67,6 +72,9 @@ class PyRam:
                     word = self.bypass[1]
                 if self.bug == "decay" and self.now - self.written_at.get(address, self.now) > 12:
                     word ^= 1
+                if self.bug == "race" and not self.raced and self.lane_write_at.get(address) == self.now - 1:
+                    word ^= 1
+                    self.raced = True
                 new_rdata = (word, self.mask)
             else:
                 new_rdata = (0, 0)
@@ -77,6 +85,8 @@ class PyRam:
             old = self.mem.get(address, 0)
             self.mem[address] = (old & ~bits) | (data & bits)
             self.written_at[address] = self.now
+            if lanes is not None:
+                self.lane_write_at[address] = self.now
             if bits == self.mask:
                 self.bypass = (address, data)
         self.prev = self.rdata

@@ -17,6 +17,7 @@ from memcheck.cli import main
 from memcheck.examples import examples_dir
 
 REGFILE = str(examples_dir() / "regfile" / "contract.toml")
+REGFILE_V = str(examples_dir() / "regfile" / "regfile_wrap.v")
 W8 = ("--words", "8", "--width", "8")
 
 BAD_ARGS: list[tuple[tuple[str, ...], tuple[str, ...]]] = [
@@ -57,8 +58,14 @@ BAD_ARGS: list[tuple[tuple[str, ...], tuple[str, ...]]] = [
     # contract
     (("contract", "validate", "missing.toml"), ("missing.toml", "cannot read")),
     (("contract", "validate"), ("missing argument",)),
+    (("contract", "draft", REGFILE_V), ("--top",)),
+    (("contract", "draft", "--top", "regfile_wrap"), ("missing argument",)),
+    (("contract", "draft", "missing.v", "--top", "x"), ("missing.v", "does not exist")),
+    (("contract", "draft", REGFILE_V, "--top", "regfile_wrap", "-o", REGFILE), ("already exists", "--force")),
     # simulator commands, refused before any simulation
     (("check", "missing.toml"), ("missing.toml", "cannot read")),
+    (("check", REGFILE, REGFILE), ("named twice",)),
+    (("check", REGFILE, "other.toml", "-j", "0"), ("--jobs", "0")),
     (("check", REGFILE, "--phases", "smoke,bogus"), ("--phases", "bogus")),
     (("check", REGFILE, "--examples", "-3"), ("--examples",)),
     (("check", REGFILE, "--stall-timeout", "0"), ("--stall-timeout",)),
@@ -70,6 +77,7 @@ BAD_ARGS: list[tuple[tuple[str, ...], tuple[str, ...]]] = [
     (("march", "run", REGFILE, "MATS+", "--layout", "3x3"), ("layout 3x3",)),
     (("march", "run", REGFILE, "MATS+", "--max-ops", "0"), ("--max-ops",)),
     (("demo", "--examples", "-1"), ("--examples",)),
+    (("check", REGFILE, "--directed-examples", "-1"), ("--directed-examples",)),
     # bist campaign / faulty-memory (refused before any simulation)
     (("bist", "campaign", "MATS+", "--words", "16", "--faults", "SAF,NPSF"), ("unknown fault class", "NPSF")),
     (("bist", "campaign", "MATS+", "--words", "16", "--layout", "3x4"), ("layout 3x4", "16")),
@@ -111,9 +119,11 @@ sys.exit(main(sys.argv[1:]))
     "argv",
     [
         ("check", REGFILE),
+        ("check", REGFILE, REGFILE + "x", "-j", "2"),
         ("replay", "missing.json"),
         ("march", "run", REGFILE, "MATS+"),
         ("demo", "--examples", "1", "--bulk-examples", "0"),
+        ("contract", "draft", REGFILE_V, "--top", "regfile_wrap"),
     ],
 )
 def test_simulator_commands_without_the_sim_extra_name_it(argv: tuple[str, ...], tmp_path: Path) -> None:

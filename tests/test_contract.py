@@ -407,7 +407,9 @@ def test_lane_enable_pin_of_the_wrong_width_is_one_paragraph() -> None:
             ("doutb", "output", 33),
         ]
     }
-    with pytest.raises(SimulationError, match=r"'wea' .* is 4 bits wide, but the contract needs 5 bits"):
+    with pytest.raises(
+        SimulationError, match=r"'wea' .* is \[3:0\] \(4 bits wide\), but the contract needs \[4:0\] \(5 bits\)"
+    ):
         check_pins(c, ports, "tdp")
 
 

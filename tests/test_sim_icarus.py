@@ -231,7 +231,7 @@ def test_rtl_that_does_not_compile_shows_the_compilers_lines(tmp_path: Path, cap
 @pytest.mark.parametrize(
     ("pins", "expect"),
     [
-        ({"rdata": "q"}, r"no pin 'q' \(port 'a' read data, output, 16 bits\). Its ports are: input clk"),
+        ({"rdata": "q"}, r"no pin 'q' \(port 'a' read data, output, \[15:0\] \(16 bits\)\). Its ports are: input clk"),
         ({"be": "addr2"}, r"no pin 'addr2'"),
     ],
 )
@@ -249,7 +249,7 @@ def test_width_mismatch_names_pin_and_widths(tmp_path: Path, capsys) -> None:  #
     rc, _, err = _cli(["check", str(path), "--out", str(tmp_path / "o")], capsys)
     assert rc == 2
     flat = " ".join(err.split())
-    assert "pin 'wdata'" in flat and "is 16 bits wide, but the contract needs 32 bits" in flat
+    assert "pin 'wdata'" in flat and "is [15:0] (16 bits wide), but the contract needs [31:0] (32 bits)" in flat
 
 
 def test_a_stalled_simulation_is_stopped_and_located(tmp_path: Path, capsys) -> None:  # type: ignore[no-untyped-def]

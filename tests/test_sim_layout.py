@@ -128,13 +128,15 @@ def test_capture_decoding_keeps_x_and_z_per_bit() -> None:
 def test_pin_problems_name_the_pin_width_and_actual_ports() -> None:
     c = parse_contract(CONTRACT)
     missing = {k: v for k, v in PORTS.items() if k != "q"}
-    with pytest.raises(SimulationError, match=r"no pin 'q'.*16 bits.*Its ports are: .*input \[8\] addr"):
+    with pytest.raises(SimulationError, match=r"no pin 'q'.*16 bits.*Its ports are: .*input \[7:0\] addr"):
         check_pins(c, missing, "wrap")
     narrow = dict(PORTS, wdata=TopPort("wdata", "input", 12))
-    with pytest.raises(SimulationError, match=r"'wdata'.*is 12 bits wide, but the contract needs 16 bits"):
+    with pytest.raises(
+        SimulationError, match=r"'wdata'.*is \[11:0\] \(12 bits wide\), but the contract needs \[15:0\] \(16 bits\)"
+    ):
         check_pins(c, narrow, "wrap")
     short_addr = dict(PORTS, addr=TopPort("addr", "input", 5))
-    with pytest.raises(SimulationError, match=r"'addr'.*at least 6 bits for 48 words"):
+    with pytest.raises(SimulationError, match=r"'addr'.*at least \[5:0\] \(6 bits\) for 48 words"):
         check_pins(c, short_addr, "wrap")
     wrong_dir = dict(PORTS, q=TopPort("q", "input", 16))
     with pytest.raises(SimulationError, match=r"'q'.*is an input.*needs an output"):

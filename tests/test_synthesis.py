@@ -272,3 +272,79 @@ def test_shortest_library_test_saf_af_is_mats_plus() -> None:
     Computing Surveys 15(3), 1983; value written from memory)."""
     fb = shortest_library_test(Arrangement(64, 1), ("SAF", "AF"))
     assert fb is not None and fb.name == "MATS+" and fb.length == 5
+
+
+# --- the beam search: an upper bound the exact search then proves or beats ------------------------
+
+
+def test_narrow_beam_overshoots_and_the_exact_search_still_finds_the_minimum() -> None:
+    """A one-state beam finds a CFid test longer than the 10n minimum (March C-'s length); the exact
+    search then rules out every shorter length but finds the 10n test, so the answer is minimal and
+    comes from the exact search. The beam's own test is a real test: the reference engine confirms it."""
+    result = synthesize("CFid", words=8, beam_width=1)
+    beam = result.beam
+    assert beam is not None and beam.steps is not None and beam.length is not None
+    assert beam.length > result.length == 10  # type: ignore[operator]
+    assert result.minimal and result.found_by == "exact search"
+    assert _reference_all_detected(to_test(beam.steps), "CFid", Arrangement(4))
+
+
+def test_beam_length_proven_when_the_exact_search_rules_out_shorter() -> None:
+    """Where the beam finds the minimum, the exact search only searches below it and proves it."""
+    result = synthesize("SAF,AF,TF,CFin,CFid,CFst", words=16)
+    assert result.found_by == "beam search" and result.minimal
+    assert result.length == result.proof.complete_below == 10
+    assert len(result.proof.states_per_length) == 9  # lengths 1..9 only: the beam bounded the exact search
+
+
+def test_beam_width_zero_is_the_exact_search_alone() -> None:
+    with_beam = synthesize("SAF,AF,TF", words=8)
+    alone = synthesize("SAF,AF,TF", words=8, beam_width=0)
+    assert alone.beam is None and alone.found_by == "exact search"
+    assert alone.length == with_beam.length == 6 and alone.minimal
+
+
+def test_memory_limit_cuts_the_exact_search_and_says_so(capsys: pytest.CaptureFixture[str]) -> None:
+    """A memory limit too small for the exact search: no test is claimed shortest, the cut is named, and
+    the CLI exits 1 with the library comparison."""
+    result = synthesize("SAF,AF,TF,CFin,CFid,CFst", words=8, memory_limit=200_000)
+    assert result.proof.cut_by == "memory limit" and not result.minimal
+    assert result.fallback is not None and result.fallback.name == "March C-"
+    assert result.to_json()["proof"]["cut_by"] == "memory limit"
+
+
+def test_cli_prints_a_found_but_unproven_test_and_exits_1(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
+    out = tmp_path / "s.json"
+    args = ["march", "synthesize", "--faults", "CFid", "--words", "8", "--beam-width", "1", "--max-length", "12"]
+    assert main([*args, "--time-limit", "0.000001", "--json", str(out)]) == 1
+    text = capsys.readouterr().out
+    data = json.loads(out.read_text())
+    assert data["found"] is False and data["minimal"] is False and data["proof"]["cut_by"] == "time limit"
+    assert "before any length was searched to the end" in text
+    assert "March C- (10n)" in text  # the library comparison stands in for the missing test
+    # a memory limit the one-state beam fits in but the exact search does not: the beam's test, unproven
+    result = synthesize("CFid", words=8, beam_width=1, memory_limit=120_000)
+    assert result.test is not None and not result.minimal and result.found_by == "beam search"
+    assert result.proof.cut_by == "memory limit" and result.proof.complete_below < result.length  # type: ignore[operator]
+    assert _reference_all_detected(result.test, "CFid", Arrangement(4))
+    assert main(["march", "synthesize", "--faults", "CFid", "--beam-width", "-1"]) == 2
+    assert main(["march", "synthesize", "--faults", "CFid", "--beam-width", "-1"]) == 2
+
+
+@pytest.mark.slow
+def test_all_static_faults_beam_finds_18n_confirmed_by_reference_engine() -> None:
+    """Every static single- and two-cell class the search models (SOF and DRF aside): the beam finds a
+    test of March MSS's length, 18n (G. Harutyunyan, V. A. Vardanian, Y. Zorian, "Minimal March tests for
+    unlinked static faults in random access memories", VTS 2005; value written from memory), shorter than
+    March SS's 22n (S. Hamdioui, A. J. van de Goor, M. Rodgers, "March SS: a test for all static simple RAM
+    faults", MTDT 2002), and the reference engine confirms it detects every instance."""
+    from memcheck.faults.universe import STATIC_CLASSES
+    from memcheck.synthesis.api import _setup, parse_fault_classes
+    from memcheck.synthesis.beam import BeamSearch, beam_search
+    from memcheck.synthesis.passes import expand_passes
+
+    classes = ",".join(c for c in STATIC_CLASSES if c not in ("DRF", "SOF"))
+    model = expand_passes(build_model(parse_fault_classes(classes), _setup(8, 1, "linear", None, 1)))
+    found = beam_search(BeamSearch(model, first_writes=(0,), first_directions=(UP,), width=100), 24)
+    assert found.steps is not None and found.length is not None and found.length <= 18
+    assert _reference_all_detected(to_test(found.steps), classes, Arrangement(4))

@@ -75,6 +75,8 @@ def _register_commands() -> None:
         "bist_cmds",
         "campaign_cmds",
         "diagnose_cmds",
+        "draft_cmds",
+        "mutate_cmds",
     ):
         try:
             __import__(f"memcheck.cli.{optional}")

@@ -79,7 +79,14 @@ def run_check(
 
 
 @cli.command("check")
-@click.argument("contract_file", type=click.Path(dir_okay=False))
+@click.argument("contract_files", metavar="CONTRACT_FILE...", nargs=-1, required=True, type=click.Path(dir_okay=False))
+@click.option(
+    "--jobs",
+    "-j",
+    type=click.IntRange(min=1),
+    default=None,
+    help="Several contracts: worker processes at a time [default: the processors available].",
+)
 @click.option(
     "--examples",
     type=click.IntRange(min=0),
@@ -106,13 +113,26 @@ def run_check(
     show_default=True,
     help="Skip the sweep when it would take more operations than this.",
 )
+@click.option(
+    "--directed-examples",
+    type=click.IntRange(min=0),
+    default=DEFAULTS.directed_examples,
+    show_default=True,
+    help="Directed examples the property phase may add for cover points the random examples left unhit.",
+)
+@click.option(
+    "--require-coverage",
+    is_flag=True,
+    help="Exit 1 when any cover point of the contract was not hit (the holes are named).",
+)
 @pause_cycles_option
 @output_options(
     "Folder for the build, replay file, waveform and text report [default: memcheck-out/NAME].",
     "Do not write the waveform of a failing trace.",
 )
 def check(
-    contract_file: str,
+    contract_files: tuple[str, ...],
+    jobs: int | None,
     phases: str,
     json_file: str | None,
     junit_file: str | None,
@@ -127,10 +147,26 @@ def check(
     thousands of operations); on a difference prints the
     shortest trace found with expected and actual data bit by bit, writes a replay file and a waveform,
     and exits 1. Exit 0: conforms (for the modelled behaviour only; not sign-off). Exit 2: bad input.
+    The report lists the cover points of the contract with their hit counts; holes change the exit
+    code only with --require-coverage.
+
+    Several CONTRACT_FILEs run in parallel worker processes (-j), one seed for all, each in its own
+    output folder (under --out when given); one summary table; the exit code is the worst verdict's,
+    and --json/--junit cover every contract.
     """
     opts = DEFAULTS.replace(phases=_parse_phases(phases), out_dir=out_dir, waveform=not no_waveform, **fields)
-    result = run_check(contract_file, opts, json_file=json_file, junit_file=junit_file, quiet=quiet)
-    return EXIT_OK if result.passed else EXIT_FAIL
+    if len(contract_files) > 1:
+        from memcheck.cli.check_many import run_many
+
+        many = opts.replace(seed=resolve_seed(opts.seed))
+        return run_many(contract_files, many, jobs=jobs, json_file=json_file, junit_file=junit_file, quiet=quiet)
+    result = run_check(contract_files[0], opts, json_file=json_file, junit_file=junit_file, quiet=quiet)
+    if not result.passed:
+        return EXIT_FAIL
+    if opts.require_coverage and not result.covered and result.coverage is not None:
+        click.echo(f"--require-coverage: cover points not hit: {result.coverage.hole_text()}.", err=True)
+        return EXIT_FAIL
+    return EXIT_OK
 
 
 @cli.command("replay")

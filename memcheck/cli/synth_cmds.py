@@ -13,7 +13,7 @@ from memcheck.cli import EXIT_FAIL, EXIT_OK
 from memcheck.cli._options import address_order_options, resolve_seed, seed_option
 from memcheck.cli.march_cmds import march_group
 from memcheck.faults import DISCLAIMER
-from memcheck.synthesis import DEFAULT_MAX_LENGTH, DEFAULT_WORDS, SynthesisResult, synthesize
+from memcheck.synthesis import DEFAULT_BEAM_WIDTH, DEFAULT_MAX_LENGTH, DEFAULT_WORDS, SynthesisResult, synthesize
 
 
 def _coverage_table(result: SynthesisResult) -> Table:
@@ -39,36 +39,66 @@ def _proof_lines(result: SynthesisResult) -> list[str]:
     return lines
 
 
+def _show_test(result: SynthesisResult) -> None:
+    t = result.test
+    assert t is not None
+    classes = ",".join(result.classes)
+    if result.minimal:
+        click.echo(f"shortest test for {classes}: {t.length}n" + (f" + {t.delays} delay(s)" if t.delays else ""))
+    else:
+        p = result.proof
+        click.echo(
+            f"shortest test found for {classes}: {t.length}n (by the {result.found_by}; not proven shortest: the "
+            f"{p.cut_by} cut the exact search, which ruled out every length ≤ {p.complete_below - 1})"
+        )
+    if result.report is not None and len(result.report.backgrounds) > 1:
+        bgs = result.report.backgrounds
+        click.echo(f"  run once per background ({', '.join(bgs)}): {t.length * len(bgs)} operations per word")
+    click.echo(f"  {t.to_unicode()}")
+    click.echo(f"  {t.to_ascii()}")
+    click.echo("⇕ elements were confirmed in both address directions.")
+    Console().print(_coverage_table(result))
+
+
+def _beam_line(result: SynthesisResult) -> str | None:
+    b = result.beam
+    if b is None:
+        return None
+    states = f"{b.width} state{'s' if b.width != 1 else ''}"
+    head = f"beam search (best {states} per length, elements of up to {b.max_element} operations)"
+    if b.length is not None:
+        return (
+            f"{head}: found {b.length}n in {b.seconds:.2f} s, an upper bound; the exact search then tried every "
+            "shorter length."
+        )
+    cut = f", cut by the {b.cut_by}" if b.cut_by else ""
+    return f"{head}: found no test in {b.seconds:.2f} s{cut}."
+
+
 def _report(result: SynthesisResult, max_length: int) -> int:
     classes = ",".join(result.classes)
-    if result.test is not None:
-        t = result.test
-        click.echo(f"shortest test for {classes}: {t.length}n" + (f" + {t.delays} delay(s)" if t.delays else ""))
-        if result.report is not None and len(result.report.backgrounds) > 1:
-            bgs = result.report.backgrounds
-            click.echo(f"  run once per background ({', '.join(bgs)}): {t.length * len(bgs)} operations per word")
-        click.echo(f"  {t.to_unicode()}")
-        click.echo(f"  {t.to_ascii()}")
-        click.echo("⇕ elements were confirmed in both address directions.")
-        Console().print(_coverage_table(result))
-        for line in _proof_lines(result):
-            click.echo(line)
-        click.echo(DISCLAIMER)
-        return EXIT_OK
     p = result.proof
-    if p.timed_out:
-        click.echo(
-            f"the time limit cut the search: no test of length ≤ {p.complete_below - 1} detects every instance of "
-            f"{classes}; longer lengths were not searched to the end, so no shortest test is proven."
-        )
-        if result.fallback is not None:
-            fb = result.fallback
-            click.echo(f"shortest library test that detects them here: {fb.name} ({fb.length}n) {fb.to_unicode()}")
+    if result.test is not None:
+        _show_test(result)
+    elif p.cut_by is not None:
+        if p.complete_below > 1:
+            click.echo(
+                f"the {p.cut_by} cut the search: no test of length ≤ {p.complete_below - 1} detects every instance "
+                f"of {classes}; longer lengths were not searched to the end, so no shortest test is proven."
+            )
+        else:
+            click.echo(f"the {p.cut_by} cut the search before any length was searched to the end; no test is proven.")
     else:
         click.echo(f"no test of length ≤ {max_length} detects every instance of {classes} (searched exhaustively).")
-    for line in _proof_lines(result):
+    fb = result.fallback
+    if fb is not None and not result.minimal:
+        click.echo(f"shortest library test that detects them here: {fb.name} ({fb.length}n) {fb.to_unicode()}")
+    beam = _beam_line(result)
+    for line in [*_proof_lines(result), *([beam] if beam else [])]:
         click.echo(line)
-    return EXIT_FAIL
+    if result.test is not None:
+        click.echo(DISCLAIMER)
+    return EXIT_OK if result.minimal else EXIT_FAIL
 
 
 @march_group.command("synthesize")
@@ -82,7 +112,19 @@ def _report(result: SynthesisResult, max_length: int) -> int:
     help="Data backgrounds, at most 3 (the test runs once per background; default: solid).",
 )
 @click.option("--max-length", type=int, default=DEFAULT_MAX_LENGTH, show_default=True, help="Longest test tried.")
-@click.option("--time-limit", type=float, default=None, help="Stop the search after S seconds.")
+@click.option(
+    "--time-limit",
+    type=float,
+    default=None,
+    help="Stop the search after S seconds (the beam search takes at most half; the exact search the rest).",
+)
+@click.option(
+    "--beam-width",
+    type=click.IntRange(min=0),
+    default=DEFAULT_BEAM_WIDTH,
+    show_default=True,
+    help="States the beam search keeps per length (0: exact search only).",
+)
 @seed_option
 @click.option("--json", "json_path", type=click.Path(dir_okay=False), help="Write the result as JSON (atomically).")
 def synthesize_cmd(
@@ -94,13 +136,15 @@ def synthesize_cmd(
     backgrounds: str | None,
     max_length: int,
     time_limit: float | None,
+    beam_width: int,
     seed: int | None,
     json_path: str | None,
 ) -> int:
     """Search the shortest March test that detects every instance of the fault classes on the memory.
 
     Exit codes: 0 a shortest test was found (minimal within the search space), 1 none of length up to
-    --max-length (or the time limit cut the search), 2 bad input.
+    --max-length, or the time or memory limit cut the exact search (the shortest test found so far is
+    still printed), 2 bad input.
     """
     used_seed = resolve_seed(seed)
     click.echo(
@@ -116,6 +160,7 @@ def synthesize_cmd(
         seed=used_seed,
         max_length=max_length,
         time_limit=time_limit,
+        beam_width=beam_width,
     )
     code = _report(result, max_length)
     if json_path:

@@ -2,15 +2,30 @@
 
 from __future__ import annotations
 
+from collections.abc import Mapping
+
 from memcheck.contract.spec import Contract
 
 
-def unchecked_behaviours(c: Contract) -> list[str]:
-    """Behaviours the contract leaves unknown (never checked), for behaviours this memory can have."""
-    return _single_clock_unchecked(c) + _clock_unchecked(c) + _power_unchecked(c)
+def unchecked_behaviours(c: Contract, pin_widths: Mapping[str, int] | None = None) -> list[str]:
+    """Behaviours the contract leaves unknown (never checked), for behaviours this memory can have.
+
+    ``pin_widths`` (pin -> width, as the RTL declares them; None when not known) drops what the
+    RTL cannot have: the undriven upper address bits of address pins exactly as wide as ``words``
+    needs.
+    """
+    return _single_clock_unchecked(c, pin_widths) + _clock_unchecked(c) + _power_unchecked(c)
 
 
-def _single_clock_unchecked(c: Contract) -> list[str]:
+def _wider_address_pins(c: Contract, pin_widths: Mapping[str, int] | None) -> bool:
+    """Whether some address pin has bits above the ones ``words`` needs (unknown widths: assume so)."""
+    if pin_widths is None:
+        return True
+    bits = c.memory.address_bits
+    return any(pin_widths.get(p.address, bits + 1) > bits for p in c.ports)
+
+
+def _single_clock_unchecked(c: Contract, pin_widths: Mapping[str, int] | None = None) -> list[str]:
     m = c.memory
     out: list[str] = []
     writers = [p for p in c.ports if p.can_write]
@@ -31,7 +46,8 @@ def _single_clock_unchecked(c: Contract) -> list[str]:
                 f"read data of addresses {m.words}..{(1 << m.address_bits) - 1} (beyond words; writes there "
                 "must still change nothing)"
             )
-        out.append(f"address pin bits above bit {m.address_bits - 1}: held at 0, never driven (out_of_range)")
+        if _wider_address_pins(c, pin_widths):
+            out.append(f"address pin bits above bit {m.address_bits - 1}: held at 0, never driven (out_of_range)")
     elif m.out_of_range == "ignore":
         out.append('read data of addresses at or beyond words (out_of_range = "ignore")')
     return out
@@ -39,9 +55,15 @@ def _single_clock_unchecked(c: Contract) -> list[str]:
 
 def _clock_unchecked(c: Contract) -> list[str]:
     m = c.memory
-    if c.lockstep:
-        return []
+    sample = c.timing.sample
     out: list[str] = []
+    if sample is not None and any(p.can_read for p in c.ports):
+        out.append(
+            f"read data from the edge to {sample} ns after it, and after that ([timing] sample): only the "
+            "value at the sample point is compared"
+        )
+    if c.lockstep:
+        return out
     writers = [p for p in c.ports if p.can_write]
     cross = [(r, w) for r in c.ports if r.can_read for w in writers if w.clock != r.clock]
     if cross and m.read_latency == 0:
@@ -110,7 +132,7 @@ def _clock_lines(c: Contract) -> list[tuple[str, str]]:
         if t.sample is not None
         else "just before the port clock's next rising edge"
     )
-    out.append(("[timing] sample", f"read data is sampled {when}"))
+    out.append(("[timing] sample", f"read data is sampled {when}; what it shows before or after that is not checked"))
     out.append(("[timing] timescale", f"{t.timescale} for RTL files without a `timescale directive"))
     return out
 
@@ -142,6 +164,8 @@ def _memory_lines(c: Contract) -> list[tuple[str, str]]:
         f"so address a selects word a mod {m.words}",
     }
     out.append(("[memory] out_of_range", f"{m.out_of_range}: {oor[m.out_of_range]}"))
+    if c.lockstep and m.collision_window:
+        out.append(("[memory] collision_window", "changes nothing here: every port clock has the same edges"))
     if not c.lockstep:
         window = m.collision_window
         out.append(

@@ -12,6 +12,7 @@ from pathlib import Path
 from typing import Any, cast
 
 from memcheck.contract._fields import (
+    did_you_mean,
     get_bool,
     get_choice,
     get_float,
@@ -63,7 +64,7 @@ MEMORY_KEYS = (
     "out_of_range",
     "collision_window",
 )
-RTL_KEYS = ("sources", "top", "parameters", "defines", "include_dirs", "tie")
+RTL_KEYS = ("sources", "top", "parameters", "defines", "include_dirs", "tie", "mutate")
 RESET_KEYS = ("signal", "active_low", "cycles")
 TOP_KEYS = ("memory", "rtl", "reset", "port", "clock", "timing", "power")
 
@@ -292,7 +293,24 @@ def _build_rtl(tbl: Mapping[str, Any] | None, source: str, base_dir: Path | None
         defines=value_table(tbl, "defines", source, s),
         include_dirs=incs,
         tie=value_table(tbl, "tie", source, s, ints_only=True),
+        mutate=_mutate_files(tbl, source, srcs, base),
     )
+
+
+def _mutate_files(tbl: Mapping[str, Any], source: str, srcs: list[str], base: Path) -> tuple[Path, ...]:
+    """``[rtl] mutate``: the sources ``memcheck mutate`` may change, each one of ``sources``."""
+    given = string_list(tbl, "mutate", source, "rtl", required=False, what="a list of files among [rtl] sources")
+    known = {(base / x).resolve(): base / x for x in srcs}
+    out = []
+    for name in given:
+        full = (base / name).resolve()
+        if full not in known:
+            raise ContractError(
+                f"{source}: [rtl] mutate lists {name!r}, which is not among [rtl] sources.{did_you_mean(name, srcs)} "
+                "Allowed: files of [rtl] sources (the wrapper's own RTL, never the macro models)."
+            )
+        out.append(known[full])
+    return tuple(out)
 
 
 def _build_reset(tbl: Mapping[str, Any], source: str) -> ResetSpec:

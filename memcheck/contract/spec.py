@@ -143,6 +143,8 @@ class RtlSpec:
     include_dirs: tuple[Path, ...] = ()
     #: Top-level inputs no port uses, held at a constant (``tie = { regce = 1 }``).
     tie: Mapping[str, int] = field(default_factory=FrozenMap)
+    #: Sources ``memcheck mutate`` may change (``[rtl] mutate``); empty: the file defining ``top``.
+    mutate: tuple[Path, ...] = ()
 
 
 @dataclass(frozen=True)

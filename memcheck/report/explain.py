@@ -12,6 +12,7 @@ from dataclasses import dataclass
 from memcheck.contract import Contract
 from memcheck.ops import OpKind, PortOp
 from memcheck.records import CheckedTrace, CycleRow
+from memcheck.report.lookalike import bits_phrase, issue_row
 
 _RDW = {
     "old": "the old word (the contents before the write)",
@@ -58,7 +59,10 @@ class _Seen:
 
     @property
     def issue_cycle(self) -> int:
-        return self.row.cycle - self.contract.memory.read_latency
+        """The row of the operation whose read data is due here: ``read_latency`` of the port's own
+        edges earlier (with one clock, that many cycles earlier)."""
+        issued = issue_row(self.checked, self.row, self.port, self.contract.memory.read_latency)
+        return self.row.cycle - self.contract.memory.read_latency if issued is None else issued.cycle
 
     @property
     def when(self) -> str:
@@ -81,7 +85,7 @@ def explain(contract: Contract, checked: CheckedTrace) -> Explanation | None:
     p = next(i for i, d in enumerate(first.diff) if d)
     diff, obs = first.diff[p], first.observed[p]
     xz = obs is not None and (diff & ~obs.defined) != 0
-    bits = f"bit{'s' if bin(diff).count('1') > 1 else ''} {_bit_list(diff)}"
+    bits = bits_phrase(diff)
     name = contract.ports[p].name
     prefix = (
         f"Port {name} showed X/Z on {bits} where the contract promises known data. "
@@ -219,13 +223,6 @@ def _last_write(seen: _Seen, addr: int, wc: int, q: int, w: PortOp) -> Explanati
     if seen.row.expected[seen.port].known != m.word_mask:
         detail += " Bits the model does not know are not compared."
     return seen.says(rule, detail, key)
-
-
-def _bit_list(mask: int) -> str:
-    bits = [b for b in range(mask.bit_length()) if mask >> b & 1]
-    if len(bits) > 8:
-        return f"{bits[0]}..{bits[-1]} ({len(bits)} bits)"
-    return ", ".join(str(b) for b in reversed(bits))
 
 
 def _timing_hint(checked: CheckedTrace, row: CycleRow, p: int) -> str:

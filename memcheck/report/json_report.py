@@ -28,6 +28,7 @@ def _common(result: RunRecord[Any], job: str) -> dict[str, Any]:
         "seed": result.seed,
         "seconds": round(result.seconds, 3),
         "build_seconds": round(result.build_seconds, 3),
+        "build_reused": result.build_reused,
         "phases": [p.to_json() for p in result.phases],
         "out_dir": None if result.out_dir is None else str(result.out_dir),
         "replay_file": None if result.replay_file is None else str(result.replay_file),
@@ -81,6 +82,7 @@ def report_dict(result: CheckResult | MarchRunResult) -> dict[str, Any]:
         cycles=result.cycles,
         minimal_trace=_minimal_trace(result),
         error=result.error,
+        coverage=None if result.coverage is None else result.coverage.to_json(),
     )
     return out
 
@@ -102,6 +104,7 @@ def error_dict(
         "cycles": 0,
         "minimal_trace": None,
         "first_failure": None,
+        "coverage": None,
         "error": message,
         "note": DISCLAIMER,
     }

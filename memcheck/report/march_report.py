@@ -9,7 +9,15 @@ from __future__ import annotations
 from typing import Any
 
 from memcheck.records import MarchFailure, MarchRunResult
-from memcheck.report.text import DISCLAIMER, binary_known, hex_known, render_failure, render_notes
+from memcheck.report.lookalike import bits_phrase
+from memcheck.report.text import (
+    DISCLAIMER,
+    binary_known,
+    hex_known,
+    render_failure,
+    render_notes,
+    render_unconnected,
+)
 
 
 def _marks(diff: int, width: int) -> str:
@@ -45,15 +53,14 @@ def value_lines(f: MarchFailure, width: int) -> str:
         out += [f"  {label:<{pad}}  {binary_known(v, k, width)}" for label, v, k in rows]
         out.append(f"  {'differs':<{pad}}  {_marks(f.diff, width)}")
     else:
-        bits = [b for b in range(width - 1, -1, -1) if f.diff >> b & 1]
-        out.append(f"  differing bits: {', '.join(map(str, bits[:32]))}" + (" ..." if len(bits) > 32 else ""))
+        out.append(f"  differing {bits_phrase(f.diff)}")
     note = _which_failed(f)
     return "\n".join(out + ([note] if note else []))
 
 
 def render_march_report(result: MarchRunResult) -> str:
     """The whole text report of a March run."""
-    parts = [result.summary()]
+    parts = [result.summary(), *render_unconnected(result)]
     f = result.failure
     if f is not None:
         parts.append(value_lines(f, result.contract.memory.width))

@@ -10,7 +10,9 @@ from typing import Any
 from memcheck.contract import Contract
 from memcheck.ops import Expected, OpKind, PortOp
 from memcheck.records import CheckedTrace, CheckResult, Observed, RunRecord
+from memcheck.report.coverage_text import render_coverage
 from memcheck.report.explain import explain
+from memcheck.report.lookalike import bits_phrase, lookalike
 
 DISCLAIMER = (
     "Verdicts cover the behaviour modelled by the contract only (behaviours it leaves unknown "
@@ -70,10 +72,8 @@ def _op_cells(contract: Contract, op: PortOp) -> tuple[str, str, str, str]:
 
 
 def _bits_text(diff: int) -> str:
-    bits = [b for b in range(diff.bit_length()) if diff >> b & 1]
-    if len(bits) > 6:
-        return f"{len(bits)} bits"
-    return "bit" + ("s " if len(bits) > 1 else " ") + ",".join(str(b) for b in reversed(bits))
+    text = bits_phrase(diff)
+    return text if len(text) <= 28 else f"{diff.bit_count()} bits"
 
 
 def render_table(contract: Contract, checked: CheckedTrace) -> str:
@@ -114,10 +114,7 @@ def render_table(contract: Contract, checked: CheckedTrace) -> str:
                         f"{pad}differs  {_marks(d, width)}"
                     )
                 else:
-                    details.append(
-                        f"cycle {r.cycle} port {spec.name}: differing bits "
-                        f"{', '.join(str(b) for b in range(width - 1, -1, -1) if d >> b & 1)}"
-                    )
+                    details.append(f"cycle {r.cycle} port {spec.name}: differing {bits_phrase(d)}")
     widths = [max(len(h), *(len(x[i]) for x in lines)) if lines else len(h) for i, h in enumerate(header)]
 
     def fmt(cells: tuple[str, ...]) -> str:
@@ -147,6 +144,9 @@ def render_failure(contract: Contract, checked: CheckedTrace, *, start_text: str
         parts.append(f"Violated: {ex.rule}")
         if ex.detail:
             parts.append(ex.detail)
+    hint = lookalike(contract, checked)
+    if hint is not None:
+        parts.append(f"Hint: {hint}" + ("" if hint.endswith("?") else "."))
     return "\n\n".join(parts)
 
 
@@ -185,9 +185,28 @@ def start_description(preamble: tuple[str, ...], start: str, contract: Contract 
     )
 
 
+def render_unconnected(result: RunRecord[Any]) -> list[str]:
+    """The inputs of the top that nothing drives, as the likely cause: printed right after the summary,
+    before any failure, because an undriven enable, clock or power pin explains every difference."""
+    if not result.unconnected_inputs:
+        return []
+    pins = ", ".join(result.unconnected_inputs)
+    lead = (
+        "Likely cause of the difference below"
+        if result.failure is not None
+        else "Check these first, the verdict depends on them"
+    )
+    return [
+        f"{lead}: inputs of the top module that no contract key names and no [rtl] tie holds: {pins}. "
+        "The check does not drive them (they stay X or Z), so the RTL may do what the contract never "
+        "describes, or an X condition may read as false and hide behaviour. Name each in a port, "
+        "[[clock]], [reset] or [power] key, or hold it at a constant with [rtl] tie = { pin = value }."
+    ]
+
+
 def render_report(result: CheckResult) -> str:
     """The whole human report of a check."""
-    parts = [result.summary()]
+    parts = [result.summary(), *render_unconnected(result)]
     if result.failure is not None:
         f = result.failure
         parts.append(
@@ -203,25 +222,26 @@ def render_report(result: CheckResult) -> str:
         if result.reproduced is False:
             files.append(
                 "note: a fresh replay showed a different mismatch than the check run (the RTL keeps "
-                "state the canonical start does not reset); the replay file records the check run."
+                "state the canonical start does not reset, or its result depends on the order of the "
+                "processes one clock edge wakes: a likely race); the replay file records the check run."
             )
         if files:
             parts.append("\n".join(files))
+    if result.coverage is not None:
+        parts.append(render_coverage(result.coverage))
+    if result.notes:
+        parts.append("\n".join(f"note: {n}" for n in result.notes))
     parts += render_notes(result)
     parts.append(DISCLAIMER)
     return "\n\n".join(parts)
 
 
 def render_notes(result: RunRecord[Any]) -> list[str]:
-    """What every job's report ends with: behaviours not checked, inputs left unconnected."""
+    """What every job's report ends with: behaviours not checked (inputs nothing drives come first,
+    see :func:`render_unconnected`)."""
     parts = []
     if result.unchecked:
         parts.append(
             "Not checked, because the contract leaves them unknown:\n" + "\n".join(f"  - {u}" for u in result.unchecked)
-        )
-    if result.unconnected_inputs:
-        parts.append(
-            "Inputs of the top module that the contract does not name were left unconnected: "
-            + ", ".join(result.unconnected_inputs)
         )
     return parts

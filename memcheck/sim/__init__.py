@@ -6,6 +6,7 @@ Public API::
     result = check_contract("contract.toml", examples=200, seed=1)
     assert result.passed, result.summary()
     march = run_march("contract.toml", "March C-")   # one March test alone on the RTL
+    board = Scoreboard("contract.toml", dut.u_buf).start()  # inside a user's own cocotb test
 
 Layers (each imports only those below it):
 
@@ -39,6 +40,7 @@ if TYPE_CHECKING:
         ReplayResult,
         RunRecord,
     )
+    from memcheck.scoreboard import Scoreboard, ScoreboardMismatch
     from memcheck.sim.jobs.check import check_contract, replay_file
     from memcheck.sim.jobs.march import run_march
     from memcheck.sim.options import SimOptions
@@ -50,6 +52,9 @@ _EXPORTS = {
     "run_march": "memcheck.sim.jobs.march",
     "SimOptions": "memcheck.sim.options",
     "Session": "memcheck.sim.session",
+    # Joins the monitor (sim/plumbing/scoreboard.py) with the report layer's failure table.
+    "Scoreboard": "memcheck.scoreboard",
+    "ScoreboardMismatch": "memcheck.scoreboard",
     "CheckResult": "memcheck.records",
     "CheckVerdict": "memcheck.records",
     "CheckedTrace": "memcheck.records",
@@ -77,6 +82,8 @@ __all__ = [
     "PhaseResult",
     "ReplayResult",
     "RunRecord",
+    "Scoreboard",
+    "ScoreboardMismatch",
     "Session",
     "SimOptions",
     "check_contract",

@@ -47,6 +47,10 @@ class SimOptions:
     sweep_ops: int = SWEEP_OPS
     max_blocks: int = 12
     bulk_shrink_runs: int = BULK_SHRINK_RUNS
+    #: Directed examples the property phase may add for cover points the random ones left unhit.
+    directed_examples: int = 64
+    #: A check that leaves a cover point unhit exits 1 (``memcheck check --require-coverage``).
+    require_coverage: bool = False
     # March tests (the sweep of check and march run)
     backgrounds: str = "standard"
     order: str = "linear"

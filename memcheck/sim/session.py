@@ -105,8 +105,9 @@ class Session:
     def compile(self) -> Build:
         """Build (or reuse) the simulation image; timed as the session's build seconds."""
         if self.build is None:
+            t0 = time.perf_counter()
             self.build = build(self.contract, self.build_dir)
-            self.build_seconds = self.elapsed()
+            self.build_seconds = time.perf_counter() - t0
         return self.build
 
     def launch(self, job: dict[str, Any], folder: str, *, extra_stall: float = 0.0, vcd: bool = False) -> RunResult:
@@ -154,6 +155,8 @@ class Session:
             "seed": self.seed,
             "seconds": self.elapsed(),
             "build_seconds": self.build_seconds,
+            "build_reused": self.build is not None and self.build.reused,
             "out_dir": self.out_dir,
             "unconnected_inputs": self.build.pins.unconnected_inputs if self.build is not None else (),
+            "pin_widths": dict(self.build.pins.widths) if self.build is not None else {},
         }

@@ -14,13 +14,16 @@ from memcheck.synthesis.api import (
     shortest_library_test,
     synthesize,
 )
+from memcheck.synthesis.beam import DEFAULT_BEAM_WIDTH, BeamOutcome
 from memcheck.synthesis.evaluate import detects_all, run_steps, steps_of, to_test
 from memcheck.synthesis.rows import ROW_BUILDERS, RowModel, build_model
 
 __all__ = [
+    "DEFAULT_BEAM_WIDTH",
     "DEFAULT_MAX_LENGTH",
     "DEFAULT_WORDS",
     "ROW_BUILDERS",
+    "BeamOutcome",
     "Proof",
     "RowModel",
     "SynthesisResult",

@@ -15,36 +15,47 @@ from memcheck.faults import CLASSES, DISCLAIMER, Arrangement, CoverageReport, co
 from memcheck.faults.universe import class_named
 from memcheck.march.library import ALGORITHMS
 from memcheck.march.notation import MarchTest
+from memcheck.synthesis.beam import DEFAULT_BEAM_WIDTH, BeamOutcome, BeamSearch, beam_search
 from memcheck.synthesis.elements import DOWN, UP
 from memcheck.synthesis.evaluate import detects_all, to_test
 from memcheck.synthesis.passes import expand_passes
 from memcheck.synthesis.rows import RowModel, build_model, builder_for, complement_closed, mirror_closed
-from memcheck.synthesis.search import Search, SearchOutcome, Step
+from memcheck.synthesis.search import CUT_TIME, Search, SearchOutcome, Step
 
 DEFAULT_WORDS = 64
 DEFAULT_MAX_LENGTH = 32
 MIN_LENGTH = 2  # a test that detects anything writes and reads
 MAX_BACKGROUNDS = 3  # each later pass adds 9 pseudo-rows per row (every start state is tracked)
+BEAM_SHARE = 0.5  # of --time-limit the beam search may take before the exact search starts
+DEFAULT_MEMORY_LIMIT = 4 << 30  # bytes of search states; beyond it the exact search stops (said in the proof)
 _MAX_ANY_CHECK = 6  # ⇕ elements whose 2^k direction assignments are all confirmed with the engine
 
 
 @dataclass(frozen=True)
 class Proof:
     """Why the answer is shortest. ``complete_below``: every length below it was searched
-    exhaustively and no test in the space detects every instance; ``space``: the space's rules."""
+    exhaustively and no test in the space detects every instance; ``space``: the space's rules;
+    ``cut_by``: what stopped the exact search before it finished (``"time limit"``,
+    ``"memory limit"``; None: it finished)."""
 
     space: tuple[str, ...]
     complete_below: int
     states_per_length: tuple[int, ...]
     exhausted: bool
-    timed_out: bool
+    cut_by: str | None
     seconds: float
+
+    @property
+    def timed_out(self) -> bool:
+        return self.cut_by == CUT_TIME
 
 
 @dataclass(frozen=True)
 class SynthesisResult:
     """The outcome: ``test`` (None when none was found), its coverage on the memory, the proof, and
-    for a search cut short the shortest library test that detects the classes (``fallback``)."""
+    for a search cut short the shortest library test that detects the classes (``fallback``).
+    ``found_by``: ``"exact search"`` or ``"beam search"`` (see :mod:`memcheck.synthesis.beam`);
+    ``beam``: what the beam search did (None when it was not run)."""
 
     classes: tuple[str, ...]
     setup: Arrangement
@@ -53,6 +64,8 @@ class SynthesisResult:
     report: CoverageReport | None
     proof: Proof
     fallback: MarchTest | None = None
+    found_by: str | None = None
+    beam: BeamOutcome | None = None
 
     @property
     def length(self) -> int | None:
@@ -60,7 +73,8 @@ class SynthesisResult:
 
     @property
     def minimal(self) -> bool:
-        return self.test is not None and not self.proof.timed_out
+        """The test is proven shortest: every shorter length was searched exhaustively."""
+        return self.test is not None and self.proof.complete_below >= self.test.length
 
     def to_json(self) -> dict[str, Any]:
         s, p = self.setup, self.proof
@@ -73,6 +87,8 @@ class SynthesisResult:
             "seed": s.seed,
             "max_length": self.max_length,
             "found": self.test is not None,
+            "found_by": self.found_by,
+            "minimal": self.minimal,
             "notation": None if self.test is None else self.test.to_unicode(),
             "ascii": None if self.test is None else self.test.to_ascii(),
             "length": self.length,
@@ -82,14 +98,26 @@ class SynthesisResult:
                 "states_per_length": list(p.states_per_length),
                 "exhausted": p.exhausted,
                 "timed_out": p.timed_out,
+                "cut_by": p.cut_by,
                 "seconds": round(p.seconds, 3),
             },
+            "beam": None if self.beam is None else _beam_json(self.beam),
             "fallback": None
             if self.fallback is None
             else {"name": self.fallback.name, "notation": self.fallback.to_unicode(), "length": self.fallback.length},
             "coverage": None if self.report is None else self.report.to_json(),
             "note": DISCLAIMER,
         }
+
+
+def _beam_json(b: BeamOutcome) -> dict[str, Any]:
+    return {
+        "width": b.width,
+        "max_element": b.max_element,
+        "length": b.length,
+        "cut_by": b.cut_by,
+        "seconds": round(b.seconds, 3),
+    }
 
 
 def parse_fault_classes(spec: str | Sequence[str]) -> tuple[str, ...]:
@@ -216,9 +244,17 @@ def synthesize(
     seed: int | None = None,
     max_length: int = DEFAULT_MAX_LENGTH,
     time_limit: float | None = None,
+    beam_width: int = DEFAULT_BEAM_WIDTH,
+    memory_limit: int | None = DEFAULT_MEMORY_LIMIT,
 ) -> SynthesisResult:
     """The shortest March test (in the space of docs/synthesis.md) that detects every instance of
     ``classes`` on a ``words`` x ``width`` memory, from every power-up state.
+
+    A beam search (:mod:`memcheck.synthesis.beam`, ``beam_width`` states per length; 0 skips it)
+    first finds a short test, taking at most half of the time left of ``time_limit``; the exact search then
+    tries every shorter length. The result is proven shortest (:attr:`SynthesisResult.minimal`)
+    when the exact search finishes; when the time limit or ``memory_limit`` (bytes of search
+    states) cuts it, the beam's test is returned with the lengths the exact search ruled out.
 
     Raises:
         SynthesisError: unknown or unsupported class, several data backgrounds, a length bound below
@@ -227,13 +263,52 @@ def synthesize(
     """
     t0 = time.monotonic()
     cls = parse_fault_classes(classes)
+    _check_bounds(max_length, beam_width)
+    setup = _setup(words, width, order, backgrounds, seed)
+    base = build_model(cls, setup)
+    _require_detectable(base, cls, words, width)
+    model = expand_passes(base)
+    comp, mirror = complement_closed(cls), mirror_closed(setup)
+    delay, writes, dirs = "DRF" in cls, (0,) if comp else (0, 1), (UP,) if mirror else (UP, DOWN)
+    deadline = None if time_limit is None else t0 + time_limit
+    beam = None
+    if beam_width > 0:
+        now = time.monotonic()
+        share = None if deadline is None else now + BEAM_SHARE * max(0.0, deadline - now)
+        searcher = BeamSearch(model, delay, writes, dirs, share, memory_limit, width=beam_width)
+        beam = beam_search(searcher, max_length)
+    bound = max_length if beam is None or beam.length is None else beam.length - 1
+    exact: SearchOutcome = Search(model, delay, writes, dirs, deadline, memory_limit).run(bound)
+    proof = Proof(
+        _space(cls, comp, mirror),
+        exact.complete_below,
+        exact.stats.states_per_length,
+        exact.exhausted,
+        exact.cut_by,
+        time.monotonic() - t0,
+    )
+    steps, found_by = (exact.steps, "exact search") if exact.steps is not None else (None, None)
+    if steps is None and beam is not None and beam.steps is not None:
+        steps, found_by = beam.steps, "beam search"
+    fallback = shortest_library_test(setup, cls) if exact.cut_by is not None else None
+    if steps is None:
+        return SynthesisResult(cls, setup, max_length, None, None, proof, fallback, None, beam)
+    report = _confirm(steps, _any_elements(model, steps), setup, cls)
+    proof = replace(proof, seconds=time.monotonic() - t0)
+    return SynthesisResult(cls, setup, max_length, report.test, report, proof, fallback, found_by, beam)
+
+
+def _check_bounds(max_length: int, beam_width: int) -> None:
     if isinstance(max_length, bool) or not isinstance(max_length, int) or max_length < MIN_LENGTH:
         raise SynthesisError(
             f"--max-length {max_length!r} is below any possible test: a March test that detects a fault writes a "
             f"value and reads it back, so it has at least {MIN_LENGTH} operations per word"
         )
-    setup = _setup(words, width, order, backgrounds, seed)
-    base = build_model(cls, setup)
+    if isinstance(beam_width, bool) or not isinstance(beam_width, int) or beam_width < 0:
+        raise SynthesisError(f"--beam-width {beam_width!r} must be a whole number of states, 0 or more (0: no beam)")
+
+
+def _require_detectable(base: RowModel, cls: tuple[str, ...], words: int, width: int) -> None:
     bad = _undetectable(base)
     if bad:
         shown = "; ".join(bad[:5]) + (f"; and {len(bad) - 5} more" if len(bad) > 5 else "")
@@ -242,29 +317,3 @@ def synthesize(
             f"search exhausted every reachable state of these cases without detecting them: {shown}. Drop the "
             "class, or change the geometry or data background."
         )
-    model = expand_passes(base)
-    comp, mirror = complement_closed(cls), mirror_closed(setup)
-    deadline = None if time_limit is None else t0 + time_limit
-    search = Search(
-        model,
-        allow_delay="DRF" in cls,
-        first_writes=(0,) if comp else (0, 1),
-        first_directions=(UP,) if mirror else (UP, DOWN),
-        deadline=deadline,
-    )
-    outcome: SearchOutcome = search.run(max_length)
-    proof = Proof(
-        _space(cls, comp, mirror),
-        outcome.complete_below,
-        outcome.stats.states_per_length,
-        outcome.exhausted,
-        outcome.timed_out,
-        time.monotonic() - t0,
-    )
-    if outcome.steps is None:
-        fb = shortest_library_test(setup, cls) if outcome.timed_out else None
-        return SynthesisResult(cls, setup, max_length, None, None, proof, fb)
-    anys = _any_elements(model, outcome.steps)
-    report = _confirm(outcome.steps, anys, setup, cls)
-    proof = replace(proof, seconds=time.monotonic() - t0)
-    return SynthesisResult(cls, setup, max_length, report.test, report, proof)

@@ -28,6 +28,9 @@ IntArray = npt.NDArray[np.int64]
 
 DELAY = -1  # element length code of a delay element
 CHUNK_BYTES = 1 << 25
+CUT_TIME = "time limit"
+CUT_MEMORY = "memory limit"
+_KEY_OVERHEAD = 64  # bytes a state costs beyond its rows: the seen-set key's object header and hash slot
 
 
 @dataclass(frozen=True)
@@ -50,13 +53,18 @@ class SearchStats:
 class SearchOutcome:
     """``steps`` of a shortest test (None when none was found); ``complete_below``: every length
     below it was searched exhaustively without a test; ``exhausted``: no state is left to extend,
-    so no test of any length exists in the space; ``timed_out``: the time limit cut the search."""
+    so no test of any length exists in the space; ``cut_by``: what stopped the search before it
+    finished (:data:`CUT_TIME` or :data:`CUT_MEMORY`; None: it finished)."""
 
     steps: tuple[Step, ...] | None
     complete_below: int
     exhausted: bool
-    timed_out: bool
+    cut_by: str | None
     stats: SearchStats
+
+    @property
+    def timed_out(self) -> bool:
+        return self.cut_by == CUT_TIME
 
 
 @dataclass
@@ -85,8 +93,10 @@ class _Level:
         return sum(len(s) for s in self.states)
 
 
-class _Timeout(Exception):
-    pass
+class _Cut(Exception):
+    def __init__(self, reason: str) -> None:
+        super().__init__(reason)
+        self.reason = reason
 
 
 @dataclass(eq=False)
@@ -100,8 +110,10 @@ class Search:
     first_writes: tuple[int, ...] = (0, 1)
     first_directions: tuple[int, ...] = (0, 1)
     deadline: float | None = None
+    memory_limit: int | None = None
     levels: list[_Level] = field(default_factory=list)
     seen: set[bytes] = field(default_factory=set)
+    held_bytes: int = 0
 
     def __post_init__(self) -> None:
         m = self.model
@@ -121,7 +133,13 @@ class Search:
     # -- generation ---------------------------------------------------------------------------
     def _check_time(self) -> None:
         if self.deadline is not None and time.monotonic() > self.deadline:
-            raise _Timeout
+            raise _Cut(CUT_TIME)
+
+    def _hold(self, states: int) -> None:
+        """Count ``states`` new states (level arrays and seen-set keys) against the memory limit."""
+        self.held_bytes += states * (2 * self.model.rows + _KEY_OVERHEAD)
+        if self.memory_limit is not None and self.held_bytes > self.memory_limit:
+            raise _Cut(CUT_MEMORY)
 
     def _keep_new(self, states: U8, g: U8) -> IntArray:
         return keep_new(states, g, self.seen)
@@ -141,6 +159,7 @@ class Search:
             e_idx, s_idx = np.divmod(keep, len(src))
             ref = np.stack([np.full(keep.size, g_in), np.full(keep.size, length), e_idx + e0], axis=1)
             level.add(flat[keep], g[keep], k, sel[s_idx], ref)
+            self._hold(keep.size)
 
     def _delays(self, level: _Level, K: int) -> None:
         level.freeze()
@@ -153,10 +172,18 @@ class Search:
             ref = np.stack([g[keep].astype(np.int64), np.full(keep.size, DELAY), np.zeros(keep.size, np.int64)], 1)
             level.add(paused[keep], g[keep], K, keep, ref)
             level.freeze()
+            self._hold(keep.size)
+
+    def _prefix_lengths(self, K: int) -> range:
+        """Lengths of the prefixes a level-``K`` state is built from (all shorter ones here)."""
+        return range(K)
+
+    def _trim(self, level: _Level) -> None:
+        """Hook for searches that keep only part of a level (nothing here: the search is exact)."""
 
     def build_level(self, K: int) -> _Level:
         level = _Level()
-        for k in range(K):
+        for k in self._prefix_lengths(K):
             prev = self.levels[k]
             if not len(prev):
                 continue
@@ -167,6 +194,7 @@ class Search:
                     continue
                 self._extend(level, k, np.flatnonzero(g_all == g_in), int(g_in), es, K - k)
         level.freeze()
+        self._trim(level)  # before the delays: a delayed state's parent is its level's own index
         if self.allow_delay:
             self._delays(level, K)
         return level
@@ -208,10 +236,10 @@ class Search:
                     done = np.flatnonzero(self.model.complete(level.states[0]))
                     if done.size:
                         stats = SearchStats(tuple(counts), time.monotonic() - t0)
-                        return SearchOutcome(self.path(n, int(done[0])), n, False, False, stats)
+                        return SearchOutcome(self.path(n, int(done[0])), n, False, None, stats)
                 if self.exhausted(n):
-                    return SearchOutcome(None, n + 1, True, False, SearchStats(tuple(counts), time.monotonic() - t0))
+                    return SearchOutcome(None, n + 1, True, None, SearchStats(tuple(counts), time.monotonic() - t0))
                 n += 1
-        except _Timeout:
-            return SearchOutcome(None, n, False, True, SearchStats(tuple(counts), time.monotonic() - t0))
-        return SearchOutcome(None, n, False, False, SearchStats(tuple(counts), time.monotonic() - t0))
+        except _Cut as cut:
+            return SearchOutcome(None, n, False, cut.reason, SearchStats(tuple(counts), time.monotonic() - t0))
+        return SearchOutcome(None, n, False, None, SearchStats(tuple(counts), time.monotonic() - t0))

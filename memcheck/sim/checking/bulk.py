@@ -144,8 +144,9 @@ def _no_lane_writes_read(contract: Contract, kind: np.ndarray, lanes: np.ndarray
             kind[(kind[:, p] == WRITE) & given[:, p] & ~lanes[:, p].any(axis=1), p] = READ
 
 
-def decode(contract: Contract, spec: BulkSpec, *, drain: bool = True) -> Columns:
-    """The trace a bulk example stands for (see the module docstring for the byte format)."""
+def decode(contract: Contract, spec: BulkSpec, *, drain: bool = True, address_bits: int | None = None) -> Columns:
+    """The trace a bulk example stands for (see the module docstring for the byte format); addresses
+    span ``address_bits`` bits (default: the minimum for ``words``)."""
     m = contract.memory
     ports = contract.ports
     n_ports = len(ports)
@@ -174,7 +175,7 @@ def decode(contract: Contract, spec: BulkSpec, *, drain: bool = True) -> Columns
     # Operation and address of each record and port.
     table = _op_tables(contract)
     kind_rec = np.stack([table[p][op_byte[:, p] & 7] for p in range(n_ports)], axis=1)
-    abits = m.address_bits
+    abits = address_bits or m.address_bits
     limit = 1 << abits
     asel = op_byte >> 3
     pool = np.array(spec.pool or (0,), dtype=np.int64) % limit

@@ -13,8 +13,18 @@ import numpy as np
 
 from memcheck.contract import Contract
 from memcheck.model import Model
-from memcheck.model_fast import Columns, Contents, expected, expected_rows, limbs_to_ints, mismatch
-from memcheck.ops import Cycle, Expected
+from memcheck.model_fast import (
+    Columns,
+    Contents,
+    expected,
+    expected_rows,
+    ints_to_limbs,
+    limbs_of,
+    limbs_to_ints,
+    mismatch,
+    unsupported,
+)
+from memcheck.ops import Cycle, Expected, Power
 from memcheck.records import CheckedTrace, CycleRow, ModelStart, Observed
 
 
@@ -32,12 +42,13 @@ def compare(
     observed: Sequence[tuple[Observed | None, ...]],
     cycles: Sequence[Cycle],
     start: ModelStart,
+    power: Sequence[Power] = (),
 ) -> CheckedTrace:
-    """Pair up expectations and observations of a trace."""
+    """Pair up expectations and observations of a trace (with its power states, if any)."""
     rows = []
     for k, (ops, exp, obs) in enumerate(zip(cycles, expected, observed, strict=True)):
         diff = tuple(0 if o is None else e.mismatch(o.value, o.defined) for e, o in zip(exp, obs, strict=True))
-        rows.append(CycleRow(k, tuple(ops), tuple(exp), tuple(obs), diff))
+        rows.append(CycleRow(k, tuple(ops), tuple(exp), tuple(obs), diff, power[k] if power else Power.ON))
     return CheckedTrace(start, tuple(rows))
 
 
@@ -55,24 +66,46 @@ def start_contents(contract: Contract, start: ModelStart) -> Contents:
     return "unknown"
 
 
-def expected_for(contract: Contract, start: ModelStart, cycles: Sequence[Cycle]) -> list[tuple[Expected, ...]]:
-    """The model's expectations for ``cycles`` from ``start``."""
-    if len(cycles) >= FAST_MODEL_CYCLES:
+def expected_for(
+    contract: Contract, start: ModelStart, cycles: Sequence[Cycle], power: Sequence[Power] = ()
+) -> list[tuple[Expected, ...]]:
+    """The model's expectations for ``cycles`` (with their power states, if any) from ``start``: the
+    vectorised model for long traces where it applies, the reference model otherwise."""
+    if len(cycles) >= FAST_MODEL_CYCLES and unsupported(contract) is None:
         value, known = expected(contract, Columns.from_cycles(contract, cycles), start_contents(contract, start))
         return expected_rows(value, known)
-    return start_model(contract, start).run(cycles)
+    return start_model(contract, start).run(cycles, power)
 
 
 def check(
-    contract: Contract, start: ModelStart, cycles: Sequence[Cycle], observed: Sequence[tuple[Observed | None, ...]]
+    contract: Contract,
+    start: ModelStart,
+    cycles: Sequence[Cycle],
+    observed: Sequence[tuple[Observed | None, ...]],
+    power: Sequence[Power] = (),
 ) -> CheckedTrace:
     """Run the model from ``start`` over ``cycles`` and compare with ``observed``."""
-    return compare(expected_for(contract, start, cycles), observed, cycles, start)
+    return compare(expected_for(contract, start, cycles, power), observed, cycles, start, power)
 
 
 def expected_arrays(contract: Contract, cols: Columns, start: ModelStart = "unknown") -> tuple[np.ndarray, np.ndarray]:
-    """The vectorised model's ``(value, known)`` for ``cols`` from ``start``."""
-    return expected(contract, cols, start_contents(contract, start))
+    """The model's ``(value, known)`` for ``cols`` from ``start``: the vectorised model where it applies
+    (:func:`memcheck.model_fast.unsupported`), else the reference :class:`~memcheck.model.Model` (slower,
+    same answers)."""
+    if unsupported(contract) is None:
+        return expected(contract, cols, start_contents(contract, start))
+    rows = start_model(contract, start).run(cols.to_cycles())
+    return rows_to_arrays(contract, rows)
+
+
+def rows_to_arrays(contract: Contract, rows: Sequence[tuple[Expected, ...]]) -> tuple[np.ndarray, np.ndarray]:
+    """Per-tick expectations as ``(value, known)`` arrays of (ticks, ports, limbs) uint64."""
+    limbs = limbs_of(contract.memory.width)
+    n, p = len(rows), len(contract.ports)
+    flat = [e for r in rows for e in r]
+    value = ints_to_limbs([e.value for e in flat], limbs).reshape(n, p, limbs)
+    known = ints_to_limbs([e.known for e in flat], limbs).reshape(n, p, limbs)
+    return value, known
 
 
 @dataclass(frozen=True, eq=False)

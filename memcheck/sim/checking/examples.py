@@ -18,7 +18,7 @@ import numpy as np
 
 from memcheck.model_fast import Columns
 from memcheck.ops import Trace
-from memcheck.records import CheckedTrace
+from memcheck.records import LIKELY_RACE, CheckedTrace
 from memcheck.sim.checking.compare import ArrayCheck
 from memcheck.sim.checking.runner import Runner
 
@@ -26,7 +26,7 @@ from memcheck.sim.checking.runner import Runner
 #: ``SimOptions.bulk_shrink_runs`` simulator runs; later candidates count as passing), then delta
 #: debugging finishes the job.
 BULK_SHRINK_SECONDS = 30.0
-_FLAKY_NOTE = "Hypothesis saw this example pass once and fail once (state left by earlier examples)"
+_FLAKY_NOTE = LIKELY_RACE
 
 
 class _Mismatch(Exception):
@@ -85,12 +85,12 @@ def short_examples(runner: Runner, stats: dict[str, int]) -> tuple[CheckedTrace 
         stats["ops"] += trace.operation_count()
         stats["cycles"] += len(trace)
         runner.where["done"] = stats["examples"]
-        checked = runner.run_example(trace.cycles)
+        checked = runner.run_example(trace.cycles, trace.power)
         if not checked.ok:
             raise _Mismatch(checked)
 
     test = _settings(opts.examples, opts.seed_or_zero())(
-        given(traces(runner.contract, max_blocks=opts.max_blocks))(prop)
+        given(traces(runner.contract, max_blocks=opts.max_blocks, pin_bits=runner.pin_address_bits))(prop)
     )
     try:
         test()
@@ -162,7 +162,7 @@ class _BulkSearch:
         if self._budget_spent():
             raise _ShrinkBudgetSpent
         t_in = time.perf_counter()
-        cols = decode(self.runner.contract, spec)
+        cols = decode(self.runner.contract, spec, address_bits=self.runner.driven_address_bits)
         key = _digest(cols)
         self.runner.timing["bulk_decode"] += time.perf_counter() - t_in
         if key in self.seen:
@@ -226,5 +226,5 @@ def bulk_examples(runner: Runner, stats: dict[str, int]) -> tuple[CheckedTrace |
     # Run the smallest failing bulk example again, so the RTL state matches a replay of it.
     again = runner.run_example_columns(found.cols)
     if again.ok:  # pragma: no cover - keep what was seen; the phase notes the non-reproduction
-        return found.checked(), note or "the failure did not reproduce from the canonical state"
+        return found.checked(), note or LIKELY_RACE
     return again.checked(), note

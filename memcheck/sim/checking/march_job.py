@@ -28,12 +28,14 @@ from memcheck.model_fast import (
     limbs_of,
     limbs_to_ints,
     mismatch,
+    unsupported,
 )
 from memcheck.ops import Cycle, Expected
 from memcheck.records import CheckedTrace, ModelStart
 from memcheck.sim.checking.compare import compare, start_contents, start_model
 from memcheck.sim.checking.runner import Runner, observations_from_arrays
 from memcheck.sim.checking.schedule import MarchSchedule
+from memcheck.sim.checking.ticks import hyper_ticks, lay_columns
 
 #: Cycles the March job checks at a time (the harness still runs them BATCH_CYCLES at a time); its
 #: memory is bounded by this many cycles, whatever the stream length.
@@ -54,6 +56,7 @@ class MarchJob:
     expectations: bool = True
     phase: str = "march"
     what: str = "March test"
+    cover: bool = False  # count the cover points of every batch (the check's sweep)
 
 
 class CarriedModel:
@@ -137,7 +140,8 @@ class _MarchRun:
         self.limbs = limbs_of(c.memory.width)
         self.word = int_limbs(c.memory.word_mask, self.limbs)
         self.model = start_model(c, job.start)
-        self.fast = CarriedModel(c, job.start, schedule.writer) if job.vectorised else None
+        # The vectorised model where it applies; else the reference model, carried across batches.
+        self.fast = CarriedModel(c, job.start, schedule.writer) if job.vectorised and unsupported(c) is None else None
         self.readable = [i for i, p in enumerate(c.ports) if p.read_data is not None]
         self.done = 0  # cycles run
         self.march_reads = 0
@@ -177,6 +181,8 @@ class _MarchRun:
         # The model works in a second thread while the simulator runs the batch (two cores).
         model = self.pool.submit(self._model, cols) if self.pool is not None else None
         value, defined = r._run_columns(cols)
+        if self.job.cover:
+            r.cover_columns(cols)
         t0 = time.perf_counter()
         ev, ek = model.result() if model is not None else self._model(cols)
         diff_any = np.zeros(n, dtype=bool)
@@ -279,15 +285,22 @@ def _run_batches(run: _MarchRun, schedule: MarchSchedule, job: MarchJob) -> dict
     failure = None
     pieces: list[Columns] = []
     queued = 0
+    c = run.contract
+    # Several clocks: each piece is laid on the tick timeline, so the schedule's cycle numbers (and the
+    # March expectations due at them) no longer apply; the reference model checks every read.
+    laid = not c.lockstep
+    hyper = hyper_ticks(c)
+    size = max(job.batch // hyper, 1) * hyper
     for piece in schedule.pieces():
-        if job.expectations:
+        if job.expectations and not laid:
             run.expect(piece.due, piece.expected, piece.op_index)
-        pieces.append(piece.cols)
-        queued += len(piece.cols)
-        while queued >= job.batch and failure is None:
+        cols = lay_columns(c, piece.cols) if laid else piece.cols
+        pieces.append(cols)
+        queued += len(cols)
+        while queued >= size and failure is None:
             allc = Columns.concat(pieces)
-            failure = run.batch(allc[: job.batch])
-            rest = allc[job.batch :]
+            failure = run.batch(allc[:size])
+            rest = allc[size:]
             pieces, queued = ([rest] if len(rest) else []), len(rest)
         if failure is not None:
             break

@@ -51,6 +51,7 @@ from memcheck.sim.checking.shrink import (
     simpler_candidates,
 )
 from memcheck.sim.checking.stretch import first_candidates
+from memcheck.sim.checking.ticks import fit, fit_columns
 
 #: Cycles handed to the backend at once while shrinking (the harness still runs them in its batches).
 GROUP_CYCLES = 1 << 16
@@ -114,7 +115,7 @@ class CandidateRunner:
         dirty = r._dirty
         pos = 0
         for cand in cands:
-            cols = Columns.from_cycles(c, cand)
+            cols = fit_columns(c, Columns.from_cycles(c, cand))  # several clocks: on the tick timeline
             pre = between_examples(c, dirty)
             parts += [pre, cols]
             pos += len(pre)
@@ -128,6 +129,8 @@ class CandidateRunner:
         r.examples_run += len(cands)
         r.counts["shrink_candidates"] = r.counts.get("shrink_candidates", 0) + len(cands)
         r.counts["shrink_cycles"] = r.counts.get("shrink_cycles", 0) + pos
+        for _, _, cols in spans:
+            r.cover_columns(cols)
         return [not check_arrays(c, cols, value[lo:hi], defined[lo:hi]).ok for lo, hi, cols in spans]
 
 
@@ -163,8 +166,10 @@ def minimise_cycles(runner: Runner, cycles: Sequence[Cycle], cr: CandidateRunner
 
 def as_replayed(runner: Runner, cycles: Sequence[Cycle]) -> CheckedTrace:
     """Run ``cycles`` after the replay preamble (reset, fill, flush), as a replay of it does."""
+    cycles = fit(runner.contract, cycles)
     runner.run_steps(EXAMPLE_PREAMBLE)
     obs = runner._run([Segment(tuple(cycles))])
+    runner.cover(cycles)
     runner._dirty = seq.written_addresses(cycles)
     runner.examples_run += 1
     return check(runner.contract, "unknown", list(cycles), obs)

@@ -9,6 +9,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from typing import Any
 
+from memcheck.cover import Coverage
 from memcheck.records import CheckedTrace, Failure, PhaseResult
 
 
@@ -21,6 +22,7 @@ class RunResult:
     seed: int = 0
     notes: tuple[str, ...] = ()
     replayed: CheckedTrace | None = None
+    coverage: Coverage | None = None
     extra: dict[str, Any] = field(default_factory=dict)
 
     def to_json(self) -> dict[str, Any]:
@@ -30,6 +32,7 @@ class RunResult:
             "seed": self.seed,
             "notes": list(self.notes),
             "replayed": None if self.replayed is None else self.replayed.to_json(),
+            "coverage": None if self.coverage is None else self.coverage.to_json(),
             "extra": self.extra,
         }
 
@@ -41,5 +44,6 @@ class RunResult:
             seed=int(obj.get("seed", 0)),
             notes=tuple(str(n) for n in obj.get("notes", [])),
             replayed=None if obj.get("replayed") is None else CheckedTrace.from_json(obj["replayed"]),
+            coverage=None if obj.get("coverage") is None else Coverage.from_json(obj["coverage"]),
             extra=dict(obj.get("extra", {})),
         )

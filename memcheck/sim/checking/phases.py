@@ -19,12 +19,14 @@ from __future__ import annotations
 
 import time
 
+from memcheck.cover import coverage_of
 from memcheck.model_fast import Columns
 from memcheck.ops import Cycle, Trace
-from memcheck.records import CheckedTrace, CycleRow, Failure, ModelStart, PhaseResult
+from memcheck.records import LIKELY_RACE, CheckedTrace, CycleRow, Failure, ModelStart, PhaseResult
 from memcheck.sim.checking import sequences as seq
 from memcheck.sim.checking.compare import check
 from memcheck.sim.checking.examples import bulk_examples, short_examples
+from memcheck.sim.checking.holes import close_holes
 from memcheck.sim.checking.march_job import MarchJob, run_march_job
 from memcheck.sim.checking.minimise import Shrunk, minimise_cycles, shrink_stretch
 from memcheck.sim.checking.outcome import RunResult
@@ -58,6 +60,7 @@ class PhaseRunner(Runner):
             phases=tuple(results),
             failure=failure,
             seed=self.options.seed_or_zero(),
+            coverage=coverage_of(self.contract, self.coverage),
             extra={
                 "cycles_simulated": self.cycles,
                 "examples_run": self.examples_run,
@@ -78,6 +81,7 @@ class PhaseRunner(Runner):
         if c.reset is not None:
             self.run_steps(["reset"])
         obs = self._run([Segment(tuple(cycles))])
+        self.cover(cycles)
         self.history.append("smoke")
         checked = check(c, start, cycles, obs)
         ops = operation_count(cycles)
@@ -133,7 +137,9 @@ class PhaseRunner(Runner):
         before = list(self.history)
         if c.reset is not None:
             self.run_steps(["reset"])
-        job = MarchJob("unknown", window=_LONG_ROWS, expectations=False, phase="sweep", what=plan.describe(c))
+        job = MarchJob(
+            "unknown", window=_LONG_ROWS, expectations=False, phase="sweep", what=plan.describe(c), cover=True
+        )
         out = run_march_job(self, plan.schedule, job)
         counts[0] += int(out["cycles_run"])
         found = out["failure"]
@@ -150,7 +156,11 @@ class PhaseRunner(Runner):
     def _shrink_sweep_failure(self, plan: seq.SweepPlan, at: int, preamble: list[str], rows: list[CycleRow]) -> Failure:
         self.where = {"phase": "sweep", "what": "shrinking the failure"}
         what = plan.describe(self.contract)
-        stretch = sweep_stretch(plan.schedule, at, self.window_max)
+        c = self.contract
+        if c.lockstep:
+            stretch = sweep_stretch(plan.schedule, at, self.window_max)
+        else:  # several clocks: the sweep was laid on the tick timeline, so its cycles are the laid ones
+            stretch = Columns.from_cycles(c, plan.cycles(at + 1, self.backend.batch_limit))
         shrunk = shrink_stretch(self, stretch, len(stretch) - 1)
         if shrunk is not None and not shrunk.checked.ok:
             note = f"shrunk from a failure at cycle {at} of {what}; {shrunk.note()}"
@@ -163,7 +173,7 @@ class PhaseRunner(Runner):
             )
             return Failure("sweep", EXAMPLE_PREAMBLE, seeded.checked, note)
         # Not reproducible as a short example: the sweep from its start is the trace (a replay reruns it).
-        prefix = plan.schedule.cycles(at + 1)
+        prefix = plan.cycles(at + 1, self.backend.batch_limit)
         note = (
             f"the sweep ({what}) up to its first difference, at cycle {at}; "
             "it does not fail as a short independent example"
@@ -182,11 +192,15 @@ class PhaseRunner(Runner):
         found, note = short_examples(self, stats) if n > 0 else (None, "")
         if found is None and nb > 0:
             found, note = bulk_examples(self, stats)
+        if found is None:
+            found = close_holes(self, stats)
         parts = []
         if n > 0:
             parts.append(f"{min(stats['examples'], n)} examples")
         if nb > 0:
             parts.append(f"{self.counts['bulk_examples']} bulk examples ({self.counts['bulk_operations']} operations)")
+        if stats.get("directed"):
+            parts.append(f"{stats['directed']} directed examples for cover holes")
         detail = " + ".join(parts)
         if found is None:
             return PhaseResult(
@@ -204,6 +218,9 @@ class PhaseRunner(Runner):
         k = found.first_mismatch
         assert k is not None
         if len(found.rows) <= _LONG_ROWS:
+            if any(found.trace.power):  # power states: delta debugging over cycles with their states
+                final = self.minimise(found.trace.cycles, found.trace.power)
+                return Failure("property", EXAMPLE_PREAMBLE, found if final.ok else final, note or _race(final))
             shrunk: Shrunk | None = minimise_cycles(self, found.trace.cycles)
         else:
             # A long (bulk) trace: the operations on the failing read's addresses, or the shortest
@@ -221,8 +238,11 @@ class PhaseRunner(Runner):
                 return Failure("property", EXAMPLE_PREAMBLE, CheckedTrace("unknown", rows), note, Trace(tuple(cycles)))
         assert shrunk is not None
         final = shrunk.checked
-        if final.ok:  # pragma: no cover - the canonical state did not reproduce it
-            return Failure(
-                "property", EXAMPLE_PREAMBLE, found, note or "the failure did not reproduce from the canonical state"
-            )
+        if final.ok:  # the canonical state did not reproduce it
+            return Failure("property", EXAMPLE_PREAMBLE, found, note or LIKELY_RACE)
         return Failure("property", EXAMPLE_PREAMBLE, final, "; ".join(x for x in (note, shrunk.note()) if x))
+
+
+def _race(final: CheckedTrace) -> str:
+    """The note of a failure that did not fail again from the same state (else none)."""
+    return LIKELY_RACE if final.ok else ""

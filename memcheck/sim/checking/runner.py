@@ -18,13 +18,17 @@ from typing import Any, Protocol
 import numpy as np
 
 from memcheck.contract import Contract
+from memcheck.cover import Counts, TraceArrays, arrays_of_cycles, measure
 from memcheck.model_fast import Columns, ints_to_limbs, limbs_of, limbs_to_ints
-from memcheck.ops import Cycle, OpKind
+from memcheck.ops import Cycle, OpKind, Power
 from memcheck.records import CheckedTrace, Failure, Observed
 from memcheck.sim.checking import sequences as seq
 from memcheck.sim.checking.compare import ArrayCheck, check, check_arrays, expected_arrays
 from memcheck.sim.checking.sequences import Segment
+from memcheck.sim.checking.shrink import ddmin
+from memcheck.sim.checking.ticks import fit, fit_columns
 from memcheck.sim.options import SimOptions
+from memcheck.strategies import driven_address_bits
 
 #: The preamble of every independent example: reset, canonical fill, flush.
 EXAMPLE_PREAMBLE: tuple[str, ...] = ("reset", "fill", "flush")
@@ -107,14 +111,38 @@ class Runner:
             "bulk_shrink": 0.0,
             "bulk_generate": 0.0,
             "bulk_decode": 0.0,
+            "coverage": 0.0,
         }
         self._pool: ThreadPoolExecutor | None = None  # set while bulk examples run
+        #: Width of the address pins (the narrowest port's), set by the simulator side: with
+        #: ``out_of_range`` "ignore" or "wrap" examples drive addresses over all of it.
+        self.pin_address_bits: int | None = None
         self.counts: dict[str, int] = {
             "bulk_examples": 0,
             "bulk_operations": 0,
             "bulk_cycles": 0,
             "bulk_shrink_runs": 0,
         }
+        self.coverage = Counts.empty(contract)  # cover points hit by the checked traces (memcheck.cover)
+
+    # -- coverage ----------------------------------------------------------------------------
+
+    def cover(self, cycles: Sequence[Cycle], power: Sequence[Power] = ()) -> None:
+        """Count the cover points of a checked trace (memcheck.cover), with its per-tick power states."""
+        t0 = time.perf_counter()
+        self.coverage = self.coverage.then(measure(self.contract, arrays_of_cycles(self.contract, cycles, power)))
+        self.timing["coverage"] += time.perf_counter() - t0
+
+    def cover_columns(self, cols: Columns) -> None:
+        """:meth:`cover` for a trace given as columns."""
+        t0 = time.perf_counter()
+        self.coverage = self.coverage.then(measure(self.contract, TraceArrays(cols.kind, cols.address, cols.lanes)))
+        self.timing["coverage"] += time.perf_counter() - t0
+
+    @property
+    def driven_address_bits(self) -> int:
+        """Address bits examples drive (see :func:`memcheck.strategies.driven_address_bits`)."""
+        return driven_address_bits(self.contract, self.pin_address_bits)
 
     # -- running cycles --------------------------------------------------------------------
 
@@ -141,6 +169,7 @@ class Runner:
         for step in steps:
             if step == "reset":
                 self._run([seq.reset_segment(c)])
+                self.coverage = self.coverage.after_reset()
             elif step == "fill":
                 self._canonical = False
                 self._run(list(seq.fill_segments(c, chunk)))
@@ -160,9 +189,12 @@ class Runner:
 
     # -- independent examples ----------------------------------------------------------------
 
-    def run_example(self, cycles: Sequence[Cycle]) -> CheckedTrace:
-        """Check ``cycles`` as an independent example: canonical RTL state, model knows nothing."""
+    def run_example(self, cycles: Sequence[Cycle], power: Sequence[Power] = ()) -> CheckedTrace:
+        """Check ``cycles`` as an independent example: canonical RTL state, model knows nothing. With
+        several clocks ``cycles`` are first made valid on the tick timeline (:func:`ticks.fit`)."""
         c = self.contract
+        cycles = fit(c, cycles)
+        power = tuple(power) if any(power) else ()
         if not self._canonical:
             self.run_steps(EXAMPLE_PREAMBLE)
             pre: list[Cycle] = []
@@ -170,11 +202,15 @@ class Runner:
             restore = seq.restore_cycles(c, self._dirty) if seq.fill_limit(c) else []
             pre = restore + seq.flush_cycles(c)
         t0 = time.perf_counter()
-        obs = self._run([Segment(tuple(pre) + tuple(cycles))])
+        states = (Power.ON,) * len(pre) + power if power else ()
+        obs = self._run([Segment(tuple(pre) + tuple(cycles), power=states)])
         t1 = time.perf_counter()
         self._dirty = seq.written_addresses(cycles)
+        if Power.SHUTDOWN in power:
+            self._canonical = False  # a shutdown lost the contents: the next example refills them
         self.examples_run += 1
-        checked = check(c, "unknown", list(cycles), obs[len(pre) :])
+        self.cover(cycles, power)
+        checked = check(c, "unknown", list(cycles), obs[len(pre) :], power)
         self.timing["example_rtl"] += t1 - t0
         self.timing["example_model"] += time.perf_counter() - t1
         return checked
@@ -194,6 +230,7 @@ class Runner:
     def run_example_columns(self, cols: Columns) -> ArrayCheck:
         """:meth:`run_example` for a trace given as columns, checked by the vectorised model."""
         c = self.contract
+        cols = fit_columns(c, cols)
         if not self._canonical:
             self.run_steps(EXAMPLE_PREAMBLE)
             pre = Columns.quiet(c, 0)
@@ -210,6 +247,7 @@ class Runner:
         t1 = time.perf_counter()
         self._dirty = set(cols.written_addresses().tolist())
         self.examples_run += 1
+        self.cover_columns(cols)
         checked = check_arrays(
             c, cols, value[len(pre) :], defined[len(pre) :], "unknown", model.result() if model is not None else None
         )
@@ -217,12 +255,31 @@ class Runner:
         self.timing["example_model"] += time.perf_counter() - t1
         return checked
 
-    def minimise(self, cycles: Sequence[Cycle]) -> CheckedTrace:
+    def minimise(self, cycles: Sequence[Cycle], power: Sequence[Power] = ()) -> CheckedTrace:
         """Shrink a trace that fails as an independent example; returns the smallest one's check
-        (see :mod:`memcheck.sim.checking.minimise`)."""
+        (see :mod:`memcheck.sim.checking.minimise`; with power states, :meth:`_minimise_powered`)."""
+        if any(power):
+            return self._minimise_powered(list(cycles), list(power))
         from memcheck.sim.checking.minimise import minimise_cycles
 
         return minimise_cycles(self, cycles).checked
+
+    def _minimise_powered(self, cycles: list[Cycle], power: list[Power]) -> CheckedTrace:
+        """:meth:`minimise` for a trace with power states: delta debugging over its cycles, each with its
+        power state."""
+        cache: dict[tuple[int, ...], CheckedTrace] = {}
+
+        def fails(keep: list[int]) -> bool:
+            key = tuple(keep)
+            if key not in cache:
+                cache[key] = self.run_example([cycles[i] for i in keep], [power[i] for i in keep])
+            return not cache[key].ok
+
+        current = list(range(len(cycles)))
+        if not fails(current):
+            return cache[tuple(current)]
+        current = ddmin(current, fails)
+        return self.run_example([cycles[i] for i in current], [power[i] for i in current])
 
     def shrink_window(self, recent: Sequence[Cycle], failing: int) -> CheckedTrace | None:
         """Shrink the failure shown at ``recent[failing]``: the operations on its addresses anywhere in
@@ -240,5 +297,7 @@ class Runner:
         self.run_steps(failure.preamble)
         self.where = {"phase": "replay", "what": "trace"}
         cycles = list(failure.trace.cycles)
-        obs = self._run([Segment(tuple(cycles))], dump=dump)
-        return check(self.contract, failure.checked.start, cycles, obs)
+        power = failure.trace.power
+        obs = self._run([Segment(tuple(cycles), power=power)], dump=dump)
+        self.cover(cycles, power)
+        return check(self.contract, failure.checked.start, cycles, obs, power)

@@ -19,8 +19,9 @@ import numpy as np
 
 from memcheck.contract import Contract
 from memcheck.model_fast import READ, WRITE, Columns, limbs_of
-from memcheck.ops import Cycle, OpKind, PortOp
+from memcheck.ops import Cycle, OpKind, PortOp, Power
 from memcheck.sim.checking.schedule import MarchSchedule, march_schedule, sweep_ports
+from memcheck.sim.checking.ticks import lay, lay_columns
 from memcheck.sim.options import SimOptions
 from memcheck.strategies import drain_cycle
 
@@ -34,10 +35,12 @@ _M64 = (1 << 64) - 1
 
 @dataclass(frozen=True)
 class Segment:
-    """Cycles run as one unit; ``reset`` marks the cycles with the reset pin asserted."""
+    """Cycles run as one unit from tick 0 of the tick timeline; ``reset`` marks the cycles with the
+    reset pin asserted; ``power`` is empty (power pins deasserted) or one state per cycle."""
 
     cycles: tuple[Cycle, ...]
     reset: bool = False
+    power: tuple[Power, ...] = ()
 
     def __len__(self) -> int:
         return len(self.cycles)
@@ -51,7 +54,7 @@ def quiet(contract: Contract) -> Cycle:
 def reset_segment(contract: Contract) -> Segment | None:
     if contract.reset is None:
         return None
-    return Segment(tuple(quiet(contract) for _ in range(contract.reset.cycles)), reset=True)
+    return Segment(tuple(lay(contract, [quiet(contract)] * contract.reset.cycles)), reset=True)
 
 
 def writer_index(contract: Contract) -> int | None:
@@ -120,11 +123,12 @@ def restore_columns(contract: Contract, addresses: np.ndarray) -> Columns:
     w = writer_index(contract)
     if w is None:
         return Columns.quiet(contract, 0)
+    addresses = np.array(restore_targets(contract, addresses.tolist()), dtype=np.int64)
     cols = Columns.quiet(contract, len(addresses))
     cols.kind[:, w] = WRITE
     cols.address[:, w] = addresses
     cols.data[:, w] = fill_words(contract.memory.width, addresses)
-    return cols
+    return lay_columns(contract, cols)
 
 
 def flush_columns(contract: Contract) -> Columns:
@@ -139,7 +143,16 @@ def flush_columns(contract: Contract) -> Columns:
         r.kind[0, readers] = READ
         parts.append(r)
     parts.append(Columns.quiet(contract, contract.memory.read_latency + 1))
-    return Columns.concat(parts)
+    return lay_columns(contract, Columns.concat(parts))
+
+
+def restore_targets(contract: Contract, addresses: Iterable[int]) -> list[int]:
+    """The addresses to write back after writes to ``addresses``, ascending: beyond ``words`` a write
+    changes nothing ("ignore") or the word it aliases ("wrap"), which is the one written back."""
+    m = contract.memory
+    if m.out_of_range == "unchecked":
+        return sorted(set(addresses))
+    return sorted({w for w in (m.word_of(a) for a in addresses) if w is not None})
 
 
 def fill_limit(contract: Contract) -> int:
@@ -161,7 +174,8 @@ def restore_cycles(contract: Contract, addresses: Iterable[int]) -> list[Cycle]:
     if w is None:
         return []
     width = contract.memory.width
-    return [_with(contract, {w: PortOp(OpKind.WRITE, a, fill_word(width, a))}) for a in sorted(set(addresses))]
+    targets = restore_targets(contract, addresses)
+    return lay(contract, [_with(contract, {w: PortOp(OpKind.WRITE, a, fill_word(width, a))}) for a in targets])
 
 
 def fill_segments(contract: Contract, chunk: int) -> Iterator[Segment]:
@@ -181,7 +195,7 @@ def flush_cycles(contract: Contract) -> list[Cycle]:
     if readers:
         out.append(_with(contract, {r: PortOp(OpKind.READ, 0) for r in readers}))
     out.extend(quiet(contract) for _ in range(contract.memory.read_latency + 1))
-    return out
+    return lay(contract, out)
 
 
 def written_addresses(cycles: Iterable[Cycle]) -> set[int]:
@@ -233,7 +247,7 @@ def smoke_cycles(contract: Contract) -> list[Cycle]:
                 read_all(a)
                 d1 = (d1 & ~m.lane_bits(1 << lane)) | (d2 & m.lane_bits(1 << lane))
     out.extend(quiet(contract) for _ in range(m.read_latency))
-    return out
+    return lay(contract, out)
 
 
 # -- sweep ---------------------------------------------------------------------------------
@@ -261,10 +275,21 @@ class SweepPlan:
         return f"{self.algorithm} ({self.backgrounds} backgrounds) via {via}"
 
     def segments(self, chunk: int) -> Iterator[Segment]:
-        """The schedule as cycles, in segments of at most ``chunk`` cycles."""
+        """The schedule as cycles, in segments of at most ``chunk`` cycles (several clocks: each laid on
+        the tick timeline, so longer)."""
+        c = self.schedule.contract
         for piece in self.schedule.pieces():
             for lo in range(0, len(piece.cols), chunk):
-                yield Segment(tuple(piece.cols[lo : lo + chunk].to_cycles()))
+                yield Segment(tuple(lay(c, piece.cols[lo : lo + chunk].to_cycles())))
+
+    def cycles(self, count: int, chunk: int) -> list[Cycle]:
+        """The first ``count`` cycles of :meth:`segments` (the prefix a replay reruns)."""
+        out: list[Cycle] = []
+        for s in self.segments(chunk):
+            out.extend(s.cycles[: count - len(out)])
+            if len(out) >= count:
+                break
+        return out
 
 
 def sweep_plans(contract: Contract, options: SimOptions) -> list[SweepPlan]:

@@ -103,12 +103,12 @@ def _remove(chunks: list[list[T]], comps: list[list[T]], hits: list[int], fails_
     return comps[hits[0]]
 
 
-def ddmin(items: Sequence[Cycle], fails: Callable[[list[Cycle]], bool], *, budget: int = 2000) -> list[Cycle]:
+def ddmin(items: Sequence[T], fails: Callable[[list[T]], bool], *, budget: int = 2000) -> list[T]:
     """A 1-minimal failing subsequence of ``items`` (``fails(items)`` must hold), testing one
     candidate at a time: :func:`ddmin_batched` with a one-candidate group."""
     calls = [0]
 
-    def many(cands: list[list[Cycle]]) -> list[bool]:
+    def many(cands: list[list[T]]) -> list[bool]:
         out = []
         for cand in cands:
             if calls[0] >= budget:

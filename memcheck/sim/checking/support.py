@@ -1,96 +1,35 @@
-"""What the simulator side honours so far: contract keys refused before anything is built.
+"""What the simulator side cannot drive: contracts refused before anything is built.
 
-The contract and the reference model understand every key of docs/contract.md; the generated
-harness, the stimulus and the bulk phase do not yet drive some of them. A contract using one is
-refused here, with the key named, instead of being checked as if the key were absent (which could
-give a verdict on behaviour the harness never produced). Every job (check, March run, replay)
-calls :func:`require_simulator_support` before building.
+The generated harness drives every key of docs/contract.md. What it refuses, with the cause named,
+is timing it cannot place exactly: a clock with fewer than 4 timescale-precision units per period,
+a sample point with no room to change the inputs before it, or clocks whose edges line up again only
+after more than :data:`~memcheck.sim.checking.ticks.MAX_HYPER_TICKS` edges. Every job (check, March
+run, replay) calls :func:`require_simulator_support` before building.
 """
 
 from __future__ import annotations
 
-from memcheck.contract import DEFAULT_PERIOD, Contract
-from memcheck.errors import NotYetSimulated
-
-_MODEL_HINT = "check them with the model API (memcheck.model.Model) or wait for harness support"
-
-
-def _ns(value: float) -> str:
-    return f"{value:g} ns"
-
-
-def _clock_problem(contract: Contract) -> str | None:
-    clocks = contract.port_clocks
-    if not contract.lockstep:
-        listed = ", ".join(f"{c.name} {_ns(c.period)}" + (f" phase {_ns(c.phase)}" if c.phase else "") for c in clocks)
-        return (
-            f"several clocks with different edges ({listed}): the contract and model support them, but the "
-            f"simulator harness drives one clock so far; {_MODEL_HINT}"
-        )
-    period = clocks[0].period
-    if period != DEFAULT_PERIOD:
-        names = ", ".join(c.name for c in clocks)
-        return (
-            f"[[clock]] period = {_ns(period)} ({names}): the contract and model support it, but the simulator "
-            f"harness drives a {_ns(DEFAULT_PERIOD)} clock so far; leave the period at its default to check the "
-            f"logic, or {_MODEL_HINT}"
-        )
-    return None
-
-
-def _power_problem(contract: Contract) -> str | None:
-    power = contract.power
-    if power is None:
-        return None
-    pins = ", ".join(f"{role} {pin!r}" for role, pin in power.pins().items())
-    awake = ", ".join(f"{pin} = {int(pin in power.active_low)}" for pin in power.pins().values())
-    return (
-        f"[power] pins ({pins}): the contract and model support them, but the simulator harness does not drive "
-        f"power pins yet; to check everything else, hold the memory awake with [rtl] tie = {{ {awake} }} instead "
-        f"of [power], or {_MODEL_HINT}"
-    )
-
-
-def _memory_problems(contract: Contract) -> list[str]:
-    out: list[str] = []
-    m = contract.memory
-    if m.out_of_range != "unchecked":
-        out.append(
-            f'[memory] out_of_range = "{m.out_of_range}": the contract and model support it, but the simulator '
-            f"harness drives only the low {m.address_bits} address bit(s) so far (addresses below words = "
-            f'{m.words}); use "unchecked", or {_MODEL_HINT}'
-        )
-    sample = contract.timing.sample
-    if sample is not None:
-        out.append(
-            f"[timing] sample = {_ns(sample)}: the contract and model support it, but the simulator harness samples "
-            "read data 1 ns before the next rising edge so far; remove the key to check with that sample point, "
-            f"or {_MODEL_HINT}"
-        )
-    return out
+from memcheck.contract import Contract
+from memcheck.sim.checking.ticks import harness_timing
 
 
 def simulator_support_problems(contract: Contract) -> list[str]:
-    """One sentence per key of ``contract`` the simulator harness cannot honour yet (empty: none)."""
-    found = [_clock_problem(contract), _power_problem(contract)]
-    return [p for p in found if p is not None] + _memory_problems(contract)
+    """One sentence per key of ``contract`` the simulator harness cannot honour yet (empty: none).
+
+    Every key of docs/contract.md is honoured now; what remains refused is timing the harness cannot
+    place exactly (see :func:`~memcheck.sim.checking.ticks.harness_timing`), checked by
+    :func:`require_simulator_support`."""
+    del contract
+    return []
 
 
 def require_simulator_support(contract: Contract) -> None:
-    """Raise :class:`~memcheck.errors.NotYetSimulated` naming every key of ``contract`` the simulator
-    harness cannot honour yet, before anything is built.
+    """Raise :class:`~memcheck.errors.NotYetSimulated` when the harness cannot drive ``contract``'s
+    clocks and sample point exactly, before anything is built.
 
     Raises
     ------
     NotYetSimulated
-        One paragraph: each unsupported key, what it says, and what to do instead.
+        One paragraph: what cannot be placed, and what to change.
     """
-    problems = simulator_support_problems(contract)
-    if not problems:
-        return
-    where = f"{contract.path}: " if contract.path is not None else ""
-    raise NotYetSimulated(
-        f"{where}this contract uses {'a key' if len(problems) == 1 else 'keys'} the simulator cannot check yet: "
-        + "; ".join(problems)
-        + "."
-    )
+    harness_timing(contract)

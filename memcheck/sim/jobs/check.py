@@ -26,7 +26,7 @@ def _validate(c: Contract, opts: SimOptions) -> None:
     unknown = [p for p in opts.phases if p not in PHASES]
     if unknown or not opts.phases:
         raise MemcheckError(f"unknown phase(s) {', '.join(unknown) or '(none given)'}; allowed: {', '.join(PHASES)}.")
-    for name in ("examples", "bulk_examples", "pause_cycles"):
+    for name in ("examples", "bulk_examples", "pause_cycles", "directed_examples"):
         value = getattr(opts, name)
         if isinstance(value, bool) or not isinstance(value, int) or value < 0:
             raise MemcheckError(f"{name} = {value!r}; allowed: 0 or more.")
@@ -71,15 +71,16 @@ def check_contract(
         replayed=replayed,
         notes=res.notes,
         extra=dict(res.extra),
+        coverage=res.coverage,
         **s.record_fields(),
     )
 
 
 def _validate_trace(c: Contract, failure: Failure, where: Path) -> None:
-    m = Model(c)
+    m = Model(c)  # stepped, so that each cycle is checked at its own tick (several clocks)
     for k, cycle in enumerate(failure.trace.cycles):
         try:
-            m.validate(cycle)
+            m.step(cycle, failure.trace.power_at(k))
         except InvalidOperation as exc:
             raise ReplayError(f"{where}: cycle {k} of the trace does not fit the contract: {exc}.") from None
 

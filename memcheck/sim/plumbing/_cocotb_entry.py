@@ -31,8 +31,7 @@ from memcheck.sim.checking.phases import PhaseRunner
 from memcheck.sim.checking.schedule import march_schedule
 from memcheck.sim.options import SimOptions
 from memcheck.sim.plumbing.backend import HarnessBackend
-from memcheck.sim.plumbing.harness import PERIOD_NS
-from memcheck.sim.plumbing.layout import Layout
+from memcheck.sim.plumbing.words import HarnessLayout
 
 
 class _Progress:
@@ -41,7 +40,7 @@ class _Progress:
         self.backend: HarnessBackend | None = None
 
     def __call__(self, rec: dict[str, Any]) -> None:
-        sim_ns = self.backend.sim_cycles * PERIOD_NS if self.backend is not None else 0
+        sim_ns = round(self.backend.sim_ns) if self.backend is not None else 0
         line = json.dumps({**rec, "sim_ns": sim_ns, "t": round(time.time(), 3)}) + "\n"
         os.write(self.fd, line.encode())
 
@@ -67,7 +66,7 @@ def _run(runner: PhaseRunner, job: dict[str, Any]) -> RunResult:
 def _session(dut: Any, job: dict[str, Any]) -> dict[str, Any]:
     with open(job["contract_pickle"], "rb") as fh:
         contract: Contract = pickle.load(fh)
-    layout = Layout.build(contract, {k: int(v) for k, v in job["widths"].items()})
+    layout = HarnessLayout.build(contract, {k: int(v) for k, v in job["widths"].items()})
     backend = HarnessBackend(dut, layout, Path.cwd())
     if job.get("record"):
         backend.record = Path(job["record"])
@@ -75,6 +74,7 @@ def _session(dut: Any, job: dict[str, Any]) -> dict[str, Any]:
     progress.backend = backend
     runner = PhaseRunner(contract, backend, SimOptions.from_json(job["options"]), progress)
     backend.runner = runner
+    runner.pin_address_bits = min(pf.address.width for w in layout.words for pf in w.ports)
     t0 = time.perf_counter()
     out = _run(runner, job).to_json()
     out["extra"] = {

@@ -1,7 +1,8 @@
 """The backend that runs batches of cycles on the generated harness inside the simulator (cocotb).
 
-Each batch crosses into the simulator once through ``cocotb.task.resume``: one stimulus file in,
-one capture file out, no Python per cycle.
+Each batch crosses into the simulator once through ``cocotb.task.resume``: one stimulus file per
+group of clocks in (and one of per-tick pins with several clocks), one capture file per group out, no
+Python per cycle.
 """
 
 from __future__ import annotations
@@ -17,81 +18,134 @@ from cocotb.task import resume
 from memcheck.model_fast import Columns
 from memcheck.sim.checking.runner import Observations, Runner, observations_from_arrays
 from memcheck.sim.checking.sequences import Segment
-from memcheck.sim.plumbing.harness import CAP_FILE, STIM_FILE
-from memcheck.sim.plumbing.layout import BATCH_CYCLES, Layout
+from memcheck.sim.checking.ticks import padding
+from memcheck.sim.plumbing.words import TICK_FILE, HarnessLayout, cap_file, stim_file
+
+STIM_FILE = stim_file(0)
+CAP_FILE = cap_file(0)
 
 
 class HarnessBackend:
-    """Runs batches on the generated harness: one stimulus file in, one capture file out."""
+    """Runs batches on the generated harness: stimulus files in, capture files out.
 
-    batch_limit = BATCH_CYCLES
+    Every segment starts at tick 0 of the tick timeline: a segment that is not a whole number of
+    tick patterns is followed by quiet ticks (not observed) up to one (:func:`~memcheck.sim.checking.ticks.padding`).
+    """
 
-    def __init__(self, dut: Any, layout: Layout, workdir: Path) -> None:
+    def __init__(self, dut: Any, layout: HarnessLayout, workdir: Path) -> None:
         self.dut = dut
         self.layout = layout
-        self.stim = workdir / STIM_FILE
-        self.cap = workdir / CAP_FILE
+        self.workdir = workdir
+        self.batch_limit = layout.batch_limit
         self.go = 0
         self.dumping = False
         self.runner: Runner | None = None
         self.sim_cycles = 0
+        self.sim_units = 0  # simulated time in harness units (for progress records)
         self.batches = 0
         self.batch_seconds = 0.0  # wall time of batches: files, the round trip and the simulator
         self.codec_seconds = 0.0  # building stimulus text and parsing captures
         self.record: Path | None = None  # bench/: keep every stimulus and capture file
+
+    @property
+    def sim_ns(self) -> float:
+        return float(self.sim_units * self.layout.timing.unit_ns)
 
     def run(self, segments: Sequence[Segment], *, dump: bool = False) -> Observations:
         segs = [s for s in segments if len(s)]
         if not segs:
             return []
         contract = self.layout.contract
-        cols = Columns.concat([Columns.from_cycles(contract, s.cycles) for s in segs])
-        reset = np.concatenate([np.full(len(s), s.reset) for s in segs])
-        value, defined = self.run_columns(cols, reset=reset, dump=dump)
-        return observations_from_arrays(contract, value, defined)
+        parts: list[Columns] = []
+        resets: list[np.ndarray] = []
+        powers: list[np.ndarray] = []
+        keep: list[np.ndarray] = []
+        at = 0
+        for s in segs:
+            cycles = list(s.cycles) + padding(contract, len(s))
+            parts.append(Columns.from_cycles(contract, cycles))
+            resets.append(np.full(len(cycles), s.reset))
+            state = np.zeros(len(cycles), dtype=np.int8)
+            if s.power:
+                state[: len(s)] = np.array([int(p) for p in s.power], dtype=np.int8)
+            powers.append(state)
+            keep.append(np.arange(at, at + len(s)))
+            at += len(cycles)
+        value, defined = self.run_columns(
+            Columns.concat(parts), reset=np.concatenate(resets), power=np.concatenate(powers), dump=dump
+        )
+        rows = np.concatenate(keep)
+        return observations_from_arrays(contract, value[rows], defined[rows])
 
     def run_columns(
-        self, cols: Columns, *, reset: bool | np.ndarray = False, dump: bool = False
+        self,
+        cols: Columns,
+        *,
+        reset: bool | np.ndarray = False,
+        power: np.ndarray | None = None,
+        dump: bool = False,
     ) -> tuple[np.ndarray, np.ndarray]:
-        """Run a trace given as columns; returns the captured ``(value, defined)`` arrays."""
+        """Run a trace given as columns from tick 0; returns the captured ``(value, defined)`` arrays."""
+        n = len(cols)
+        pad = padding(self.layout.contract, n)
+        if pad:  # whole tick patterns only (several clocks)
+            cols = Columns.concat([cols, Columns.from_cycles(self.layout.contract, pad)])
+        total = len(cols)
+        resets = np.zeros(total, dtype=bool)
+        resets[:n] = np.broadcast_to(np.asarray(reset, dtype=bool), (n,))
+        states = np.zeros(total, dtype=np.int8)
+        if power is not None:
+            states[:n] = power
         values: list[np.ndarray] = []
         defined: list[np.ndarray] = []
-        n = len(cols)
-        resets = np.broadcast_to(np.asarray(reset, dtype=bool), (n,))
-        for lo in range(0, n, self.batch_limit):
-            hi = min(n, lo + self.batch_limit)
-            if self.runner is not None:
-                self.runner.before_batch(hi - lo)
-            t0 = time.perf_counter()
-            text = self.layout.stim_bytes(cols[lo:hi], resets[lo:hi])
-            t1 = time.perf_counter()
-            self.stim.write_bytes(text)
-            resume(self._batch)(hi - lo, dump)
-            captured = self.cap.read_bytes()
-            t2 = time.perf_counter()
-            v, d = self.layout.decode_arrays(captured, hi - lo)
-            self.batch_seconds += t2 - t1
-            self.codec_seconds += t1 - t0 + time.perf_counter() - t2
+        for lo in range(0, total, self.batch_limit):
+            hi = min(total, lo + self.batch_limit)
+            v, d = self._run_batch(cols[lo:hi], resets[lo:hi], states[lo:hi], dump)
             values.append(v)
             defined.append(d)
-            self.sim_cycles += hi - lo
-            self.batches += 1
-            if self.record is not None:
-                with (self.record / "stim.hex").open("ab") as fb:
-                    fb.write(text)
-                with (self.record / "cap.bin").open("ab") as fb:
-                    fb.write(captured)
         if not values:
             limbs = cols.data.shape[2]
             empty = np.zeros((0, cols.ports, limbs), dtype=np.uint64)
             return empty, empty.copy()
-        return np.concatenate(values), np.concatenate(defined)
+        return np.concatenate(values)[:n], np.concatenate(defined)[:n]
 
-    async def _batch(self, count: int, dump: bool) -> None:
+    def _run_batch(
+        self, cols: Columns, resets: np.ndarray, states: np.ndarray, dump: bool
+    ) -> tuple[np.ndarray, np.ndarray]:
+        n = len(cols)
+        if self.runner is not None:
+            self.runner.before_batch(n)
+        t0 = time.perf_counter()
+        texts, tick, rows = self.layout.stim(cols, resets, states if states.any() else None)
+        t1 = time.perf_counter()
+        for g, text in enumerate(texts):
+            (self.workdir / stim_file(g)).write_bytes(text)
+        if tick is not None:
+            (self.workdir / TICK_FILE).write_bytes(tick)
+        resume(self._batch)([len(r) for r in rows], n if tick is not None else 0, dump)
+        caps = [(self.workdir / cap_file(g)).read_bytes() for g in range(len(texts))]
+        t2 = time.perf_counter()
+        v, d = self.layout.decode(caps, rows, n)
+        self.batch_seconds += t2 - t1
+        self.codec_seconds += t1 - t0 + time.perf_counter() - t2
+        self.sim_cycles += n
+        self.sim_units += self.layout.timing.lead + self.layout.timing.hyper * (n // self.layout.hyper)
+        self.batches += 1
+        if self.record is not None:
+            with (self.record / STIM_FILE).open("ab") as fb:
+                fb.write(texts[0])
+            with (self.record / CAP_FILE).open("ab") as fb:
+                fb.write(caps[0])
+        return v, d
+
+    async def _batch(self, counts: list[int], ticks: int, dump: bool) -> None:
         if dump and not self.dumping:
             self.dut.mc_dump.value = 1
             self.dumping = True
-        self.dut.mc_count.value = count
+        for g, count in enumerate(counts):
+            getattr(self.dut, f"mc_count_{g}").value = count
+        if self.layout.tick is not None:
+            self.dut.mc_tcount.value = ticks
         self.go ^= 1
         self.dut.mc_go.value = self.go
         await self.dut.mc_done.value_change

@@ -25,11 +25,11 @@ from pathlib import Path
 from memcheck.contract import Contract, RtlSpec
 from memcheck.errors import SimulationError
 from memcheck.sim.plumbing.harness import HARNESS_TOP, harness_text
-from memcheck.sim.plumbing.layout import Layout
 from memcheck.sim.plumbing.pins import PinCheck, check_pins, read_ports
+from memcheck.sim.plumbing.words import HarnessLayout
 
 #: Bump when the harness or build steps change, so old build folders are not reused.
-BUILD_FORMAT = 5
+BUILD_FORMAT = 6
 _MAX_ERROR_LINES = 40
 
 
@@ -39,8 +39,10 @@ class Build:
 
     contract: Contract
     folder: Path
-    layout: Layout
+    layout: HarnessLayout
     pins: PinCheck
+    #: True when the simulation image was already up to date (nothing was compiled for it).
+    reused: bool = False
 
     @property
     def sim_dir(self) -> Path:
@@ -154,11 +156,13 @@ def build(contract: Contract, cache_root: Path) -> Build:
         _compile(rtl, list(rtl.sources), rtl.top, probe, folder / "probe.log", parameters=True, timescale=scale)
         ports = read_ports(probe / "sim.vvp", rtl.top)
         pins = check_pins(contract, ports, rtl.top)
-        layout = Layout.build(contract, pins.widths)
+        layout = HarnessLayout.build(contract, pins.widths)
         text = harness_text(contract, layout, rtl.top, rtl.parameters)
         harness = folder / f"{HARNESS_TOP}.v"
         if not harness.is_file() or harness.read_text(encoding="utf-8") != text:
             harness.write_text(text, encoding="utf-8")
+        image = folder / "sim" / "sim.vvp"
+        before = image.stat().st_mtime_ns if image.is_file() else None
         _compile(
             rtl,
             [*rtl.sources, harness],
@@ -168,7 +172,8 @@ def build(contract: Contract, cache_root: Path) -> Build:
             parameters=False,
             timescale=scale,
         )
-    return Build(contract=contract, folder=folder, layout=layout, pins=pins)
+        reused = before is not None and image.is_file() and image.stat().st_mtime_ns == before
+    return Build(contract=contract, folder=folder, layout=layout, pins=pins, reused=reused)
 
 
 def iverilog_version() -> str:

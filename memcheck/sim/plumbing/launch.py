@@ -18,7 +18,7 @@ from pathlib import Path
 from typing import Any
 
 from memcheck.contract import Contract
-from memcheck.errors import SimulationError
+from memcheck.errors import SimulationError, SimulationStalled
 from memcheck.sim.checking.outcome import RunResult
 from memcheck.sim.options import SimOptions
 from memcheck.sim.plumbing.build import Build
@@ -80,6 +80,28 @@ def _where(last: Mapping[str, Any] | None) -> str:
     return text
 
 
+#: A simulator log past this many bytes earns a warning in the report: a model's verbose default
+#: output (one third-party model wrote 123 MB) slows a check down noticeably.
+LOG_WARN_BYTES = 16 * 2**20
+
+
+def _size(n: int) -> str:
+    return f"{n / 2**20:.0f} MB" if n >= 2**20 else f"{n} bytes"
+
+
+def log_size_note(log: Path, limit: int = LOG_WARN_BYTES) -> str | None:
+    """A warning when the simulator log ``log`` is larger than ``limit`` bytes (None otherwise)."""
+    size = log.stat().st_size if log.is_file() else 0
+    if size <= limit:
+        return None
+    return (
+        f"the simulator log {log} grew to {_size(size)} (over the {_size(limit)} limit): the RTL "
+        "prints a lot ($display or $monitor in a model, or a model's verbose default messages), which slows the "
+        "check down; switch that output off with the model's own define or parameter ([rtl] defines or "
+        "parameters)"
+    )
+
+
 def run_job(
     build: Build,
     job: Mapping[str, Any],
@@ -88,8 +110,10 @@ def run_job(
     stall_seconds: float = DEFAULT_STALL_SECONDS,
     on_progress: ProgressCallback | None = None,
     vcd: bool = False,
+    log_limit: int = LOG_WARN_BYTES,
 ) -> RunResult:
-    """Run ``job`` (mode, options, failure to replay) in a fresh simulator; returns its result."""
+    """Run ``job`` (mode, options, failure to replay) in a fresh simulator; returns its result, with a
+    note when the simulator log grew past ``log_limit`` bytes."""
     workdir = Path(workdir).resolve()
     workdir.mkdir(parents=True, exist_ok=True)
     pickle_file = workdir / "contract.pickle"
@@ -134,7 +158,7 @@ def run_job(
             log_file=log,
         )
     except Stalled as exc:
-        raise SimulationError(
+        raise SimulationStalled(
             f"the simulation stopped making progress (nothing for {exc.seconds:g} s) {_where(exc.last)}; "
             "the RTL may contain a zero-delay loop or wait for something that never happens. "
             f"The simulator was stopped; its log is {log}."
@@ -156,4 +180,6 @@ def run_job(
         err = SimulationError(str(out.get("error", "unknown error in the simulation")))
         err.sim_traceback = str(out.get("traceback", ""))  # type: ignore[attr-defined]
         raise err
-    return RunResult.from_json(out)
+    result = RunResult.from_json(out)
+    note = log_size_note(log, log_limit)
+    return result if note is None else dataclasses.replace(result, notes=(*result.notes, note))

@@ -20,7 +20,7 @@ from memcheck._limbs import bits_to_limbs, limbs_to_bits
 from memcheck.contract import Contract, PortSpec
 from memcheck.errors import InvalidOperation
 from memcheck.model_fast import IDLE, READ, WRITE, Columns, limbs_of
-from memcheck.ops import Cycle, OpKind, PortOp
+from memcheck.ops import Cycle, OpKind, PortOp, Power
 from memcheck.records import Observed
 
 #: Cycles the harness holds per batch; longer runs are split into several batches.
@@ -47,6 +47,8 @@ class PortFields:
 
     spec: PortSpec
     address: Field
+    #: The port's place in the contract (a word of the harness may carry only some ports).
+    index: int = 0
     enable: Field | None = None
     write_enable: Field | None = None
     write_data: Field | None = None
@@ -72,10 +74,28 @@ class Layout:
     cap_width: int
     #: ``[rtl] tie`` pins held at a constant by the harness: (pin, width, value).
     ties: tuple[tuple[str, int, int], ...] = ()
+    #: ``[power]`` pins sampled per tick: sleep, then shutdown (None where the contract has none).
+    sleep: Field | None = None
+    shutdown: Field | None = None
+    #: Delay (harness time units) before the word's pins change: only in the word of tick-sampled pins
+    #: (reset, power) of a contract with several clocks.
+    delay: Field | None = None
 
     @classmethod
-    def build(cls, contract: Contract, widths: Mapping[str, int]) -> Layout:
-        """Lay out every contract pin; ``widths`` are the top module's pin widths (see pins.py)."""
+    def build(
+        cls,
+        contract: Contract,
+        widths: Mapping[str, int],
+        ports: Sequence[int] | None = None,
+        *,
+        tick: bool = True,
+        delay_bits: int = 0,
+    ) -> Layout:
+        """Lay out contract pins; ``widths`` are the top module's pin widths (see pins.py).
+
+        ``ports`` (indices, default all) are the ports this word carries; with ``tick`` it also carries the
+        pins sampled per tick (reset, power); ``delay_bits`` > 0 puts a delay field first (the word of the
+        tick-sampled pins of a contract with several clocks)."""
         stim = 0
         cap = 0
 
@@ -87,12 +107,18 @@ class Layout:
             stim += width
             return f
 
-        reset = None
-        if contract.reset is not None:
+        delay = take("mc_delay", delay_bits) if delay_bits else None
+        reset = sleep = shutdown = None
+        if tick and contract.reset is not None:
             reset = take(contract.reset.signal, 1, contract.reset.active_low)
-        ports: list[PortFields] = []
+        power = contract.power
+        if tick and power is not None:
+            sleep = take(power.sleep, 1, power.sleep in power.active_low)
+            shutdown = take(power.shutdown, 1, power.shutdown in power.active_low)
+        fields: list[PortFields] = []
         m = contract.memory
-        for p in contract.ports:
+        for index in range(len(contract.ports)) if ports is None else ports:
+            p = contract.ports[index]
             enable = take(p.enable, 1, p.enable in p.active_low)
             we = take(p.write_enable, 1, p.write_enable in p.active_low)
             address = take(p.address, widths.get(p.address, m.address_bits))
@@ -103,22 +129,33 @@ class Layout:
             if p.read_data is not None:
                 rdata = Field(p.read_data, cap, m.width)
                 cap += m.width
-            ports.append(PortFields(p, address, enable, we, wdata, lanes, rdata))
+            fields.append(PortFields(p, address, index, enable, we, wdata, lanes, rdata))
         tie = contract.rtl.tie if contract.rtl is not None else {}
         ties = tuple((pin, widths.get(pin, 1), value) for pin, value in tie.items())
-        return cls(contract, tuple(ports), reset, max(stim, 1), max(cap, 1), ties)
+        return cls(contract, tuple(fields), reset, max(stim, 1), max(cap, 1), ties, sleep, shutdown, delay)
+
+    def tick_inputs(self) -> tuple[Field, ...]:
+        """The pins of this word sampled per tick (reset, sleep, shutdown)."""
+        return tuple(f for f in (self.reset, self.sleep, self.shutdown) if f is not None)
+
+    def inputs(self) -> tuple[Field, ...]:
+        """Every input pin this word drives."""
+        return self.tick_inputs() + tuple(f for pf in self.ports for f in pf.inputs())
 
     # -- stimulus ------------------------------------------------------------------------
 
-    def encode(self, cycle: Sequence[PortOp], reset: bool = False) -> int:
+    def encode(self, cycle: Sequence[PortOp], reset: bool = False, power: Power = Power.ON) -> int:
         """The stimulus word for one cycle (active-low pins already inverted)."""
         word = 0
-        if self.reset is not None:
-            word |= (int(reset) ^ int(self.reset.active_low)) << self.reset.offset
-        if len(cycle) != len(self.ports):
-            raise InvalidOperation(f"a cycle needs one operation per port ({len(self.ports)}), got {len(cycle)}")
-        for pf, op in zip(self.ports, cycle, strict=True):
-            word |= self._encode_port(pf, op)
+        tick = ((self.reset, reset), (self.sleep, power == Power.SLEEP), (self.shutdown, power == Power.SHUTDOWN))
+        for f, on in tick:
+            if f is not None:
+                word |= (int(on) ^ int(f.active_low)) << f.offset
+        n = len(self.contract.ports)
+        if len(cycle) != n:
+            raise InvalidOperation(f"a cycle needs one operation per port ({n}), got {len(cycle)}")
+        for pf in self.ports:
+            word |= self._encode_port(pf, cycle[pf.index])
         return word
 
     def _encode_port(self, pf: PortFields, op: PortOp) -> int:
@@ -153,7 +190,7 @@ class Layout:
 
     def idle_word(self) -> int:
         """Stimulus with every port disabled and clean pins (reset deasserted)."""
-        cycle = tuple(PortOp(OpKind.IDLE) if p.spec.can_idle else PortOp(OpKind.READ, 0) for p in self.ports)
+        cycle = tuple(PortOp(OpKind.IDLE) if p.can_idle else PortOp(OpKind.READ, 0) for p in self.contract.ports)
         return self.encode(cycle)
 
     def stim_text(self, cycles: Sequence[Cycle], resets: Sequence[bool] | None = None) -> str:
@@ -162,9 +199,16 @@ class Layout:
             return "".join(f"{self.encode(c):x}\n" for c in cycles)
         return "".join(f"{self.encode(c, r):x}\n" for c, r in zip(cycles, resets, strict=True))
 
-    def stim_bytes(self, cols: Columns, reset: bool | np.ndarray = False) -> bytes:
+    def stim_bytes(
+        self,
+        cols: Columns,
+        reset: bool | np.ndarray = False,
+        power: np.ndarray | None = None,
+        delay: np.ndarray | None = None,
+    ) -> bytes:
         """``$readmemh`` text for a whole trace at once (numpy): the same words as :meth:`encode`,
-        written with leading zeros."""
+        written with leading zeros. ``power``: (n,) :class:`Power` codes; ``delay``: (n,) delays for
+        the delay field."""
         n = len(cols)
         nib = (self.stim_width + 3) // 4
         narrow = self.stim_width <= 64
@@ -189,9 +233,10 @@ class Layout:
                 b ^= 1
             bits[:, f.offset : f.offset + f.width] = b
 
-        if self.reset is not None:
-            put(self.reset, np.broadcast_to(np.asarray(reset, dtype=bool), (n,)))
-        for i, pf in enumerate(self.ports):
+        for f, values in self._tick_values(n, reset, power, delay):
+            put(f, values)
+        for pf in self.ports:
+            i = pf.index
             kind = cols.kind[:, i]
             addr = cols.address[:, i]
             if n and (int(addr.min()) < 0 or (pf.address.width < 63 and int(addr.max()) >> pf.address.width)):
@@ -218,6 +263,19 @@ class Layout:
         chars[:, nib] = ord("\n")
         return chars.tobytes()
 
+    def _tick_values(
+        self, n: int, reset: bool | np.ndarray, power: np.ndarray | None, delay: np.ndarray | None
+    ) -> list[tuple[Field, np.ndarray]]:
+        """The per-tick fields of this word with their values over ``n`` words."""
+        state = np.zeros(n, dtype=np.int8) if power is None else np.asarray(power)
+        out = [
+            (self.reset, np.broadcast_to(np.asarray(reset, dtype=bool), (n,))),
+            (self.sleep, state == Power.SLEEP),
+            (self.shutdown, state == Power.SHUTDOWN),
+            (self.delay, np.zeros(n, dtype=np.uint64) if delay is None else np.asarray(delay, dtype=np.uint64)),
+        ]
+        return [(f, v) for f, v in out if f is not None]
+
     # -- capture -------------------------------------------------------------------------
 
     def decode_arrays(self, data: bytes, count: int) -> tuple[np.ndarray, np.ndarray]:
@@ -225,9 +283,10 @@ class Layout:
         ``defined`` has a 1 for every bit that was 0 or 1. Ports without read data get zeros."""
         arr = self._capture_chars(data, count)
         limbs = limbs_of(self.contract.memory.width)
-        value = np.zeros((count, len(self.ports), limbs), dtype=np.uint64)
+        value = np.zeros((count, len(self.contract.ports), limbs), dtype=np.uint64)
         defined = np.zeros_like(value)
-        for i, pf in enumerate(self.ports):
+        for pf in self.ports:
+            i = pf.index
             f = pf.read_data
             if f is None or count == 0:
                 continue

@@ -31,7 +31,9 @@ class TopPort:
     width: int
 
     def describe(self) -> str:
-        return f"{self.direction} [{self.width}] {self.name}" if self.width > 1 else f"{self.direction} {self.name}"
+        return (
+            f"{self.direction} {_range(self.width)} {self.name}" if self.width > 1 else f"{self.direction} {self.name}"
+        )
 
 
 def read_ports(vvp_file: Path, top: str) -> dict[str, TopPort]:
@@ -122,8 +124,8 @@ def check_pins(contract: Contract, ports: Mapping[str, TopPort], top: str) -> Pi
         ok = port.width >= m.address_bits if width is None else width in (ANY_WIDTH, port.width)
         if not ok:
             raise SimulationError(
-                f"pin {pin!r} ({what}) of {top!r} is {port.width} bit{'s' if port.width != 1 else ''} wide, "
-                f"but the contract needs {want}. Its ports are: {actual}."
+                f"pin {pin!r} ({what}) of {top!r} is {_declared(port.width)}, but the contract needs {want}. "
+                f"Its ports are: {actual}."
             )
         widths[pin] = port.width
     _check_ties(contract, widths, top)
@@ -131,12 +133,22 @@ def check_pins(contract: Contract, ports: Mapping[str, TopPort], top: str) -> Pi
     return PinCheck(widths=widths, unconnected_inputs=spare)
 
 
+def _range(width: int) -> str:
+    """A width as a Verilog declaration writes it: 4 -> ``[3:0]``."""
+    return f"[{width - 1}:0]"
+
+
+def _declared(width: int) -> str:
+    """``[3:0] (4 bits wide)`` / ``1 bit wide``."""
+    return f"{_range(width)} ({width} bits wide)" if width > 1 else "1 bit wide"
+
+
 def _wanted(width: int | None, address_bits: int, words: int) -> str:
     if width == ANY_WIDTH:
         return "any width"
     if width is None:
-        return f"at least {address_bits} bit{'s' if address_bits != 1 else ''} for {words} words"
-    return f"{width} bit{'s' if width != 1 else ''}"
+        return f"at least {_declared(address_bits).replace(' wide', '')} for {words} words"
+    return f"{_range(width)} ({width} bits)" if width > 1 else "1 bit"
 
 
 def _check_ties(contract: Contract, widths: Mapping[str, int], top: str) -> None:

@@ -1,0 +1,166 @@
+"""The simulator side of memories as they are: several clocks with their own periods and phases, a
+slow clock-to-output delay against the clock period and ``[timing] sample``, addresses beyond
+``words`` driven over the whole address pin, and read-back through a read-only port in the smoke phase.
+
+Each invented fixture under tests/rtl/ has a conforming variant that passes and a bug that is caught
+with a short trace that replays. Same-instant edges follow IEEE 1364-2005 section 11 (scheduling
+semantics): processes of one time step run in any order, nonblocking updates after all of them.
+"""
+
+from __future__ import annotations
+
+import shutil
+from pathlib import Path
+
+import pytest
+
+from memcheck.contract import Contract, load_contract, parse_contract
+from memcheck.records import CheckResult
+from memcheck.sim import check_contract, replay_file
+from memcheck.sim.checking.ticks import edge_pattern, harness_timing, hyper_ticks, lay
+
+RTL = Path(__file__).parent / "rtl"
+
+
+def _fixture(tmp_path: Path, name: str, **fields: str) -> Contract:
+    """Copy tests/rtl/<name> to tmp_path and fill its contract template (or copy contract.toml)."""
+    folder = tmp_path / name
+    shutil.copytree(RTL / name, folder)
+    template = folder / "contract.toml.in"
+    path = folder / "contract.toml"
+    if template.is_file():
+        path.write_text(template.read_text(encoding="utf-8").format(**fields), encoding="utf-8")
+    return load_contract(path)
+
+
+def _run(c: Contract, tmp_path: Path, **opts: object) -> CheckResult:
+    return check_contract(c, seed=4, out_dir=tmp_path / "out", waveform=False, **opts)  # type: ignore[arg-type]
+
+
+def _caught_short_and_replays(res: CheckResult, max_cycles: int = 12) -> None:
+    assert res.verdict == "fail", res.summary()
+    assert res.failure is not None and res.replay_file is not None
+    assert len(res.failure.trace) <= max_cycles, res.summary()
+    assert res.reproduced, res.summary()
+    again = replay_file(res.replay_file, waveform=False)
+    assert again.reproduced, "the replay must show the recorded mismatch"
+
+
+# -- the tick timeline and the harness's timing (no simulator) -----------------------------------
+
+
+def test_dual_clock_pattern_and_harness_times_are_exact() -> None:
+    c = load_contract(RTL / "dual" / "contract.toml")
+    # clka 10 ns phase 0, clkb 15 ns phase 3: in 30 ns, a at 0, 10, 20 and b at 3, 18 (hand-worked)
+    assert hyper_ticks(c) == 5
+    assert edge_pattern(c).tolist() == [[True, False], [False, True], [True, False], [False, True], [True, False]]
+    t = harness_timing(c)
+    assert t.timescale == "1ps/1ps" and t.tick_times == (0, 3000, 10000, 18000, 20000)
+    a, b = t.groups
+    # first edge of each group = lead + phase; inputs 1 ns after each edge, sample 1 ns before the next
+    assert (a.first + a.period, b.first + b.period) == (t.lead, t.lead + 3000)
+    assert (a.apply, a.sample, b.apply, b.sample) == (1000, 9000, 1000, 14000)
+
+
+def test_laying_puts_every_operation_on_an_edge_of_its_port() -> None:
+    c = load_contract(RTL / "dual" / "contract.toml")
+    from memcheck.ops import NO_EDGE, read, write
+
+    laid = lay(c, [(write(1, 5), read(1)), (read(2), write(3, 4))])
+    assert len(laid) % hyper_ticks(c) == 0
+    ops = [(k, i, op) for k, cyc in enumerate(laid) for i, op in enumerate(cyc) if op.kind.name in ("READ", "WRITE")]
+    assert [(i, op) for _, i, op in ops] == [(0, write(1, 5)), (1, read(1)), (0, read(2)), (1, write(3, 4))]
+    pat = edge_pattern(c).tolist()
+    for k, cyc in enumerate(laid):
+        for i, op in enumerate(cyc):
+            assert (op == NO_EDGE) == (not pat[k % len(pat)][i])
+
+
+def test_sample_point_moves_the_capture_and_keeps_room_for_the_inputs() -> None:
+    text = (RTL / "slow" / "contract.toml.in").read_text(encoding="utf-8")
+    c = parse_contract(
+        text.format(period="20.0", timing="[timing]\nsample = 12.5\n", sample_note=""), base_dir=RTL / "slow"
+    )
+    (g,) = harness_timing(c).groups
+    assert (g.period, g.apply, g.sample) == (20000, 1000, 12500)
+
+
+# -- under Icarus ---------------------------------------------------------------------------------
+
+
+@pytest.mark.icarus
+def test_dual_clock_tdp_conforms_and_an_address_bug_on_the_second_clock_is_caught(tmp_path: Path) -> None:
+    c = _fixture(tmp_path, "dual")
+    res = _run(c, tmp_path / "ok", examples=25, bulk_examples=2)
+    assert res.verdict == "pass", res.summary()
+    bug_file = tmp_path / "dual" / "bug.toml"
+    text = (tmp_path / "dual" / "contract.toml").read_text(encoding="utf-8")
+    bug_file.write_text(text.replace('top = "tdp_dual"', 'top = "tdp_dual"\ndefines = { BUG_B_ADDR = 1 }'), "utf-8")
+    bug = load_contract(bug_file)
+    res = _run(bug, tmp_path / "bug", examples=25, bulk_examples=0, phases=("smoke", "property"))
+    _caught_short_and_replays(res)
+
+
+@pytest.mark.icarus
+def test_slow_clock_to_output_fails_at_10_ns_and_passes_at_20_ns(tmp_path: Path) -> None:
+    fast = _fixture(tmp_path / "a", "slow", period="10.0", timing="", sample_note="")
+    res = _run(fast, tmp_path / "a", examples=10, bulk_examples=0, phases=("smoke", "property"))
+    _caught_short_and_replays(res)
+    slow = _fixture(tmp_path / "b", "slow", period="20.0", timing="", sample_note="")
+    assert _run(slow, tmp_path / "b", examples=10, bulk_examples=1).verdict == "pass"
+
+
+@pytest.mark.icarus
+def test_a_sample_point_before_the_data_settles_fails(tmp_path: Path) -> None:
+    # 20 ns clock: the data is valid 11 ns after the edge; sampling at 10 ns is too early, at 12 ns fine
+    early = _fixture(tmp_path / "a", "slow", period="20.0", timing="[timing]\nsample = 10.0\n", sample_note="")
+    res = _run(early, tmp_path / "a", examples=10, bulk_examples=0, phases=("smoke",))
+    assert res.verdict == "fail", res.summary()
+    late = _fixture(tmp_path / "b", "slow", period="20.0", timing="[timing]\nsample = 12.0\n", sample_note="")
+    assert _run(late, tmp_path / "b", examples=10, bulk_examples=1).verdict == "pass"
+
+
+@pytest.mark.icarus
+@pytest.mark.parametrize(
+    ("words", "out_of_range", "defines", "verdict"),
+    [
+        ("512", "ignore", "", "pass"),  # ignores addresses >= 512: as promised
+        ("512", "wrap", "", "fail"),  # ... but does not alias them
+        ("512", "wrap", "WRAP = 1", "pass"),  # aliases: as promised
+        ("512", "ignore", "WRAP = 1", "fail"),  # ... so a write at 512 + a changes word a
+        ("1024", "unchecked", "WRAP = 1", "fail"),  # 1024 words declared, 512 stored
+    ],
+)
+def test_addresses_beyond_words_are_driven_over_the_whole_pin(
+    tmp_path: Path, words: str, out_of_range: str, defines: str, verdict: str
+) -> None:
+    c = _fixture(tmp_path, "oor", words=words, out_of_range=out_of_range, defines=defines)
+    phases = ("property",) if words == "512" else ("smoke", "sweep", "property")
+    res = _run(c, tmp_path, examples=40, bulk_examples=2, phases=phases)
+    assert res.verdict == verdict, res.summary()
+    if verdict == "fail":
+        _caught_short_and_replays(res)
+
+
+@pytest.mark.icarus
+def test_smoke_reads_back_through_a_read_only_port(tmp_path: Path) -> None:
+    ok = _fixture(tmp_path / "a", "r1w1", defines="")
+    assert _run(ok, tmp_path / "a", phases=("smoke",)).verdict == "pass"
+    bug = _fixture(tmp_path / "b", "r1w1", defines="BUG_READ_ADDR = 1")
+    res = _run(bug, tmp_path / "b", phases=("smoke",))
+    assert res.verdict == "fail", res.summary()
+    assert res.phases[0].name == "smoke" and res.phases[0].verdict == "fail"
+    _caught_short_and_replays(res)
+
+
+@pytest.mark.icarus
+@pytest.mark.parametrize(
+    ("defines", "verdict"), [("", "pass"), ("BUG_SLEEP_WRITE = 1", "fail"), ("BUG_NO_WAKE = 1", "fail")]
+)
+def test_power_pins_are_driven_with_sleep_and_shutdown_episodes(tmp_path: Path, defines: str, verdict: str) -> None:
+    c = _fixture(tmp_path, "pwr", defines=defines)
+    res = _run(c, tmp_path, examples=150, bulk_examples=1)
+    assert res.verdict == verdict, res.summary()
+    if verdict == "fail":
+        _caught_short_and_replays(res)
+        assert res.failure is not None and any(res.failure.trace.power), "the failing trace has a power episode"
