@@ -22,6 +22,7 @@ import numpy as np
 from memcheck.contract import Contract
 from memcheck.model_fast import READ, Columns
 from memcheck.sim.checking.schedule import MarchSchedule
+from memcheck.sim.checking.ticks import hyper_ticks
 
 #: Rows before the difference added to the focus rows.
 FOCUS_TAILS = (2, 4, 8, 16, 64, 256)
@@ -74,7 +75,10 @@ def first_candidates(contract: Contract, stretch: Columns, failing: int, window_
     hit = touching(contract, cols, failing_addresses(contract, cols, failing))
     out: list[Columns] = []
     seen: set[tuple[int, int]] = set()  # (rows kept, first tail row): candidates differ by these
-    for k in FOCUS_TAILS:
+    # Several clocks: rows are ticks of a fixed edge pattern, so only windows that start on the
+    # pattern are tried (a subset of rows would shift every later tick's edges).
+    hyper = hyper_ticks(contract)
+    for k in FOCUS_TAILS if contract.lockstep else ():
         k = min(k, window_max, n)
         mask = hit.copy()
         mask[n - k :] = True
@@ -84,7 +88,7 @@ def first_candidates(contract: Contract, stretch: Columns, failing: int, window_
             out.append(_rows(cols, mask))
     w = 1
     while w <= min(n, window_max):
-        out.append(cols[n - w :])
+        out.append(cols[(n - w) // hyper * hyper :])
         if w == n:
             break
         w = min(2 * w, n)
