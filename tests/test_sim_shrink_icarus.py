@@ -46,7 +46,6 @@ def test_the_posted_write_wrapper_without_its_bug_passes_the_sweep(tmp_path: Pat
     assert res.verdict == "pass", res.summary()
 
 
-@pytest.mark.slow
 def test_a_64k_word_wrapper_gets_the_whole_sweep_and_a_short_trace_for_a_bug_near_the_top(tmp_path: Path) -> None:
     """March C- over 65,536 words, solid background: 655,360 operations (10N, A.J. van de Goor,
     "Testing Semiconductor Memories: Theory and Practice", 1991), run inside the simulator in batches.
