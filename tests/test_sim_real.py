@@ -16,6 +16,8 @@ import pytest
 
 from memcheck.contract import Contract, load_contract, parse_contract
 from memcheck.records import CheckResult
+from memcheck.report.json_report import report_dict
+from memcheck.report.text import render_report
 from memcheck.sim import check_contract, replay_file
 from memcheck.sim.checking.ticks import edge_pattern, harness_timing, hyper_ticks, lay
 
@@ -106,6 +108,13 @@ def test_slow_clock_to_output_fails_at_10_ns_and_passes_at_20_ns(tmp_path: Path)
     fast = _fixture(tmp_path / "a", "slow", period="10.0", timing="", sample_note="")
     res = _run(fast, tmp_path / "a", examples=10, bulk_examples=0, phases=("smoke", "property"))
     _caught_short_and_replays(res)
+    # the replay records how the read data settled: the report points at the timing, not the logic
+    assert res.failure is not None
+    hint = res.failure.timing_hint
+    assert "after the sample point" in hint and "check [timing] sample or the clock period" in hint, hint
+    assert "2 ns after" in hint  # valid 11 ns after the edge, sampled at 9 ns (hand-worked)
+    assert f"Timing: {hint}" in render_report(res)
+    assert report_dict(res)["minimal_trace"]["timing_hint"] == hint
     slow = _fixture(tmp_path / "b", "slow", period="20.0", timing="", sample_note="")
     assert _run(slow, tmp_path / "b", examples=10, bulk_examples=1).verdict == "pass"
 
