@@ -65,8 +65,9 @@ class CycleRow:
     diff: tuple[int, ...]
     #: The power pins during this cycle (contracts with ``[power]``; "on" otherwise).
     power: Power = Power.ON
-    #: Per port, read data as it settled after the sample point (replays only; empty otherwise).
-    settled: tuple[Settled | None, ...] = ()
+    #: Per port, read data as it settled after the sample point (replays only; empty otherwise). Not
+    #: part of a row's identity: two runs of the same trace compare equal whether or not they recorded it.
+    settled: tuple[Settled | None, ...] = field(default=(), compare=False)
 
     @property
     def ok(self) -> bool:
