@@ -58,7 +58,15 @@ class _Seen:
 
     @property
     def issue_cycle(self) -> int:
-        return self.row.cycle - self.contract.memory.read_latency
+        """The cycle of the port's own edge ``read_latency`` edges before this one (several clocks: the
+        ticks without its edge do not count)."""
+        lat = self.contract.memory.read_latency
+        if lat == 0:
+            return self.row.cycle
+        own = [
+            r.cycle for r in self.checked.rows if r.cycle < self.row.cycle and r.ops[self.port].kind != OpKind.NO_EDGE
+        ]
+        return own[-lat] if len(own) >= lat else self.row.cycle - lat
 
     @property
     def when(self) -> str:
