@@ -252,3 +252,24 @@ def test_out_of_range_addresses_cover_the_whole_pin_and_restores_write_the_alias
 def _fixture_contract(name: str, **fields: str) -> Contract:
     text = (RTL / name / "contract.toml.in").read_text(encoding="utf-8").format(**fields)
     return parse_contract(text, base_dir=RTL / name)
+
+
+def test_a_batch_splits_over_the_clock_groups_word_by_word() -> None:
+    import numpy as np
+
+    from memcheck.model_fast import Columns
+    from memcheck.ops import read, write
+    from memcheck.sim.plumbing.words import HarnessLayout
+
+    c = load_contract(RTL / "dual" / "contract.toml")
+    widths = {"addra": 5, "addrb": 5, "dina": 16, "dinb": 16, "douta": 16, "doutb": 16}
+    lay_ = HarnessLayout.build(c, widths)
+    cycles = lay(c, [(write(1, 0xAB), read(2)), (read(1), write(2, 0xCD)), (read(3), read(3))])
+    texts, tick, rows = lay_.stim(Columns.from_cycles(c, cycles), np.zeros(len(cycles), dtype=bool))
+    assert tick is None  # no reset, no power: no per-tick file
+    pat = edge_pattern(c)
+    for g, (text, r) in enumerate(zip(texts, rows, strict=True)):
+        port = lay_.timing.groups[g].ports[0]
+        assert [int(k) for k in r] == [k for k in range(len(cycles)) if pat[k % len(pat), port]]
+        words = [int(w, 16) for w in text.decode().split()]
+        assert words == [lay_.words[g].encode(cycles[k]) for k in r]
