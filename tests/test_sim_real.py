@@ -24,6 +24,7 @@ from memcheck.sim import check_contract, replay_file
 from memcheck.sim.checking.sequences import restore_targets
 from memcheck.sim.checking.settling import timing_hint
 from memcheck.sim.checking.ticks import edge_pattern, harness_timing, hyper_ticks, lay
+from memcheck.sim.plumbing.words import HarnessLayout
 from memcheck.strategies import hot_addresses, traces
 
 RTL = Path(__file__).parent / "rtl"
@@ -259,7 +260,6 @@ def test_a_batch_splits_over_the_clock_groups_word_by_word() -> None:
 
     from memcheck.model_fast import Columns
     from memcheck.ops import read, write
-    from memcheck.sim.plumbing.words import HarnessLayout
 
     c = load_contract(RTL / "dual" / "contract.toml")
     widths = {"addra": 5, "addrb": 5, "dina": 16, "dinb": 16, "douta": 16, "doutb": 16}
@@ -273,3 +273,14 @@ def test_a_batch_splits_over_the_clock_groups_word_by_word() -> None:
         assert [int(k) for k in r] == [k for k in range(len(cycles)) if pat[k % len(pat), port]]
         words = [int(w, 16) for w in text.decode().split()]
         assert words == [lay_.words[g].encode(cycles[k]) for k in r]
+
+
+@pytest.mark.icarus
+@pytest.mark.parametrize(("defines", "verdict"), [("", "pass"), ("BUG_SLEEP_WRITE = 1", "fail")])
+def test_two_clocks_with_reset_and_sleep_drive_the_per_tick_pins(tmp_path: Path, defines: str, verdict: str) -> None:
+    c = _fixture(tmp_path, "pwr2", defines=defines)
+    assert HarnessLayout.build(c, {"waddr": 4, "raddr": 4, "wdata": 8, "rdata": 8}).tick is not None
+    res = _run(c, tmp_path, examples=150, bulk_examples=1)
+    assert res.verdict == verdict, res.summary()
+    if verdict == "fail":
+        _caught_short_and_replays(res, max_cycles=24)  # ticks of two clocks: about 8 cycles of each
