@@ -284,3 +284,18 @@ def test_two_clocks_with_reset_and_sleep_drive_the_per_tick_pins(tmp_path: Path,
     assert res.verdict == verdict, res.summary()
     if verdict == "fail":
         _caught_short_and_replays(res, max_cycles=24)  # ticks of two clocks: about 8 cycles of each
+
+
+@pytest.mark.icarus
+def test_march_run_on_two_clocks_names_the_failing_tick_and_replays(tmp_path: Path) -> None:
+    from memcheck.sim import run_march
+
+    folder = tmp_path / "dual"
+    shutil.copytree(RTL / "dual", folder)
+    text = (folder / "contract.toml").read_text(encoding="utf-8")
+    (folder / "bug.toml").write_text(text.replace('top = "tdp_dual"', 'top = "tdp_dual"\ndefines = { BUG_B_ADDR = 1 }'))
+    r = run_march(load_contract(folder / "bug.toml"), "MATS+", port="b", out_dir=tmp_path / "out", waveform=False)
+    assert r.verdict == "fail" and r.failure is not None
+    assert r.failure.port == "b" and "March step is not named" in r.failure.description
+    assert r.reproduced and r.replay_file is not None
+    assert replay_file(r.replay_file, waveform=False).reproduced
