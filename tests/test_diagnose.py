@@ -19,7 +19,7 @@ from memcheck.diagnose import FailRow, diagnose, fail_log, parse_fail_log, read_
 from memcheck.diagnose.predict import collect, fault_words, predict
 from memcheck.errors import FailLogError
 from memcheck.faults import Arrangement, Cell, CouplingFault, FaultInstance, model_named
-from memcheck.faults.reference import _states
+from memcheck.faults.replay import power_up_states
 from memcheck.faults.sampling import sample_class
 from memcheck.faults.universe import STATIC_CLASSES
 from memcheck.march.library import resolve_test
@@ -34,7 +34,7 @@ def _injected(cls: str, setup: Arrangement) -> tuple[str, FaultInstance, list[Fa
     for name in TESTS:
         test = resolve_test(name)
         for fault in sample_class(cls, setup, 4, seed=11):
-            for state in _states(len(fault.power_up_labels())):
+            for state in power_up_states(len(fault.power_up_labels())):
                 log = fail_log(test, fault, setup, state)
                 if log:
                     return name, fault, log
@@ -78,7 +78,7 @@ def test_predictor_equals_whole_stream_reference(name: str, setup: Arrangement) 
     for cls in STATIC_CLASSES:
         for fault in sample_class(cls, setup, 6, seed=3):
             predicted = predict(fault, events.of(fault_words(fault)), setup.width)
-            for state, p in zip(_states(len(fault.power_up_labels())), predicted, strict=True):
+            for state, p in zip(power_up_states(len(fault.power_up_labels())), predicted, strict=True):
                 assert p == fail_log(test, fault, setup, state), f"{fault} from {state}"
 
 
@@ -131,7 +131,7 @@ def test_grouped_members_really_predict_the_same_logs() -> None:
     setup = Arrangement(4, 4, layout=(2, 2), backgrounds="solid,checkerboard")
     test = resolve_test("March C-")
     fault = CouplingFault(model_named("CFst<1;1>"), Cell(1, 2), Cell(2, 0))
-    log = next(p for s in _states(2) if (p := fail_log(test, fault, setup, s)))
+    log = next(p for s in power_up_states(2) if (p := fail_log(test, fault, setup, s)))
     d = diagnose(test, setup, log)
     assert d.rank_of(fault) == 1
     events = collect(test, setup, range(setup.words), range(setup.words))

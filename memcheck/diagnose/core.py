@@ -24,7 +24,7 @@ from memcheck.diagnose.predict import Ev, Events, collect, fault_words, predict
 from memcheck.errors import FailLogError
 from memcheck.faults.geometry import Arrangement, Resolved, check_consistent
 from memcheck.faults.instances import Cell, CouplingFault, FaultInstance
-from memcheck.faults.reference import _states
+from memcheck.faults.replay import power_up_states
 from memcheck.faults.universe import STATIC_CLASSES
 from memcheck.march.notation import MarchElement, MarchTest
 
@@ -211,7 +211,7 @@ def diagnose(
         if scores[best][1] == 0.0:
             continue  # explains none of the failing reads
         labels = f.power_up_labels()
-        state = _states(len(labels))[best]
+        state = power_up_states(len(labels))[best]
         groups.append(
             Group(
                 tuple(m for m, _ in members),
