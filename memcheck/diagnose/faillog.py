@@ -109,13 +109,15 @@ def read_fail_log(path: str | Path) -> list[FailRow]:
     return parse_fail_log(text, str(path))
 
 
-def format_fail_log(rows: Iterable[FailRow]) -> str:
-    return "\n".join([",".join(HEADER), *(r.csv() for r in rows)]) + "\n"
+def format_fail_log(rows: Iterable[FailRow], comments: Sequence[str] = ()) -> str:
+    """The fail log's text: ``# `` comment lines, the header, one line per row."""
+    notes = [f"# {line}" for c in comments for line in c.splitlines()]
+    return "\n".join([*notes, ",".join(HEADER), *(r.csv() for r in rows)]) + "\n"
 
 
-def write_fail_log(rows: Iterable[FailRow], path: str | Path) -> Path:
-    """Write ``rows`` as a fail log file, atomically."""
-    return write_text_atomic(path, format_fail_log(rows))
+def write_fail_log(rows: Iterable[FailRow], path: str | Path, comments: Sequence[str] = ()) -> Path:
+    """Write ``rows`` as a fail log file (``comments`` as ``#`` lines first), atomically."""
+    return write_text_atomic(path, format_fail_log(rows, comments))
 
 
 def fail_log(

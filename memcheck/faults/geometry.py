@@ -15,7 +15,7 @@ import numpy as np
 import numpy.typing as npt
 
 from memcheck.errors import FaultModelError, UsageError
-from memcheck.march.backgrounds import DataBackground, parity, resolve_backgrounds
+from memcheck.march.backgrounds import DataBackground, default_background_spec, parity, resolve_backgrounds
 from memcheck.march.notation import Delay, MarchElement, MarchTest
 from memcheck.march.orders import AddressOrder
 
@@ -50,7 +50,7 @@ class Arrangement:
     def background_spec(self) -> str | tuple[str, ...]:
         if self.backgrounds is not None:
             return self.backgrounds
-        return "solid" if self.width == 1 else "standard"
+        return default_background_spec(self.width)
 
     @property
     def cells(self) -> int:
