@@ -293,11 +293,11 @@ def patterns(
         summary += f"; hex lines are {lay_h.line_bits} bits"
     with terminate_as_interrupt():
         if output:
-            write_export(stream, output, fmt)
+            write_export(stream, output, fmt, tt)
             click.echo(f"{summary}; written to {output}", err=True)
             return
         out = sys.stdout.buffer
-        for piece in iter_export(stream, fmt):
+        for piece in iter_export(stream, fmt, tt):
             out.write(piece)
         out.flush()
     click.echo(summary, err=True)
