@@ -14,14 +14,15 @@ from __future__ import annotations
 
 import heapq
 from collections.abc import Iterable
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 
 import numpy as np
 
 from memcheck.diagnose.faillog import FailRow
 from memcheck.faults.geometry import Arrangement
-from memcheck.faults.instances import Cell, CellFault, CouplingFault, DecoderFault, FaultInstance, StuckOpenFault
+from memcheck.faults.instances import DecoderFault, FaultInstance
 from memcheck.faults.replay import StuckOpenMemory, power_up, power_up_states, stream_of
+from memcheck.faults.sparse import renumber
 from memcheck.march.backgrounds import limbs_to_int
 from memcheck.march.expand import OP_READ, OP_WRITE, OpsChunk, Pause
 from memcheck.march.notation import MarchTest
@@ -117,19 +118,6 @@ def fault_words(fault: FaultInstance) -> tuple[int, ...]:
     return tuple(sorted({c.word for c in fault.cells}))
 
 
-def _local(fault: FaultInstance, m: dict[int, int]) -> FaultInstance:
-    """``fault`` with its words renumbered by ``m``."""
-    if isinstance(fault, DecoderFault):
-        return replace(fault, address=m[fault.address], other=None if fault.other is None else m[fault.other])
-    if isinstance(fault, CellFault):
-        return CellFault(fault.model, Cell(m[fault.cell.word], fault.cell.bit))
-    if isinstance(fault, StuckOpenFault):
-        return StuckOpenFault(Cell(m[fault.cell.word], fault.cell.bit))
-    return CouplingFault(
-        fault.model, Cell(m[fault.aggressor.word], fault.aggressor.bit), Cell(m[fault.victim.word], fault.victim.bit)
-    )
-
-
 def _run(
     fault: FaultInstance, state: tuple[int, ...], events: list[Ev], m: dict[int, int], width: int
 ) -> list[FailRow]:
@@ -159,5 +147,5 @@ def predict(fault: FaultInstance, events: list[Ev], width: int) -> list[list[Fai
     """The fail log of ``fault`` from each power-up state (in :func:`~memcheck.faults.replay.power_up_states`
     order); ``events`` are those of its words (:meth:`Events.of`)."""
     m = {w: i for i, w in enumerate(fault_words(fault))}
-    local = _local(fault, m)
+    local = renumber(fault, m)
     return [_run(local, s, events, m, width) for s in power_up_states(len(fault.power_up_labels()))]
