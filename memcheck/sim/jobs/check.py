@@ -35,7 +35,8 @@ def _validate(c: Contract, opts: SimOptions) -> None:
     if "sweep" in opts.phases:
         from memcheck.march import expand
 
-        expand(opts.march, c.memory.words, c.memory.width, backgrounds=opts.backgrounds)  # raises on bad names
+        m = c.memory
+        expand(opts.march, m.words, m.width, backgrounds=opts.backgrounds_for(m.width))  # raises on bad names
 
 
 def check_contract(

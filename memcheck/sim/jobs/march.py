@@ -81,7 +81,7 @@ def prepare(contract: Contract, test: MarchTest | str, opts: SimOptions) -> tupl
         m.width,
         layout=opts.layout,
         order=opts.order,
-        backgrounds=opts.backgrounds,
+        backgrounds=opts.backgrounds_for(m.width),
         any_order=opts.any_order,
         seed=opts.seed if opts.order == "lfsr" else None,
     )
