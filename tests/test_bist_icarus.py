@@ -83,7 +83,17 @@ def test_256x32_full_cross_product(background: str, tmp_path: Path) -> None:
 def test_latencies_layouts_stripes_and_pauses(tmp_path: Path) -> None:
     units = []
     for i, lat in enumerate((0, 2, 3, 4)):
-        p = plan_engine("March G", 37, 8, order=ORDERS[i], seed=5, pause_cycles=i, read_latency=lat, module=f"l{i}")
+        p = plan_engine(
+            "March G",
+            37,
+            8,
+            backgrounds="solid",
+            order=ORDERS[i],
+            seed=5,
+            pause_cycles=i,
+            read_latency=lat,
+            module=f"l{i}",
+        )
         units.append((p, f"lat{i}"))
     layouts = [("row-fast", (8, 4)), ("col-fast", (16, 2)), ("gray", (4, 8)), ("lfsr", (2, 16))]
     for i, (order, layout) in enumerate(layouts):
@@ -120,7 +130,7 @@ def test_stuck_at_bit_is_reported_where_the_stream_first_reads_the_other_value(
 
 
 def test_verify_engine_reports_equal_and_renders() -> None:
-    res = verify_engine(plan_engine("MATS+", 16, 4, order="complement"))
+    res = verify_engine(plan_engine("MATS+", 16, 4, backgrounds="solid", order="complement"))
     assert res.equal, res.render()
     assert "equal" in res.render()
 
@@ -140,7 +150,7 @@ def _on_wrapper(name: str, work: Path) -> tuple[Contract, PortSpec, UnitResult]:
     contract = load_contract(EXAMPLES / name / "contract.toml")
     port = choose_port(contract, None)
     m = contract.memory
-    plan = plan_engine("March C-", m.words, m.width, read_latency=m.read_latency)
+    plan = plan_engine("March C-", m.words, m.width, backgrounds="solid", read_latency=m.read_latency)
     return contract, port, run_on_wrapper(plan, contract, port, work)
 
 

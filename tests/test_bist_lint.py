@@ -41,7 +41,7 @@ def test_every_library_engine_is_lint_clean_and_latch_free(name: str, tmp_path: 
 def test_adapters_are_lint_clean(example: str, tmp_path: Path) -> None:
     contract = load_contract(EXAMPLES / example / "contract.toml")
     m = contract.memory
-    plan = plan_engine("MATS+", m.words, m.width, read_latency=m.read_latency, module="bist")
+    plan = plan_engine("MATS+", m.words, m.width, backgrounds="solid", read_latency=m.read_latency, module="bist")
     path = write_text_atomic(tmp_path / "bist_adapter.v", adapter_verilog(plan, contract, choose_port(contract, None)))
     assert lint_file(path).clean
 

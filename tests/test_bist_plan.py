@@ -63,17 +63,17 @@ def test_inverse_lfsr_step_undoes_the_forward_step() -> None:
 
 
 def test_microcode_of_march_g_merges_nothing_and_counts_pauses() -> None:
-    plan = plan_engine("March G", 16, 8, pause_cycles=7)
+    plan = plan_engine("March G", 16, 8, backgrounds="solid", pause_cycles=7)
     pauses = [w for w in plan.rom if w.kind == KIND_PAUSE]
     assert [w.count for w in pauses] == [6, 6]  # two delay elements of 7 quiet cycles each
     assert len(plan.rom) == plan.test.length + 2
     # March G is 23n + 2 delays (van de Goor 1991; docs/march.md library table)
     assert plan.cycles() == 23 * 16 + 2 * 7 + 1 + 1
-    assert plan_engine("March G", 16, 8, pause_cycles=0).cycles(read_latency=3) == 23 * 16 + 3 + 1
+    assert plan_engine("March G", 16, 8, backgrounds="solid", pause_cycles=0).cycles(read_latency=3) == 23 * 16 + 3 + 1
 
 
 def test_consecutive_delays_become_one_pause_word_and_reads_before_writes_are_not_compared() -> None:
-    plan = plan_engine("{up(r0); del; del; any(w0); up(r0)}", 8, 4, pause_cycles=5)
+    plan = plan_engine("{up(r0); del; del; any(w0); up(r0)}", 8, 4, backgrounds="solid", pause_cycles=5)
     kinds = [(w.kind, w.chk, w.count) for w in plan.rom]
     assert kinds == [(0, 0, 0), (KIND_PAUSE, 0, 9), (1, 0, 0), (0, 1, 0)]
     assert plan.cycles() == 3 * 8 + 10 + 1 + 1
@@ -141,7 +141,18 @@ def test_cli_bad_input_exits_2_with_one_paragraph(
 def test_cli_generate_writes_engine_adapter_and_testbench(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
     contract = EXAMPLES / "packet_buffer/contract.toml"
     out = tmp_path / "bist" / "pkt_bist.v"
-    args = ["bist", "generate", "March C-", "--contract", str(contract), "--module", "pkt_bist", "--testbench"]
+    args = [
+        "bist",
+        "generate",
+        "March C-",
+        "--contract",
+        str(contract),
+        "--module",
+        "pkt_bist",
+        "--testbench",
+        "--backgrounds",
+        "solid",
+    ]
     assert main([*args, "-o", str(out)]) == 0
     text = capsys.readouterr().out
     assert "512 x 64" in text and "5122 cycles" in text  # 10n x 512 + READ_LATENCY 1 + 1

@@ -245,6 +245,10 @@ def _example_contracts() -> list[tuple[str, Contract]]:
 
 @pytest.mark.parametrize(("name", "c"), _example_contracts(), ids=[n for n, _ in _example_contracts()])
 def test_each_directed_example_is_valid_and_hits_its_point(name: str, c: Contract) -> None:
+    if not c.lockstep or c.power is not None:
+        # Not built yet for several clocks or power pins (docs/check.md): none is offered, never a wrong one.
+        assert all(directed_cycles(c, point) is None for point in cover_points(c))
+        return
     for point in cover_points(c):
         cycles = directed_cycles(c, point)
         if point.kind == "reset.mid_run":

@@ -1,5 +1,5 @@
 """Diagnosis: fail logs in and out, the per-word predictor against the whole-stream reference run,
-and the injected fault ranked first for every static fault class.
+and the injected fault ranked first for every static and dynamic fault class.
 
 The diagnosis check is our own: no published hand-worked diagnosis example is used. The injected
 instance's fail log comes from the reference engine run over the whole stream
@@ -19,22 +19,27 @@ from memcheck.diagnose import FailRow, diagnose, fail_log, parse_fail_log, read_
 from memcheck.diagnose.predict import collect, fault_words, predict
 from memcheck.errors import FailLogError
 from memcheck.faults import Arrangement, Cell, CouplingFault, FaultInstance, model_named
-from memcheck.faults.reference import _states
+from memcheck.faults.replay import power_up_states
 from memcheck.faults.sampling import sample_class
-from memcheck.faults.universe import STATIC_CLASSES
+from memcheck.faults.universe import DYNAMIC_CLASSES, STATIC_CLASSES
 from memcheck.march.library import resolve_test
 
 SETUPS = {"16x1": Arrangement(16, 1), "4x4 (2x2 layout)": Arrangement(4, 4, layout=(2, 2))}
 # March C- first; March SS for the classes March C- misses; March G (with delays) for DRF.
 TESTS = ("March C-", "March SS", "March G")
+# Dynamic classes need back-to-back operations on a word: March RAW and March AB (read-after-write
+# and double reads), then March SS.
+DYNAMIC_TESTS = ("March RAW", "March AB", "March SS")
 
 
-def _injected(cls: str, setup: Arrangement) -> tuple[str, FaultInstance, list[FailRow]] | None:
+def _injected(
+    cls: str, setup: Arrangement, tests: tuple[str, ...] = TESTS
+) -> tuple[str, FaultInstance, list[FailRow]] | None:
     """A seeded instance of ``cls`` and its fail log from a power-up state in which a test detects it."""
-    for name in TESTS:
+    for name in tests:
         test = resolve_test(name)
         for fault in sample_class(cls, setup, 4, seed=11):
-            for state in _states(len(fault.power_up_labels())):
+            for state in power_up_states(len(fault.power_up_labels())):
                 log = fail_log(test, fault, setup, state)
                 if log:
                     return name, fault, log
@@ -57,6 +62,22 @@ def test_injected_fault_ranks_first(cls: str, geometry: str) -> None:
     assert {c for r in log for c in d.failing_cells if c.word == r.address}  # failing cells come from the log
 
 
+@pytest.mark.parametrize("geometry", list(SETUPS))
+@pytest.mark.parametrize("cls", DYNAMIC_CLASSES)
+def test_injected_dynamic_fault_ranks_first(cls: str, geometry: str) -> None:
+    setup = SETUPS[geometry]
+    found = _injected(cls, setup, DYNAMIC_TESTS)
+    assert found is not None, f"none of {DYNAMIC_TESTS} detects the sampled {cls} instances on {geometry}"
+    name, fault, log = found
+    d = diagnose(resolve_test(name), setup, log)
+    assert d.rank_of(fault) == 1, f"{fault} under {name}: rank {d.rank_of(fault)}"
+    group = next(g for g in d.groups if fault in g.members)
+    assert group.exact and set(group.predicted) == set(log)
+    # Static classes alone cannot produce an exact match for it unless an equivalent static fault exists;
+    # either way the dynamic instance is found only when dynamic classes are candidates.
+    assert diagnose(resolve_test(name), setup, log, classes=STATIC_CLASSES).rank_of(fault) is None
+
+
 def test_first_fail_log_ranks_injected_first() -> None:
     setup = SETUPS["16x1"]
     test = resolve_test("March C-")
@@ -67,7 +88,7 @@ def test_first_fail_log_ranks_injected_first() -> None:
     assert d.rank_of(fault) == 1
 
 
-@pytest.mark.parametrize("name", ["March C-", "March SS", "March G", "MATS+"])
+@pytest.mark.parametrize("name", ["March C-", "March SS", "March G", "MATS+", "March RAW"])
 @pytest.mark.parametrize(
     "setup", [Arrangement(8, 1), Arrangement(4, 4, layout=(2, 2)), Arrangement(6, 2, order="lfsr", seed=5)]
 )
@@ -75,10 +96,10 @@ def test_predictor_equals_whole_stream_reference(name: str, setup: Arrangement) 
     """The per-word predictor gives exactly the reference engine's whole-stream fail log."""
     test = resolve_test(name)
     events = collect(test, setup, range(setup.words), range(setup.words))
-    for cls in STATIC_CLASSES:
+    for cls in (*STATIC_CLASSES, *DYNAMIC_CLASSES):
         for fault in sample_class(cls, setup, 6, seed=3):
             predicted = predict(fault, events.of(fault_words(fault)), setup.width)
-            for state, p in zip(_states(len(fault.power_up_labels())), predicted, strict=True):
+            for state, p in zip(power_up_states(len(fault.power_up_labels())), predicted, strict=True):
                 assert p == fail_log(test, fault, setup, state), f"{fault} from {state}"
 
 
@@ -131,7 +152,7 @@ def test_grouped_members_really_predict_the_same_logs() -> None:
     setup = Arrangement(4, 4, layout=(2, 2), backgrounds="solid,checkerboard")
     test = resolve_test("March C-")
     fault = CouplingFault(model_named("CFst<1;1>"), Cell(1, 2), Cell(2, 0))
-    log = next(p for s in _states(2) if (p := fail_log(test, fault, setup, s)))
+    log = next(p for s in power_up_states(2) if (p := fail_log(test, fault, setup, s)))
     d = diagnose(test, setup, log)
     assert d.rank_of(fault) == 1
     events = collect(test, setup, range(setup.words), range(setup.words))

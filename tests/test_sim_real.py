@@ -13,11 +13,19 @@ import shutil
 from pathlib import Path
 
 import pytest
+from hypothesis import given, settings
 
 from memcheck.contract import Contract, load_contract, parse_contract
-from memcheck.records import CheckResult
+from memcheck.ops import Expected, OpKind, PortOp, Power, Trace
+from memcheck.records import CheckedTrace, CheckResult, CycleRow, Failure, Observed, Settled
+from memcheck.report.json_report import report_dict
+from memcheck.report.text import render_report
 from memcheck.sim import check_contract, replay_file
+from memcheck.sim.checking.sequences import restore_targets
+from memcheck.sim.checking.settling import timing_hint
 from memcheck.sim.checking.ticks import edge_pattern, harness_timing, hyper_ticks, lay
+from memcheck.sim.plumbing.words import HarnessLayout
+from memcheck.strategies import hot_addresses, traces
 
 RTL = Path(__file__).parent / "rtl"
 
@@ -106,6 +114,13 @@ def test_slow_clock_to_output_fails_at_10_ns_and_passes_at_20_ns(tmp_path: Path)
     fast = _fixture(tmp_path / "a", "slow", period="10.0", timing="", sample_note="")
     res = _run(fast, tmp_path / "a", examples=10, bulk_examples=0, phases=("smoke", "property"))
     _caught_short_and_replays(res)
+    # the replay records how the read data settled: the report points at the timing, not the logic
+    assert res.failure is not None
+    hint = res.failure.timing_hint
+    assert "after the sample point" in hint and "check [timing] sample or the clock period" in hint, hint
+    assert "2 ns after" in hint  # valid 11 ns after the edge, sampled at 9 ns (hand-worked)
+    assert f"Timing: {hint}" in render_report(res)
+    assert report_dict(res)["minimal_trace"]["timing_hint"] == hint
     slow = _fixture(tmp_path / "b", "slow", period="20.0", timing="", sample_note="")
     assert _run(slow, tmp_path / "b", examples=10, bulk_examples=1).verdict == "pass"
 
@@ -164,3 +179,123 @@ def test_power_pins_are_driven_with_sleep_and_shutdown_episodes(tmp_path: Path, 
     if verdict == "fail":
         _caught_short_and_replays(res)
         assert res.failure is not None and any(res.failure.trace.power), "the failing trace has a power episode"
+
+
+# -- records, hints and stimulus (no simulator) ---------------------------------------------------
+
+
+def _slow(period: str = "10.0") -> Contract:
+    text = (RTL / "slow" / "contract.toml.in").read_text(encoding="utf-8")
+    return parse_contract(text.format(period=period, timing="", sample_note=""), base_dir=RTL / "slow")
+
+
+def _failing_row(settled_after: float, settled_value: int) -> CheckedTrace:
+    row = CycleRow(
+        3,
+        (PortOp(OpKind.IDLE),),
+        (Expected(0x5A, 0xFF),),
+        (Observed(0, 0),),  # all X at the sample point
+        (0xFF,),
+        Power.SLEEP,
+        (Settled(settled_value, 0xFF, settled_after),),
+    )
+    return CheckedTrace("unknown", (row,))
+
+
+def test_timing_hint_names_settling_after_the_sample_point_but_not_a_change_at_an_edge() -> None:
+    c = _slow()
+    # 10 ns clock, sample at 9 ns: the expected value 2 ns later is settling (data valid at 11 ns)
+    hint = timing_hint(c, _failing_row(2.0, 0x5A))
+    assert hint.startswith("port a, cycle 3: read data settled 2 ns after the sample point")
+    assert hint.endswith("check [timing] sample or the clock period.")
+    # another value, but the X cleared: still a timing hint
+    assert "an X on the read data cleared 2 ns" in timing_hint(c, _failing_row(2.0, 0x11))
+    # 1 ns after the sample point is the next rising edge: a synchronous change (latency), no hint
+    assert timing_hint(c, _failing_row(1.0, 0x5A)) == ""
+
+
+def test_rows_and_failures_keep_power_settling_and_the_hint_through_json() -> None:
+    checked = _failing_row(2.0, 0x5A)
+    again = CheckedTrace.from_json(checked.to_json())
+    assert again == checked and again.rows[0].settled == checked.rows[0].settled
+    assert again.trace.power == (Power.SLEEP,)
+    f = Failure("property", ("reset",), checked, timing_hint="read data settled 2 ns after the sample point")
+    assert Failure.from_json(f.to_json()) == f
+
+
+def test_power_examples_put_a_write_before_the_episode_and_a_read_of_it_after() -> None:
+    c = _fixture_contract("pwr", defines="")
+    seen = []
+
+    @settings(max_examples=60, deadline=None, database=None)
+    @given(traces(c, max_blocks=3))
+    def collect(t: Trace) -> None:
+        seen.append(t)
+
+    collect()
+    episodes = [t for t in seen if t.power]
+    assert episodes, "power contracts get power episodes"
+    for t in episodes:
+        k = next(i for i, p in enumerate(t.power) if p != Power.ON)
+        assert k >= 1 and len(t.power) == len(t)
+    assert any(t.cycles[t.power.index(next(p for p in t.power if p)) - 1][0].kind == OpKind.WRITE for t in episodes)
+
+
+def test_out_of_range_addresses_cover_the_whole_pin_and_restores_write_the_aliased_word() -> None:
+    wrap = _fixture_contract("oor", words="512", out_of_range="wrap", defines="")
+    hot = hot_addresses(wrap, pin_bits=10)
+    assert {512, 513, 1023} <= set(hot) and max(hot) == 1023
+    assert restore_targets(wrap, [3, 515, 1023]) == [3, 511]
+    ignore = _fixture_contract("oor", words="512", out_of_range="ignore", defines="")
+    assert restore_targets(ignore, [3, 515, 1023]) == [3]
+
+
+def _fixture_contract(name: str, **fields: str) -> Contract:
+    text = (RTL / name / "contract.toml.in").read_text(encoding="utf-8").format(**fields)
+    return parse_contract(text, base_dir=RTL / name)
+
+
+def test_a_batch_splits_over_the_clock_groups_word_by_word() -> None:
+    import numpy as np
+
+    from memcheck.model_fast import Columns
+    from memcheck.ops import read, write
+
+    c = load_contract(RTL / "dual" / "contract.toml")
+    widths = {"addra": 5, "addrb": 5, "dina": 16, "dinb": 16, "douta": 16, "doutb": 16}
+    lay_ = HarnessLayout.build(c, widths)
+    cycles = lay(c, [(write(1, 0xAB), read(2)), (read(1), write(2, 0xCD)), (read(3), read(3))])
+    texts, tick, rows = lay_.stim(Columns.from_cycles(c, cycles), np.zeros(len(cycles), dtype=bool))
+    assert tick is None  # no reset, no power: no per-tick file
+    pat = edge_pattern(c)
+    for g, (text, r) in enumerate(zip(texts, rows, strict=True)):
+        port = lay_.timing.groups[g].ports[0]
+        assert [int(k) for k in r] == [k for k in range(len(cycles)) if pat[k % len(pat), port]]
+        words = [int(w, 16) for w in text.decode().split()]
+        assert words == [lay_.words[g].encode(cycles[k]) for k in r]
+
+
+@pytest.mark.icarus
+@pytest.mark.parametrize(("defines", "verdict"), [("", "pass"), ("BUG_SLEEP_WRITE = 1", "fail")])
+def test_two_clocks_with_reset_and_sleep_drive_the_per_tick_pins(tmp_path: Path, defines: str, verdict: str) -> None:
+    c = _fixture(tmp_path, "pwr2", defines=defines)
+    assert HarnessLayout.build(c, {"waddr": 4, "raddr": 4, "wdata": 8, "rdata": 8}).tick is not None
+    res = _run(c, tmp_path, examples=150, bulk_examples=1)
+    assert res.verdict == verdict, res.summary()
+    if verdict == "fail":
+        _caught_short_and_replays(res, max_cycles=24)  # ticks of two clocks: about 8 cycles of each
+
+
+@pytest.mark.icarus
+def test_march_run_on_two_clocks_names_the_failing_tick_and_replays(tmp_path: Path) -> None:
+    from memcheck.sim import run_march
+
+    folder = tmp_path / "dual"
+    shutil.copytree(RTL / "dual", folder)
+    text = (folder / "contract.toml").read_text(encoding="utf-8")
+    (folder / "bug.toml").write_text(text.replace('top = "tdp_dual"', 'top = "tdp_dual"\ndefines = { BUG_B_ADDR = 1 }'))
+    r = run_march(load_contract(folder / "bug.toml"), "MATS+", port="b", out_dir=tmp_path / "out", waveform=False)
+    assert r.verdict == "fail" and r.failure is not None
+    assert r.failure.port == "b" and "March step is not named" in r.failure.description
+    assert r.reproduced and r.replay_file is not None
+    assert replay_file(r.replay_file, waveform=False).reproduced

@@ -30,6 +30,7 @@ from dataclasses import dataclass
 from memcheck.bist.addrgen import AddressGen, bits_for, build_address_gen
 from memcheck.errors import BistError, FaultModelError
 from memcheck.march import DataBackground, Delay, MarchElement, MarchStream, MarchTest, expand, resolve_test
+from memcheck.march.backgrounds import default_background_spec
 
 MAX_WORDS = 1 << 24
 MAX_WIDTH = 1024
@@ -222,7 +223,7 @@ def plan_engine(
     *,
     order: str = "linear",
     any_order: str = "up",
-    backgrounds: str = "solid",
+    backgrounds: str | None = None,
     layout: tuple[int, int] | None = None,
     seed: int | None = None,
     pause_cycles: int = 100,
@@ -231,7 +232,8 @@ def plan_engine(
 ) -> EnginePlan:
     """Check a request and decide the engine (raises BistError or another MemcheckError naming the cause).
 
-    ``seed`` picks the LFSR order's start state exactly as ``memcheck patterns --seed`` does.
+    ``seed`` picks the LFSR order's start state exactly as ``memcheck patterns --seed`` does;
+    ``backgrounds`` None is the one default of every command (solid for 1-bit words, else standard).
     """
     _check_int("words", words, 1, MAX_WORDS)
     _check_int("width", width, 1, MAX_WIDTH)
@@ -246,7 +248,7 @@ def plan_engine(
         width,
         layout=layout,
         order=order,
-        backgrounds=backgrounds,
+        backgrounds=backgrounds if backgrounds is not None else default_background_spec(width),
         any_order=any_order,
         seed=seed if order == "lfsr" else None,
     )

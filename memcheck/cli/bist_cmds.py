@@ -16,6 +16,7 @@ from memcheck.bist.testbench import TbUnit, testbench_verilog
 from memcheck.bist.verify import VerifyResult, run_on_wrapper, verify_engine
 from memcheck.cli import EXIT_FAIL, EXIT_OK, cli
 from memcheck.cli._options import address_order_options, resolve_seed, seed_option
+from memcheck.cli.march_cmds import dft_library_option, load_tests
 from memcheck.contract import Contract, PortSpec, load_contract
 from memcheck.errors import BistError
 from memcheck.march.orders import parse_layout
@@ -38,9 +39,9 @@ def engine_options(f: _F) -> _F:
         click.option("--width", type=int, default=None, help="Bits per word (from the contract if given)."),
         click.option(
             "--backgrounds",
-            default="solid",
-            show_default=True,
-            help="Data backgrounds: solid, checkerboard, row-stripe, col-stripe, standard, stdK or 0x.. words.",
+            default=None,
+            help="Data backgrounds: solid, checkerboard, row-stripe, col-stripe, standard, stdK or 0x.. words "
+            "(default: solid for 1-bit words, else standard, as every command).",
         ),
         click.option(
             "--layout", default=None, help="Physical ROWSxCOLS (COLS a power of two) for stripes/checkerboard."
@@ -56,6 +57,7 @@ def engine_options(f: _F) -> _F:
         click.option("--port", default=None, help="Contract port the engine drives (default: first readwrite port)."),
         seed_option,
         address_order_options,
+        dft_library_option,
     ]
     for opt in reversed(opts):
         f = opt(f)
@@ -80,8 +82,9 @@ def _plan(test: str, kw: dict[str, Any]) -> tuple[EnginePlan, Contract | None, P
         raise BistError("--port names a port of a contract; give the contract with --contract")
     if words is None or width is None:
         raise BistError("give the memory's --words and --width (or a --contract that has them)")
+    _, (resolved,) = load_tests((test,), kw["library"], None)
     plan = plan_engine(
-        test,
+        resolved,
         words,
         width,
         order=kw["order"],

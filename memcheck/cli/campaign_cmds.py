@@ -13,10 +13,12 @@ import click
 
 from memcheck._atomic import write_text_atomic
 from memcheck.bist.campaign import CampaignSpec, render, run_campaign
+from memcheck.bist.campaign.faillog import write_campaign_log
 from memcheck.bist.faulty_memory import MemoryShape, faulty_memory_verilog
 from memcheck.cli import EXIT_FAIL, EXIT_OK
 from memcheck.cli._options import address_order_options, resolve_seed, seed_option
 from memcheck.cli.bist_cmds import bist_group
+from memcheck.cli.march_cmds import dft_library_option, load_tests
 from memcheck.errors import BistError
 from memcheck.march.orders import parse_layout
 
@@ -103,9 +105,23 @@ def _progress(enabled: bool) -> Iterator[Callable[[int, int], None] | None]:
 @click.option("--workers", type=click.IntRange(min=1), default=None, help="Local worker processes (default: cores).")
 @click.option("--scheduler", default=None, help="Dask scheduler ADDRESS (tcp://host:8786) instead of local workers.")
 @click.option("--json", "json_file", type=click.Path(dir_okay=False), default=None, help="Write a JSON report.")
+@click.option(
+    "--fail-log",
+    "fail_log",
+    type=click.Path(dir_okay=False),
+    default=None,
+    help="Write one instance's first failing read as a fail log that memcheck diagnose reads back.",
+)
+@click.option(
+    "--fail-log-instance",
+    type=click.IntRange(min=0),
+    default=None,
+    help="Which instance --fail-log writes, from 0 in plan order (default: the first that failed).",
+)
+@dft_library_option
 @seed_option
 @address_order_options
-def bist_campaign(test: str, json_file: str | None, **kw: Any) -> int:
+def bist_campaign(test: str, json_file: str | None, fail_log: str | None, **kw: Any) -> int:
     """Measure TEST's fault coverage on RTL (the generated engine against faulty memory copies) and compare
     it instance by instance with the fault simulator. Exit 1 on any disagreement."""
     seed = resolve_seed(kw.pop("seed"))
@@ -113,8 +129,10 @@ def bist_campaign(test: str, json_file: str | None, **kw: Any) -> int:
     workers, scheduler = kw.pop("workers"), kw.pop("scheduler")
     if workers is not None and scheduler is not None:
         raise BistError("--workers and --scheduler do not go together: local processes or a Dask cluster")
+    library = kw.pop("library")
+    _, (resolved,) = load_tests((test,), library, None)
     spec = CampaignSpec(
-        test,
+        resolved,
         words,
         kw["width"],
         layout,
@@ -135,4 +153,9 @@ def bist_campaign(test: str, json_file: str | None, **kw: Any) -> int:
     if json_file:
         write_text_atomic(Path(json_file), json.dumps(report.to_json(), indent=2, ensure_ascii=False) + "\n")
         click.echo(f"wrote {json_file}")
+    if fail_log:
+        index, o, rows = write_campaign_log(report, fail_log, test, kw["fail_log_instance"], library)
+        click.echo(
+            f"wrote {fail_log}: instance {index} {o.fault.describe()} ({len(rows)} failing read; first-fail log)"
+        )
     return EXIT_OK if report.agree else EXIT_FAIL

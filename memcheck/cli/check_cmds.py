@@ -105,7 +105,11 @@ def run_check(
 @click.option("--junit", "junit_file", type=click.Path(dir_okay=False), help="Write JUnit XML here (for CI).")
 @click.option("--phases", default=",".join(_PHASES), show_default=True, help="Phases to run, comma separated.")
 @click.option("--march", default=DEFAULTS.march, show_default=True, help="March test of the sweep phase.")
-@click.option("--backgrounds", default=DEFAULTS.backgrounds, show_default=True, help="Data backgrounds of the sweep.")
+@click.option(
+    "--backgrounds",
+    default=DEFAULTS.backgrounds,
+    help="Data backgrounds of the sweep (default: solid for 1-bit words, else standard).",
+)
 @click.option(
     "--sweep-ops",
     type=click.IntRange(min=0),

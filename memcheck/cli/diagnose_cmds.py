@@ -10,9 +10,10 @@ from memcheck._atomic import write_text_atomic
 from memcheck.cli import cli
 from memcheck.cli._options import address_order_options, resolve_seed, seed_option
 from memcheck.cli._params import SIZE
-from memcheck.cli.march_cmds import layout_and_words, load_tests
+from memcheck.cli.march_cmds import dft_library_option, layout_and_words, load_tests
 from memcheck.diagnose import DISCLAIMER, Diagnosis, diagnose, plot_bitmap, read_fail_log
 from memcheck.faults.geometry import Arrangement
+from memcheck.faults.universe import parse_classes
 
 
 def _lines(d: Diagnosis, top: int) -> list[str]:
@@ -53,6 +54,14 @@ def _lines(d: Diagnosis, top: int) -> list[str]:
     "--backgrounds", default=None, help="Data backgrounds the test ran, comma-separated (default as coverage)."
 )
 @seed_option
+@click.option(
+    "--faults",
+    "fault_classes",
+    default=None,
+    metavar="CLASSES",
+    help="Fault classes the candidates come from, comma-separated (default all, static and dynamic).",
+)
+@dft_library_option
 @click.option("--first-fail", is_flag=True, help="FAILLOG holds only the first failing read (a first-fail BIST).")
 @click.option("--top", type=click.IntRange(min=1), default=8, show_default=True, help="Groups to print.")
 @click.option("--png", "png_file", type=click.Path(dir_okay=False), default=None, help="Write the array bitmap (PNG).")
@@ -67,13 +76,16 @@ def diagnose_cmd(
     any_order: str,
     backgrounds: str | None,
     seed: int | None,
+    fault_classes: str | None,
+    library: str | None,
     first_fail: bool,
     top: int,
     png_file: str | None,
     json_file: str | None,
 ) -> None:
     """Diagnose a failing memory: read FAILLOG (CSV element,op,address,background,expected,actual; see
-    docs/diagnose.md) of TEST run on --words x --width bits, print the failing cells and the single
+    docs/diagnose.md; `march run --fail-log` and `bist campaign --fail-log` write it) of TEST run on
+    --words x --width bits, print the failing cells and the single
     fault instances that explain the failures, ranked (exact match first, then similarity)."""
     lay, n = layout_and_words(layout, words)
     used_seed = resolve_seed(seed)
@@ -87,9 +99,9 @@ def diagnose_cmd(
         seed=used_seed,
         any_order="down" if any_order == "down" else "up",
     )
-    _, (t,) = load_tests((test,), None, None)
+    _, (t,) = load_tests((test,), library, None)
     rows = read_fail_log(faillog)
-    d = diagnose(t, setup, rows, first_fail=first_fail)
+    d = diagnose(t, setup, rows, first_fail=first_fail, classes=parse_classes(fault_classes))
     for line in _lines(d, top):
         click.echo(line)
     if png_file:

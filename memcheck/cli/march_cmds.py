@@ -59,6 +59,15 @@ def default_backgrounds(width: int) -> str:
     return spec if isinstance(spec, str) else ",".join(spec)
 
 
+#: ``--library FILE``: a user test library whose names work as TEST (every command that takes a test).
+dft_library_option = click.option(
+    "--library",
+    type=click.Path(dir_okay=False),
+    default=None,
+    help="A user test library (TOML, [[test]] name/notation/claims); its names work as TEST.",
+)
+
+
 def dft_test_options(f: _F) -> _F:
     """``--library FILE``, ``--name NAME``, ``--clock-mhz F`` and ``--pause-ms T``."""
     f = click.option(
@@ -76,12 +85,7 @@ def dft_test_options(f: _F) -> _F:
         help="Test clock of the test-time figure (one operation per cycle).",
     )(f)
     f = click.option("--name", default=None, help="Name shown for a custom (notation) test.")(f)
-    return click.option(
-        "--library",
-        type=click.Path(dir_okay=False),
-        default=None,
-        help="A user test library (TOML, [[test]] name/notation/claims); its names work as TEST.",
-    )(f)
+    return dft_library_option(f)
 
 
 def load_tests(
@@ -289,11 +293,11 @@ def patterns(
         summary += f"; hex lines are {lay_h.line_bits} bits"
     with terminate_as_interrupt():
         if output:
-            write_export(stream, output, fmt)
+            write_export(stream, output, fmt, tt)
             click.echo(f"{summary}; written to {output}", err=True)
             return
         out = sys.stdout.buffer
-        for piece in iter_export(stream, fmt):
+        for piece in iter_export(stream, fmt, tt):
             out.write(piece)
         out.flush()
     click.echo(summary, err=True)

@@ -20,7 +20,7 @@ from memcheck.cli._sim_options import (
     progress_line,
     write_error_reports,
 )
-from memcheck.cli.march_cmds import march_group
+from memcheck.cli.march_cmds import dft_library_option, load_tests, march_group
 from memcheck.errors import MemcheckError
 from memcheck.march.backgrounds import BACKGROUND_NAMES
 from memcheck.march.orders import parse_layout
@@ -33,8 +33,8 @@ from memcheck.march.orders import parse_layout
 @click.option(
     "--backgrounds",
     default=DEFAULTS.backgrounds,
-    show_default=True,
-    help=f"Comma-separated data backgrounds: {', '.join(BACKGROUND_NAMES)}, std0..stdK or a hex word.",
+    help=f"Comma-separated data backgrounds: {', '.join(BACKGROUND_NAMES)}, std0..stdK or a hex word "
+    "(default: solid for 1-bit words, else standard, as every command).",
 )
 @click.option(
     "--layout",
@@ -47,6 +47,14 @@ from memcheck.march.orders import parse_layout
     "readwrite port, else the first write and the first read port.",
 )
 @pause_cycles_option
+@dft_library_option
+@click.option(
+    "--fail-log",
+    "fail_log",
+    type=click.Path(dir_okay=False),
+    default=None,
+    help="Write the first failing read as a fail log (docs/diagnose.md) that memcheck diagnose reads back.",
+)
 @click.option(
     "--max-ops",
     type=click.IntRange(min=1),
@@ -68,6 +76,8 @@ def march_run(
     json_file: str | None,
     no_waveform: bool,
     quiet: bool,
+    library: str | None,
+    fail_log: str | None,
     **fields: Any,
 ) -> int:
     """Run NAME_OR_NOTATION (library name or March notation) alone on the RTL of CONTRACT_FILE.
@@ -77,6 +87,7 @@ def march_run(
     element, operation, address, background, expected and got, cycle, with a replay file and a
     waveform. Exit 0 pass, 1 failure (modelled behaviour only; not sign-off), 2 bad input.
     """
+    from memcheck.diagnose.from_runs import write_march_run_log
     from memcheck.report import error_dict, render_march_report, write_reports
     from memcheck.sim import run_march
 
@@ -85,13 +96,15 @@ def march_run(
         opts = DEFAULTS.replace(
             layout=parse_layout(layout) if layout else None, seed=seed, waveform=not no_waveform, **fields
         )
+        _, (test,) = load_tests((name_or_notation,), library, None)
         if not quiet:
+            bgs = opts.backgrounds or "default (solid for 1-bit words, else standard)"
             click.echo(
                 f"memcheck march run {contract_file} {name_or_notation!r}: order {opts.order}, seed {seed}, "
-                f"backgrounds {opts.backgrounds}"
+                f"backgrounds {bgs}"
             )
         with progress_line(interactive(quiet), "march run") as update:
-            result = run_march(contract_file, name_or_notation, opts, on_progress=update)
+            result = run_march(contract_file, test, opts, on_progress=update)
     except MemcheckError as exc:
         rep = error_dict(contract_file, str(exc), seed, job="march run", test=name_or_notation)
         write_error_reports(json_file, None, rep, str(exc))
@@ -99,4 +112,7 @@ def march_run(
     assert result.out_dir is not None
     write_reports(result, json_file=json_file, text_file=result.out_dir / "report.txt")
     click.echo(result.summary() if quiet else render_march_report(result))
+    if fail_log:
+        rows = write_march_run_log(result, fail_log, name_or_notation, library)
+        click.echo(f"wrote {fail_log} ({len(rows)} failing read{'s' if len(rows) != 1 else ''}; first-fail log)")
     return EXIT_OK if result.passed else EXIT_FAIL

@@ -1,9 +1,10 @@
 """Candidate fault instances for a set of failing cells: bounded by the failures, not the universe.
 
-* single-cell classes and SOF: every model on every failing cell;
-* two-cell classes: every model with a failing cell as victim and an aggressor from the *pool*: on a
-  small memory every other cell; otherwise every other bit of the victim's word and the victim's bit
-  in the other pool words (the physically adjacent columns and rows under a column mux);
+* single-cell classes (static and dynamic) and SOF: every model on every failing cell;
+* two-cell classes (static CFs and the dynamic dCFs): every model with a failing cell as victim and
+  an aggressor from the *pool*: on a small memory every other cell; otherwise every other bit of the
+  victim's word and the victim's bit in the other pool words
+  (the physically adjacent columns and rows under a column mux);
 * decoder faults: ``no-cell`` at every failing word, and every two-word variant with one word failing
   and the other from the word pool (either role).
 
@@ -20,7 +21,7 @@ from memcheck.faults.fast import AF_VARIANTS
 from memcheck.faults.geometry import Arrangement
 from memcheck.faults.instances import Cell, CellFault, CouplingFault, DecoderFault, FaultInstance, StuckOpenFault
 from memcheck.faults.primitives import models_of
-from memcheck.faults.universe import STATIC_CLASSES
+from memcheck.faults.universe import CLASSES
 
 #: Memories with at most this many cells take aggressors and decoder partners from every word.
 WHOLE_MEMORY_LIMIT = 256
@@ -46,9 +47,7 @@ def _two_word(failing: Sequence[int], pool: Sequence[int]) -> Iterator[tuple[int
                     yield pair
 
 
-def candidates(
-    setup: Arrangement, cells: Sequence[Cell], classes: Sequence[str] = STATIC_CLASSES
-) -> list[FaultInstance]:
+def candidates(setup: Arrangement, cells: Sequence[Cell], classes: Sequence[str] = CLASSES) -> list[FaultInstance]:
     """Instances of ``classes`` that could explain failures at ``cells`` (see module doc)."""
     words = sorted({c.word for c in cells})
     pool = word_pool(setup, words)

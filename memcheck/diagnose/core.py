@@ -24,12 +24,12 @@ from memcheck.diagnose.predict import Ev, Events, collect, fault_words, predict
 from memcheck.errors import FailLogError
 from memcheck.faults.geometry import Arrangement, Resolved, check_consistent
 from memcheck.faults.instances import Cell, CouplingFault, FaultInstance
-from memcheck.faults.reference import _states
-from memcheck.faults.universe import STATIC_CLASSES
+from memcheck.faults.replay import power_up_states
+from memcheck.faults.universe import CLASSES
 from memcheck.march.notation import MarchElement, MarchTest
 
 DISCLAIMER = (
-    "Diagnosis covers the modelled single-fault behaviour and fault models only (static classes), not "
+    "Diagnosis covers the modelled single-fault behaviour and fault models only (static and dynamic classes), not "
     "sign-off: a real defect may behave like none of them or like several faults at once."
 )
 
@@ -172,10 +172,11 @@ def diagnose(
     rows: Sequence[FailRow],
     *,
     first_fail: bool = False,
-    classes: Sequence[str] = STATIC_CLASSES,
+    classes: Sequence[str] = CLASSES,
 ) -> Diagnosis:
     """Rank the single fault instances consistent with the failing reads ``rows`` of ``test`` on
     ``setup`` (``first_fail``: ``rows`` is only the first failing read, as a first-fail BIST reports).
+    ``classes``: the fault classes candidates come from (default every class, static and dynamic).
 
     Raises FailLogError for rows that do not name a read of the test with its expected value.
     """
@@ -211,7 +212,7 @@ def diagnose(
         if scores[best][1] == 0.0:
             continue  # explains none of the failing reads
         labels = f.power_up_labels()
-        state = _states(len(labels))[best]
+        state = power_up_states(len(labels))[best]
         groups.append(
             Group(
                 tuple(m for m, _ in members),

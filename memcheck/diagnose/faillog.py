@@ -12,8 +12,8 @@ returns and ``actual`` the word read. Integers may be written in decimal or with
 uses decimal for the first four fields and ``0x`` hex for the words. Blank lines and lines starting
 with ``#`` are ignored. A BIST engine's first-fail outputs are the same six fields in one row.
 
-:func:`fail_log` is the oracle: the log a single fault instance causes, from the plain reference
-engine (:mod:`memcheck.faults.reference`) run over the whole operation stream.
+:func:`fail_log` is the oracle: the log a single fault instance causes, from the faulty memories of
+:mod:`memcheck.faults.replay` (the reference engine's) run over the whole operation stream.
 """
 
 from __future__ import annotations
@@ -26,7 +26,7 @@ from memcheck._atomic import write_text_atomic
 from memcheck.errors import FailLogError
 from memcheck.faults.geometry import Arrangement, check_consistent
 from memcheck.faults.instances import FaultInstance
-from memcheck.faults.reference import _back_to_back, _events, _power_up
+from memcheck.faults.replay import back_to_back, event_stream, power_up
 from memcheck.march.notation import MarchElement, MarchTest
 
 HEADER = ("element", "op", "address", "background", "expected", "actual")
@@ -109,13 +109,15 @@ def read_fail_log(path: str | Path) -> list[FailRow]:
     return parse_fail_log(text, str(path))
 
 
-def format_fail_log(rows: Iterable[FailRow]) -> str:
-    return "\n".join([",".join(HEADER), *(r.csv() for r in rows)]) + "\n"
+def format_fail_log(rows: Iterable[FailRow], comments: Sequence[str] = ()) -> str:
+    """The fail log's text: ``# `` comment lines, the header, one line per row."""
+    notes = [f"# {line}" for c in comments for line in c.splitlines()]
+    return "\n".join([*notes, ",".join(HEADER), *(r.csv() for r in rows)]) + "\n"
 
 
-def write_fail_log(rows: Iterable[FailRow], path: str | Path) -> Path:
-    """Write ``rows`` as a fail log file, atomically."""
-    return write_text_atomic(path, format_fail_log(rows))
+def write_fail_log(rows: Iterable[FailRow], path: str | Path, comments: Sequence[str] = ()) -> Path:
+    """Write ``rows`` as a fail log file (``comments`` as ``#`` lines first), atomically."""
+    return write_text_atomic(path, format_fail_log(rows, comments))
 
 
 def fail_log(
@@ -128,13 +130,13 @@ def fail_log(
     with a good memory from the same power-up state (never-written words are not compared).
     """
     check_consistent(test, len(setup.resolve().backgrounds))
-    events = _events(test, setup)
+    events = event_stream(test, setup)
     values = tuple(state) if state is not None else (0,) * len(fault.power_up_labels())
-    bad, good, _ = _power_up(fault, values, setup)
+    bad, good, _ = power_up(fault, values, setup)
     written = [False] * setup.words
     out: list[FailRow] = []
     for i, ev in enumerate(events):
-        bad.chained = i > 0 and _back_to_back(events[i - 1], ev)
+        bad.chained = i > 0 and back_to_back(events[i - 1], ev)
         if ev.kind == "w":
             bad.write(ev.word, ev.data)
             good[ev.word] = ev.data

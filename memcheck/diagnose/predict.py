@@ -5,7 +5,7 @@ at those words, the pauses, whether each operation follows the previous one back
 word, and, for a stuck-open cell, the value the data path carried before each read of its word
 (the previous read's output, which a good word returns). :func:`collect` takes exactly that from
 the expanded stream once (numpy, chunk by chunk) for a bounded set of words; :func:`predict` runs
-the reference engine's faulty memories (:mod:`memcheck.faults.reference`) over those few events,
+the reference engine's faulty memories (:mod:`memcheck.faults.replay`) over those few events,
 with the instance's words renumbered 0..k-1. Tests check it against :func:`~memcheck.diagnose.
 faillog.fail_log`, which runs the whole stream.
 """
@@ -14,16 +14,17 @@ from __future__ import annotations
 
 import heapq
 from collections.abc import Iterable
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 
 import numpy as np
 
 from memcheck.diagnose.faillog import FailRow
 from memcheck.faults.geometry import Arrangement
-from memcheck.faults.instances import Cell, CellFault, CouplingFault, DecoderFault, FaultInstance, StuckOpenFault
-from memcheck.faults.reference import _power_up, _states, _StuckOpenMemory
+from memcheck.faults.instances import DecoderFault, FaultInstance
+from memcheck.faults.replay import StuckOpenMemory, power_up, power_up_states, stream_of
+from memcheck.faults.sparse import renumber
 from memcheck.march.backgrounds import limbs_to_int
-from memcheck.march.expand import OP_READ, OP_WRITE, OpsChunk, Pause, expand
+from memcheck.march.expand import OP_READ, OP_WRITE, OpsChunk, Pause
 from memcheck.march.notation import MarchTest
 
 
@@ -96,16 +97,7 @@ def _chunk_events(
 
 def collect(test: MarchTest, setup: Arrangement, words: Iterable[int], latch_words: Iterable[int] = ()) -> Events:
     """The events at ``words`` (plus latch loads before the reads of ``latch_words``) and every pause."""
-    stream = expand(
-        test,
-        setup.words,
-        setup.width,
-        layout=setup.layout,
-        order=setup.order,
-        backgrounds=setup.background_spec,
-        seed=setup.seed,
-        any_order=setup.any_order,
-    )
+    stream = stream_of(test, setup)
     interest = np.array(sorted(set(words)), dtype=np.int64)
     latch = np.array(sorted(set(latch_words)), dtype=np.int64)
     by_word: dict[int, list[Ev]] = {}
@@ -126,23 +118,10 @@ def fault_words(fault: FaultInstance) -> tuple[int, ...]:
     return tuple(sorted({c.word for c in fault.cells}))
 
 
-def _local(fault: FaultInstance, m: dict[int, int]) -> FaultInstance:
-    """``fault`` with its words renumbered by ``m``."""
-    if isinstance(fault, DecoderFault):
-        return replace(fault, address=m[fault.address], other=None if fault.other is None else m[fault.other])
-    if isinstance(fault, CellFault):
-        return CellFault(fault.model, Cell(m[fault.cell.word], fault.cell.bit))
-    if isinstance(fault, StuckOpenFault):
-        return StuckOpenFault(Cell(m[fault.cell.word], fault.cell.bit))
-    return CouplingFault(
-        fault.model, Cell(m[fault.aggressor.word], fault.aggressor.bit), Cell(m[fault.victim.word], fault.victim.bit)
-    )
-
-
 def _run(
     fault: FaultInstance, state: tuple[int, ...], events: list[Ev], m: dict[int, int], width: int
 ) -> list[FailRow]:
-    bad, good, _ = _power_up(fault, state, Arrangement(len(m), width))
+    bad, good, _ = power_up(fault, state, Arrangement(len(m), width))
     written = [False] * len(m)
     out: list[FailRow] = []
     for ev in events:
@@ -159,14 +138,14 @@ def _run(
             got = bad.read(w)
             if written[w] and got != good[w]:
                 out.append(FailRow(ev.background, ev.element, ev.op, ev.word, good[w], got))
-        elif isinstance(bad, _StuckOpenMemory):
+        elif isinstance(bad, StuckOpenMemory):
             bad.latch = ev.data
     return out
 
 
 def predict(fault: FaultInstance, events: list[Ev], width: int) -> list[list[FailRow]]:
-    """The fail log of ``fault`` from each power-up state (in :func:`~memcheck.faults.reference._states`
+    """The fail log of ``fault`` from each power-up state (in :func:`~memcheck.faults.replay.power_up_states`
     order); ``events`` are those of its words (:meth:`Events.of`)."""
     m = {w: i for i, w in enumerate(fault_words(fault))}
-    local = _local(fault, m)
-    return [_run(local, s, events, m, width) for s in _states(len(fault.power_up_labels()))]
+    local = renumber(fault, m)
+    return [_run(local, s, events, m, width) for s in power_up_states(len(fault.power_up_labels()))]

@@ -32,7 +32,7 @@ from memcheck.faults.fast import (
 )
 from memcheck.faults.figures import interval, percent
 from memcheck.faults.figures import wilson_interval as wilson_interval
-from memcheck.faults.geometry import Arrangement
+from memcheck.faults.geometry import Arrangement, check_consistent
 from memcheck.faults.instances import (
     Cell,
     CellFault,
@@ -45,6 +45,7 @@ from memcheck.faults.instances import (
 )
 from memcheck.faults.primitives import FaultModel, models_of
 from memcheck.faults.sampling import sample_class
+from memcheck.faults.sparse import simulate_sparse
 from memcheck.faults.universe import (
     CLASSES,
     SCOPES,
@@ -63,6 +64,7 @@ from memcheck.faults.universe import (
     word_pair_key,
     word_pair_table,
 )
+from memcheck.march.backgrounds import resolve_backgrounds
 from memcheck.march.library import resolve_test
 from memcheck.march.notation import MarchTest
 
@@ -396,13 +398,14 @@ def _model_order(cls: str) -> list[str]:
     return [m.name for m in models_of(cls)]
 
 
-def _tally_sample(t: MarchTest, setup: Arrangement, plan: Plan, cls_list: Sequence[str], uni: Universe) -> _Tally:
-    """Simulate a random sample of each class instance by instance; keep one example per group."""
+def _tally_sample(t: MarchTest, setup: Arrangement, cls_list: Sequence[str], uni: Universe) -> _Tally:
+    """Simulate a random sample of each class instance by instance, on the compact memory of the
+    words the sample touches (:mod:`memcheck.faults.sparse`); keep one example per group."""
     assert uni.size is not None
     tally = _Tally()
     for cls in cls_list:
         inst = sample_class(cls, setup, uni.size, uni.seed, uni.base)
-        for r in simulate(t, inst, setup, plan):
+        for r in simulate_sparse(t, inst, setup):
             g = _group_of(r)
             v = _DETECTIONS.index(r.verdict)
             tally.add(g, v, 1)
@@ -461,11 +464,13 @@ def coverage(
     label = t.name or (test if isinstance(test, str) else t.to_unicode())
     cls_list = parse_classes(classes if classes is None or isinstance(classes, str) else tuple(classes))
     uni = parse_universe(universe, seed)
-    plan = Plan.build(t, setup)
+    bgs = resolve_backgrounds(setup.background_spec, setup.width, setup.layout)
+    check_consistent(t, len(bgs))
     if uni.kind == "sample":
-        tally = _tally_sample(t, setup, plan, cls_list, uni)
+        tally = _tally_sample(t, setup, cls_list, uni)
         examples = tally.results
     else:
+        plan = Plan.build(t, setup)
         tally = _tally_counted(plan, cls_list, uni.kind)
         examples = _resolve_examples(plan, uni.kind, tally)
     class_rows: list[ClassCoverage] = []
@@ -480,7 +485,7 @@ def coverage(
         t,
         label,
         setup,
-        tuple(bg.name for bg in plan.rs.backgrounds),
+        tuple(bg.name for bg in bgs),
         uni,
         tuple(class_rows),
         tuple(escape_rows),

@@ -15,7 +15,7 @@ import numpy as np
 import numpy.typing as npt
 
 from memcheck.errors import FaultModelError, UsageError
-from memcheck.march.backgrounds import DataBackground, parity, resolve_backgrounds
+from memcheck.march.backgrounds import DataBackground, default_background_spec, parity, resolve_backgrounds
 from memcheck.march.notation import Delay, MarchElement, MarchTest
 from memcheck.march.orders import AddressOrder
 
@@ -50,7 +50,7 @@ class Arrangement:
     def background_spec(self) -> str | tuple[str, ...]:
         if self.backgrounds is not None:
             return self.backgrounds
-        return "solid" if self.width == 1 else "standard"
+        return default_background_spec(self.width)
 
     @property
     def cells(self) -> int:
@@ -62,19 +62,26 @@ class Arrangement:
         up = order.up()
         pos = np.empty(self.words, dtype=np.int64)
         pos[up] = np.arange(self.words, dtype=np.int64)
-        k = len(bgs)
         base = np.array([[(bg.base >> b) & 1 for b in range(self.width)] for bg in bgs], dtype=np.uint8)
-        addresses = np.arange(self.words, dtype=np.int64)
-        par = np.zeros((k, self.words), dtype=np.uint8)
-        for i, bg in enumerate(bgs):
-            p = parity(bg.flip, addresses, self.layout)
-            if p is not None:
-                par[i] = p.astype(np.uint8)
-        # word classes: words whose parity vector over the backgrounds is the same
-        pcode = (par.astype(np.int64) << np.arange(k, dtype=np.int64)[:, None]).sum(axis=0)
-        wc_codes, wclass = np.unique(pcode, return_inverse=True)
-        wpar = ((wc_codes[:, None] >> np.arange(k, dtype=np.int64)[None, :]) & 1).astype(np.uint8)  # (nwc, k)
-        return Resolved(self, bgs, up, pos, base, wclass.astype(np.int64), wpar)
+        wclass, wpar = word_classes(bgs, np.arange(self.words, dtype=np.int64), self.layout)
+        return Resolved(self, bgs, up, pos, base, wclass, wpar)
+
+
+def word_classes(
+    bgs: tuple[DataBackground, ...], addresses: IntArray, layout: tuple[int, int] | None
+) -> tuple[IntArray, ByteArray]:
+    """``(wclass, wpar)`` of ``addresses``: each word's class (words whose flip under every background
+    is the same) and each class's flip per background, ``wpar[c, k]``."""
+    k = len(bgs)
+    par = np.zeros((k, len(addresses)), dtype=np.uint8)
+    for i, bg in enumerate(bgs):
+        p = parity(bg.flip, addresses, layout)
+        if p is not None:
+            par[i] = p.astype(np.uint8)
+    pcode = (par.astype(np.int64) << np.arange(k, dtype=np.int64)[:, None]).sum(axis=0)
+    wc_codes, wclass = np.unique(pcode, return_inverse=True)
+    wpar = ((wc_codes[:, None] >> np.arange(k, dtype=np.int64)[None, :]) & 1).astype(np.uint8)  # (nwc, k)
+    return wclass.astype(np.int64), wpar
 
 
 @dataclass(frozen=True, eq=False)

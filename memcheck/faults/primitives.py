@@ -355,9 +355,15 @@ ALL_MODELS: tuple[FaultModel, ...] = (
 )
 
 
+#: The models of each class, in ALL_MODELS order (a constant table: models_of runs once per sampled instance).
+_MODELS_BY_CLASS: dict[str, tuple[FaultModel, ...]] = {
+    c: tuple(m for m in ALL_MODELS if m.cls == c) for c in dict.fromkeys(m.cls for m in ALL_MODELS)
+}
+
+
 def models_of(cls: str) -> tuple[FaultModel, ...]:
     """Every FP-based model of one class (empty for SOF and AF, which are behavioural)."""
-    return tuple(m for m in ALL_MODELS if m.cls == cls)
+    return _MODELS_BY_CLASS.get(cls, ())
 
 
 def model_named(name: str) -> FaultModel:

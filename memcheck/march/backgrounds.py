@@ -133,6 +133,12 @@ def resolve_background(name: str, width: int, layout: tuple[int, int] | None = N
     )
 
 
+def default_background_spec(width: int) -> str:
+    """The one default data backgrounds of every command: ``solid`` for 1-bit words, else ``standard``
+    (log2(width) + 1 backgrounds; for 1-bit words ``standard`` is the solid background alone)."""
+    return "solid" if width == 1 else "standard"
+
+
 def resolve_backgrounds(
     spec: str | Sequence[str], width: int, layout: tuple[int, int] | None = None
 ) -> tuple[DataBackground, ...]:

@@ -36,6 +36,7 @@ from memcheck.errors import UsageError
 from memcheck.march.backgrounds import WordArray
 from memcheck.march.expand import OP_WRITE, MarchStream, OpsChunk, Pause
 from memcheck.march.orders import address_bits
+from memcheck.march.timing import MarchTime
 
 ExportFormat = Literal["hex", "csv", "json"]
 FORMATS: tuple[str, ...] = ("hex", "csv", "json")
@@ -95,7 +96,7 @@ def _hex_chunk(chunk: OpsChunk, lay: HexLayout) -> bytes:
     return out.tobytes()
 
 
-def _header_lines(stream: MarchStream) -> list[str]:
+def _header_lines(stream: MarchStream, timing: MarchTime | None = None) -> list[str]:
     t = stream.test
     lines = [
         f"memcheck March stream: {t.name or 'custom test'} {t.to_ascii()}",
@@ -110,15 +111,17 @@ def _header_lines(stream: MarchStream) -> list[str]:
         f"{stream.total_ops} operations (length {t.length} x {stream.words} words x "
         f"{len(stream.backgrounds)} backgrounds) + {t.delays * len(stream.backgrounds)} pause lines",
     ]
+    if timing is not None:
+        lines.append(timing.text())
     return lines
 
 
-def iter_hex(stream: MarchStream, header: bool = True) -> Iterator[bytes]:
-    """The hex file in pieces (see module docstring for the packing)."""
+def iter_hex(stream: MarchStream, header: bool = True, timing: MarchTime | None = None) -> Iterator[bytes]:
+    """The hex file in pieces (see module docstring for the packing); ``timing`` adds the test time."""
     lay = hex_layout(stream)
     if header:
         fields = ", ".join(f"{k} [{m}:{lsb}]" for k, (m, lsb) in lay.fields().items())
-        text = [*_header_lines(stream), f"line = {lay.line_bits} bits: {fields}; op 0=read 1=write 2=pause"]
+        text = [*_header_lines(stream, timing), f"line = {lay.line_bits} bits: {fields}; op 0=read 1=write 2=pause"]
         yield "".join(f"// {line}\n" for line in text).encode()
     pause_line = b"2" + b"0" * (lay.digits - 1) + b"\n"
     for item in stream:
@@ -140,7 +143,7 @@ def _text_rows(item: OpsChunk, lay: HexLayout) -> Iterator[tuple[str, str, str, 
 
 
 def iter_csv(stream: MarchStream) -> Iterator[bytes]:
-    """CSV rows in pieces (header row first)."""
+    """CSV rows in pieces (header row first; CSV has no comment lines, so no test time)."""
     lay = hex_layout(stream)
     yield b"index,background,element,step,op,address,data,expected\n"
     for item in stream:
@@ -153,8 +156,8 @@ def iter_csv(stream: MarchStream) -> Iterator[bytes]:
         ).encode()
 
 
-def iter_json(stream: MarchStream) -> Iterator[bytes]:
-    """One JSON document in pieces."""
+def iter_json(stream: MarchStream, timing: MarchTime | None = None) -> Iterator[bytes]:
+    """One JSON document in pieces (``timing``: a ``test_time`` object)."""
     lay = hex_layout(stream)
     t = stream.test
     head = {
@@ -172,6 +175,8 @@ def iter_json(stream: MarchStream) -> Iterator[bytes]:
         "operations": stream.total_ops,
         "columns": ["op", "address", "data", "expected", "element", "step", "background"],
     }
+    if timing is not None:
+        head["test_time"] = timing.to_json()
     yield (json.dumps(head, ensure_ascii=False)[:-1] + ', "ops": [').encode()
     pauses: list[dict[str, object]] = []
     first = True
@@ -190,25 +195,26 @@ def iter_json(stream: MarchStream) -> Iterator[bytes]:
     yield ("\n], " + json.dumps({"pauses": pauses})[1:] + "\n").encode()
 
 
-def iter_export(stream: MarchStream, fmt: str) -> Iterator[bytes]:
-    """Pieces of the file in format ``fmt`` (hex, csv or json)."""
+def iter_export(stream: MarchStream, fmt: str, timing: MarchTime | None = None) -> Iterator[bytes]:
+    """Pieces of the file in format ``fmt`` (hex, csv or json); ``timing`` puts the test time in the
+    header (a hex comment line, a JSON ``test_time`` object; CSV has no comments)."""
     if fmt == "hex":
-        return iter_hex(stream)
+        return iter_hex(stream, timing=timing)
     if fmt == "csv":
         return iter_csv(stream)
     if fmt == "json":
-        return iter_json(stream)
+        return iter_json(stream, timing)
     raise UsageError(f"unknown export format {fmt!r}; choose one of {', '.join(FORMATS)}")
 
 
-def render(stream: MarchStream, fmt: str) -> str:
+def render(stream: MarchStream, fmt: str, timing: MarchTime | None = None) -> str:
     """The whole export as text (small streams; use :func:`write_export` for big ones)."""
-    return b"".join(iter_export(stream, fmt)).decode()
+    return b"".join(iter_export(stream, fmt, timing)).decode()
 
 
-def write_export(stream: MarchStream, path: str | Path, fmt: str) -> Path:
+def write_export(stream: MarchStream, path: str | Path, fmt: str, timing: MarchTime | None = None) -> Path:
     """Write the stream to ``path`` in ``fmt``, atomically and chunk by chunk; returns the path."""
-    pieces = iter_export(stream, fmt)
+    pieces = iter_export(stream, fmt, timing)
     target = Path(path)
     with open_atomic(target) as fh:
         for piece in pieces:

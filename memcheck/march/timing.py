@@ -4,12 +4,14 @@ A March test of length ``k`` (operations per word) on ``n`` words over ``B`` dat
 ``k * n * B`` operations. With one operation per clock cycle (common practice for a BIST engine
 that issues a read or write every cycle) and each delay element a pause of ``pause_ms``
 milliseconds, the test takes ``k * n * B`` cycles plus ``D * B`` pauses (``D`` delay elements per
-pass), i.e. ``k * n * B / f + D * B * pause`` seconds at clock ``f``. This is the time the test takes
-on the memory, not the time memcheck needs to compute anything (that is labelled "computed in").
+pass), i.e. ``k * n * B / f + D * B * pause`` seconds at clock ``f``; a pause is ``ceil(pause * f)``
+quiet cycles, so the cycle count is ``k * n * B + D * B * ceil(pause * f)``. This is the time the test
+takes on the memory, not the time memcheck needs to compute anything (that is labelled "computed in").
 """
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 from memcheck.march.notation import MarchTest
@@ -44,15 +46,38 @@ class MarchTime:
         return self.delays * self.backgrounds
 
     @property
+    def cycles_per_pause(self) -> int:
+        """Quiet cycles of one delay element at the clock (rounded up)."""
+        return math.ceil(round(self.pause_ms * 1e3 * self.clock_mhz, 6))
+
+    @property
+    def cycles(self) -> int:
+        """Clock cycles of the whole test: one per operation plus every pause's quiet cycles."""
+        return self.operations + self.pauses * self.cycles_per_pause
+
+    @property
     def seconds(self) -> float:
         return self.operations / (self.clock_mhz * 1e6) + self.pauses * self.pause_ms / 1e3
 
     def text(self) -> str:
-        """e.g. ``369,098,752 operations (6 backgrounds x 61,516,800), 3.69 s at 100 MHz``."""
+        """e.g. ``369,098,752 operations (6 backgrounds x 61,516,800): test time 3.69 s at 100 MHz``; with
+        delay elements also the cycles, pauses included."""
         per = f" ({self.backgrounds} backgrounds x {self.operations_per_background:,})" if self.backgrounds > 1 else ""
-        pause = f" + {self.pauses} pause(s) of {self.pause_ms:g} ms" if self.pauses else ""
+        pause = f" + {self.pauses} pause(s) of {self.pause_ms:g} ms = {self.cycles:,} cycles" if self.pauses else ""
         when = f"test time {format_seconds(self.seconds)} at {self.clock_mhz:g} MHz"
         return f"{self.operations:,} operations{per}{pause}: {when}"
+
+    def to_json(self) -> dict[str, float | int]:
+        """The figures as numbers (export headers, JSON reports)."""
+        return {
+            "operations": self.operations,
+            "operations_per_background": self.operations_per_background,
+            "pauses": self.pauses,
+            "pause_ms": self.pause_ms,
+            "cycles": self.cycles,
+            "clock_mhz": self.clock_mhz,
+            "seconds": self.seconds,
+        }
 
 
 def march_time(

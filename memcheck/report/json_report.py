@@ -61,6 +61,7 @@ def _minimal_trace(result: CheckResult) -> dict[str, Any] | None:
         if ex is None
         else {"rule": ex.rule, "detail": ex.detail, "key": ex.key, "cycle": ex.cycle, "port": ex.port},
         "note": f.note,
+        "timing_hint": f.timing_hint,
         "replay_file": None if result.replay_file is None else str(result.replay_file),
         "replay_command": result.replay_command,
         "waveform": None if result.waveform_file is None else str(result.waveform_file),

@@ -214,6 +214,8 @@ def render_report(result: CheckResult) -> str:
                 result.contract, f.checked, start_text=start_description(f.preamble, f.checked.start, result.contract)
             )
         )
+        if f.timing_hint:
+            parts.append(f"Timing: {f.timing_hint}")
         files = []
         if result.replay_file:
             files.append(f"replay file: {result.replay_file}")

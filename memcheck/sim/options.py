@@ -14,6 +14,7 @@ from pathlib import Path
 from typing import Any
 
 from memcheck.errors import MemcheckError
+from memcheck.march.backgrounds import default_background_spec
 
 #: The phases of ``memcheck check``, in the order they run.
 PHASES: tuple[str, ...] = ("smoke", "sweep", "property")
@@ -52,7 +53,7 @@ class SimOptions:
     #: A check that leaves a cover point unhit exits 1 (``memcheck check --require-coverage``).
     require_coverage: bool = False
     # March tests (the sweep of check and march run)
-    backgrounds: str = "standard"
+    backgrounds: str | None = None  # None: solid for 1-bit words, else standard (backgrounds_for)
     order: str = "linear"
     any_order: str = "up"
     layout: tuple[int, int] | None = None
@@ -94,6 +95,10 @@ class SimOptions:
     def from_json(cls, obj: dict[str, Any]) -> SimOptions:
         layout = obj.get("layout")
         return cls().replace(**{**obj, "layout": None if layout is None else (int(layout[0]), int(layout[1]))})
+
+    def backgrounds_for(self, width: int) -> str:
+        """``backgrounds``, or the one default of every command for ``width``-bit words."""
+        return self.backgrounds if self.backgrounds is not None else default_background_spec(width)
 
     def seed_or_zero(self) -> int:
         return 0 if self.seed is None else self.seed

@@ -10,6 +10,7 @@ from memcheck.bist.campaign.plan import Row, state_label
 from memcheck.bist.campaign.rtl import FailOp
 from memcheck.faults import CouplingFault, DecoderFault, Detection, FaultInstance, FaultResult
 from memcheck.faults.coverage import DISCLAIMER, af_label, wilson_interval
+from memcheck.faults.geometry import Arrangement
 from memcheck.march import MarchElement, MarchTest
 
 if TYPE_CHECKING:
@@ -96,6 +97,9 @@ class CampaignReport:
     figures: dict[str, int]
     seconds: float
     sample: bool
+    test: MarchTest | None = None
+    setup: Arrangement | None = None
+    outcomes: tuple[InstanceOutcome, ...] = ()  # in plan order (class by class), for fail logs
 
     def to_json(self) -> dict[str, Any]:
         classes: dict[str, Any] = {}
@@ -169,7 +173,8 @@ def build_report(prepared: Prepared, found: list[InstanceOutcome], seconds: floa
         "cycles_per_simulation": prepared.harness.cycles,
     }
     bad = tuple(_disagreement(prepared.test, o) for o in found if not o.agrees)
-    return CampaignReport(head, tuple(rows), bad, figures, seconds, spec.universe.startswith("sample"))
+    sample = spec.universe.startswith("sample")
+    return CampaignReport(head, tuple(rows), bad, figures, seconds, sample, prepared.test, s, tuple(found))
 
 
 def render(report: CampaignReport, max_disagreements: int = 20) -> str:

@@ -35,7 +35,7 @@ SCHEDULER_TIMEOUT = 10.0
 class CampaignSpec:
     """What to measure (the options of ``memcheck bist campaign``)."""
 
-    test: str
+    test: str | MarchTest  # a library name, notation, or a test resolved already (a user library's)
     words: int
     width: int = 1
     layout: tuple[int, int] | None = None
@@ -64,7 +64,7 @@ class Prepared:
 
 def prepare(spec: CampaignSpec) -> Prepared:
     """Check the request and plan every simulation (raises a MemcheckError naming the cause)."""
-    test = resolve_test(spec.test)
+    test = spec.test if isinstance(spec.test, MarchTest) else resolve_test(spec.test)
     setup = Arrangement(spec.words, spec.width, spec.layout, spec.order, spec.backgrounds, spec.seed, spec.any_order)
     bg = setup.background_spec
     plan = plan_engine(
@@ -99,7 +99,7 @@ def prepare(spec: CampaignSpec) -> Prepared:
         ShardJob(j, tuple(r.packed(drive=k == 0) for k, r in enumerate(rows[s : s + copies])))
         for j, s in enumerate(range(0, len(rows), copies))
     ]
-    label = test.name or spec.test
+    label = test.name or (spec.test if isinstance(spec.test, str) else test.to_unicode())
     return Prepared(
         spec,
         setup,

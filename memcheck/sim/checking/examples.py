@@ -16,7 +16,7 @@ from typing import Any
 
 import numpy as np
 
-from memcheck.model_fast import Columns
+from memcheck.model_fast import Columns, unsupported
 from memcheck.ops import Trace
 from memcheck.records import LIKELY_RACE, CheckedTrace
 from memcheck.sim.checking.compare import ArrayCheck
@@ -26,6 +26,9 @@ from memcheck.sim.checking.runner import Runner
 #: ``SimOptions.bulk_shrink_runs`` simulator runs; later candidates count as passing), then delta
 #: debugging finishes the job.
 BULK_SHRINK_SECONDS = 30.0
+#: Bulk examples of a contract the vectorised model cannot check (several clocks, power pins) are
+#: checked by the reference model, about a hundred times slower: new ones stop after this many seconds.
+SLOW_MODEL_BULK_SECONDS = 30.0
 _FLAKY_NOTE = LIKELY_RACE
 
 
@@ -35,6 +38,10 @@ class _Mismatch(Exception):
     def __init__(self, checked: CheckedTrace | ArrayCheck) -> None:
         super().__init__(f"read data differs from the contract at cycle {checked.first_mismatch}")
         self.checked = checked
+
+
+class _SlowModelBudgetSpent(BaseException):
+    """Ends the search for bulk examples checked by the reference model once its time is spent."""
 
 
 class _ShrinkBudgetSpent(BaseException):
@@ -123,6 +130,8 @@ class _BulkSearch:
         self.best: ArrayCheck | None = None  # the shortest of them
         self.shrink_t0: float | None = None  # set when the first failure is seen
         self.mark = time.perf_counter()
+        self.t0 = self.mark
+        self.slow = unsupported(runner.contract) is not None
 
     def prop(self, spec: Any) -> None:
         self.runner.timing["bulk_generate"] += time.perf_counter() - self.mark
@@ -161,6 +170,8 @@ class _BulkSearch:
 
         if self._budget_spent():
             raise _ShrinkBudgetSpent
+        if self.slow and self.shrink_t0 is None and time.perf_counter() - self.t0 > SLOW_MODEL_BULK_SECONDS:
+            raise _SlowModelBudgetSpent
         t_in = time.perf_counter()
         cols = decode(self.runner.contract, spec, address_bits=self.runner.driven_address_bits)
         key = _digest(cols)
@@ -212,6 +223,8 @@ def bulk_examples(runner: Runner, stats: dict[str, int]) -> tuple[CheckedTrace |
         found = exc.checked
     except _ShrinkBudgetSpent:
         found = search.best
+    except _SlowModelBudgetSpent:
+        found = None
     except Flaky as exc:  # pragma: no cover - results are cached per trace, so replays agree
         inner = _flaky_mismatch(exc).checked
         assert isinstance(inner, ArrayCheck)

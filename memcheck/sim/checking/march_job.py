@@ -260,6 +260,19 @@ def _join_tail(prev: _Tail, part: _Tail, more: int) -> _Tail:
     )
 
 
+def laid_cycles(schedule: MarchSchedule, count: int) -> list[Cycle]:
+    """The first ``count`` cycles (ticks, with several clocks) as :func:`run_march_job` runs them."""
+    c = schedule.contract
+    if c.lockstep:
+        return schedule.cycles(count)
+    out: list[Cycle] = []
+    for piece in schedule.pieces():
+        out.extend(lay_columns(c, piece.cols).to_cycles()[: count - len(out)])
+        if len(out) >= count:
+            break
+    return out
+
+
 def run_march_job(runner: Runner, schedule: MarchSchedule, job: MarchJob) -> dict[str, Any]:
     """Run a March schedule on the backend in batches, checking each batch against the contract model
     (carried across batches) and the March expectations; returns counts and the first failure only.

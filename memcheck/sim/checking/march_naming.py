@@ -126,6 +126,8 @@ def name_failure(
 ) -> MarchFailure:
     """Name the failure at the last row of ``window`` (the first failing cycle). ``march_expected`` is
     the March expectation of the read the reader's data answers there (None: none applies)."""
+    if not contract.lockstep:
+        return _name_on_ticks(contract, schedule, window, march_diff)
     row = window.rows[-1]
     cycle = row.cycle
     r = schedule.reader
@@ -151,6 +153,32 @@ def name_failure(
         march_diff,
         row.diff[port],
         shown,
+    )
+
+
+def _name_on_ticks(contract: Contract, schedule: MarchSchedule, window: CheckedTrace, march_diff: int) -> MarchFailure:
+    """Several clocks: the schedule was laid on the tick timeline, so its cycle numbers do not name the
+    failing tick; the failure is named from the window's own rows (the issuing operation counts the
+    port's own edges) without a March step."""
+    row = window.rows[-1]
+    port = next((i for i, d in enumerate(row.diff) if d), schedule.reader)
+    lat = contract.memory.read_latency
+    own = [r for r in window.rows[:-1] if r.ops[port].kind != OpKind.NO_EDGE]
+    src = row if lat == 0 else (own[-lat] if len(own) >= lat else None)
+    op = None if src is None else src.ops[port]
+    kind = None if op is None else op.kind
+    activity: Activity = "read" if kind == OpKind.READ else "write" if kind == OpKind.WRITE else "quiet"
+    name = contract.ports[port].name
+    what = "an operation before the kept window" if op is None else op.describe()
+    text = (
+        f"port {name}, tick {row.cycle}: read data answering {what} "
+        "(several clocks: ticks of the laid schedule; the March step is not named)"
+    )
+    obs = row.observed[port]
+    assert obs is not None
+    issued = row.cycle - lat if src is None else src.cycle
+    return MarchFailure(
+        row.cycle, name, issued, activity, None, text, None, row.expected[port], obs, march_diff, row.diff[port], window
     )
 
 

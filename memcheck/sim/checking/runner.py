@@ -13,6 +13,7 @@ from __future__ import annotations
 import time
 from collections.abc import Callable, Sequence
 from concurrent.futures import ThreadPoolExecutor
+from dataclasses import replace
 from typing import Any, Protocol
 
 import numpy as np
@@ -298,6 +299,14 @@ class Runner:
         self.where = {"phase": "replay", "what": "trace"}
         cycles = list(failure.trace.cycles)
         power = failure.trace.power
+        watch = hasattr(self.backend, "watching")
+        if watch:  # record how read data settles after each sample point (for a timing hint)
+            setattr(self.backend, "watching", True)  # noqa: B010
         obs = self._run([Segment(tuple(cycles), power=power)], dump=dump)
         self.cover(cycles, power)
-        return check(self.contract, failure.checked.start, cycles, obs, power)
+        checked = check(self.contract, failure.checked.start, cycles, obs, power)
+        settled = getattr(self.backend, "settled", []) if watch else []
+        if len(settled) == len(checked.rows):
+            rows = tuple(replace(r, settled=s) for r, s in zip(checked.rows, settled, strict=True))
+            checked = CheckedTrace(checked.start, rows)
+        return checked

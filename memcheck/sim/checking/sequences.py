@@ -298,11 +298,10 @@ def sweep_plans(contract: Contract, options: SimOptions) -> list[SweepPlan]:
 
     m = contract.memory
     plans = []
+    bgs = options.backgrounds_for(m.width)
     for w, r in sweep_ports(contract):
-        stream = expand(options.march, m.words, m.width, backgrounds=options.backgrounds, chunk_ops=_SWEEP_CHUNK)
-        plans.append(
-            SweepPlan(options.march, options.backgrounds, march_schedule(contract, stream, w, r, options.pause_cycles))
-        )
+        stream = expand(options.march, m.words, m.width, backgrounds=bgs, chunk_ops=_SWEEP_CHUNK)
+        plans.append(SweepPlan(options.march, bgs, march_schedule(contract, stream, w, r, options.pause_cycles)))
     return plans
 
 

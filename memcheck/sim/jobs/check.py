@@ -9,12 +9,14 @@ Verdicts cover the behaviour the contract models, nothing more: they are not sig
 
 from __future__ import annotations
 
+from dataclasses import replace
 from pathlib import Path
 
 from memcheck.contract import Contract, load_contract
 from memcheck.errors import InvalidOperation, MemcheckError, ReplayError
 from memcheck.model import Model
 from memcheck.records import CheckResult, CheckVerdict, Failure, ReplayResult
+from memcheck.sim.checking.settling import timing_hint
 from memcheck.sim.checking.support import require_simulator_support
 from memcheck.sim.options import PHASES, SimOptions
 from memcheck.sim.plumbing.icarus import ProgressCallback
@@ -33,7 +35,8 @@ def _validate(c: Contract, opts: SimOptions) -> None:
     if "sweep" in opts.phases:
         from memcheck.march import expand
 
-        expand(opts.march, c.memory.words, c.memory.width, backgrounds=opts.backgrounds)  # raises on bad names
+        m = c.memory
+        expand(opts.march, m.words, m.width, backgrounds=opts.backgrounds_for(m.width))  # raises on bad names
 
 
 def check_contract(
@@ -61,6 +64,7 @@ def check_contract(
         replay_path = s.write_replay_file(failure)
         replayed, wave = s.replay(failure)
         reproduced = replayed.signature() == failure.checked.signature()
+        failure = replace(failure, timing_hint=timing_hint(s.contract, replayed))
     return CheckResult(
         verdict=CheckVerdict.FAIL if failure is not None else CheckVerdict.PASS,
         phases=res.phases,

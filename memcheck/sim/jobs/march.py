@@ -40,6 +40,7 @@ from memcheck.records import (
     ModelStart,
     PhaseResult,
 )
+from memcheck.sim.checking.march_job import laid_cycles
 from memcheck.sim.checking.march_naming import WINDOW, failure_from_job, first_failure
 from memcheck.sim.checking.schedule import MarchSchedule, choose_ports, march_schedule
 from memcheck.sim.options import SimOptions
@@ -80,7 +81,7 @@ def prepare(contract: Contract, test: MarchTest | str, opts: SimOptions) -> tupl
         m.width,
         layout=opts.layout,
         order=opts.order,
-        backgrounds=opts.backgrounds,
+        backgrounds=opts.backgrounds_for(m.width),
         any_order=opts.any_order,
         seed=opts.seed if opts.order == "lfsr" else None,
     )
@@ -140,7 +141,7 @@ def _replay_prefix(s: Session, schedule: MarchSchedule, name: str, failure: Marc
         return None, None, None
     start, preamble = _model_start(s.contract)
     desc = f"{name} on RTL up to its first failing cycle ({k})"
-    prefix = Trace(tuple(schedule.cycles(k + 1)))
+    prefix = Trace(tuple(laid_cycles(schedule, k + 1)))
     replayed, wave = s.replay(
         Failure(_PHASE, preamble, CheckedTrace(start, ()), desc, prefix), extra_stall=_STALL_PER_CYCLE * (k + 1)
     )

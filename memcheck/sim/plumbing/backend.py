@@ -15,11 +15,12 @@ from typing import Any
 import numpy as np
 from cocotb.task import resume
 
-from memcheck.model_fast import Columns
+from memcheck.model_fast import Columns, limbs_to_ints
+from memcheck.records import Settled
 from memcheck.sim.checking.runner import Observations, Runner, observations_from_arrays
 from memcheck.sim.checking.sequences import Segment
 from memcheck.sim.checking.ticks import padding
-from memcheck.sim.plumbing.words import TICK_FILE, HarnessLayout, cap_file, stim_file
+from memcheck.sim.plumbing.words import TICK_FILE, HarnessLayout, after_file, cap_file, late_file, stim_file
 
 STIM_FILE = stim_file(0)
 CAP_FILE = cap_file(0)
@@ -46,6 +47,11 @@ class HarnessBackend:
         self.batch_seconds = 0.0  # wall time of batches: files, the round trip and the simulator
         self.codec_seconds = 0.0  # building stimulus text and parsing captures
         self.record: Path | None = None  # bench/: keep every stimulus and capture file
+        #: Replays: also record how the read data settled after each sample point (see harness.py);
+        #: :attr:`settled` then holds, per observed row of the last :meth:`run`, per port, a Settled.
+        self.watching = False
+        self.settled: list[tuple[Settled | None, ...]] = []
+        self._late: list[tuple[np.ndarray, np.ndarray, np.ndarray]] = []
 
     @property
     def sim_ns(self) -> float:
@@ -71,11 +77,33 @@ class HarnessBackend:
             powers.append(state)
             keep.append(np.arange(at, at + len(s)))
             at += len(cycles)
+        self._late = []
         value, defined = self.run_columns(
             Columns.concat(parts), reset=np.concatenate(resets), power=np.concatenate(powers), dump=dump
         )
         rows = np.concatenate(keep)
+        if self.watching and self._late:
+            self.settled = self._settled_rows(rows)
         return observations_from_arrays(contract, value[rows], defined[rows])
+
+    def _settled_rows(self, rows: np.ndarray) -> list[tuple[Settled | None, ...]]:
+        late_v = np.concatenate([v for v, _, _ in self._late])[rows]
+        late_d = np.concatenate([d for _, d, _ in self._late])[rows]
+        after = np.concatenate([a for _, _, a in self._late])[rows]
+        unit = float(self.layout.timing.unit_ns)
+        out: list[tuple[Settled | None, ...]] = []
+        readable = [p.read_data is not None for p in self.layout.contract.ports]
+        for k in range(len(rows)):
+            row: list[Settled | None] = []
+            for i, ok in enumerate(readable):
+                if not ok:
+                    row.append(None)
+                    continue
+                v = limbs_to_ints(late_v[k : k + 1, i])[0]
+                d = limbs_to_ints(late_d[k : k + 1, i])[0]
+                row.append(Settled(v, d, float(after[k, i]) * unit))
+            out.append(tuple(row))
+        return out
 
     def run_columns(
         self,
@@ -126,6 +154,8 @@ class HarnessBackend:
         caps = [(self.workdir / cap_file(g)).read_bytes() for g in range(len(texts))]
         t2 = time.perf_counter()
         v, d = self.layout.decode(caps, rows, n)
+        if self.watching:
+            self._late.append(self._read_late(rows, n))
         self.batch_seconds += t2 - t1
         self.codec_seconds += t1 - t0 + time.perf_counter() - t2
         self.sim_cycles += n
@@ -138,7 +168,21 @@ class HarnessBackend:
                 fb.write(caps[0])
         return v, d
 
+    def _read_late(self, rows: list[np.ndarray], n: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """Replays: the settled read data and when it settled, per tick and port."""
+        lates = [(self.workdir / late_file(g)).read_bytes() for g in range(len(rows))]
+        lv, ld = self.layout.decode(lates, rows, n)
+        after = np.zeros((n, len(self.layout.contract.ports)), dtype=np.int64)
+        for g, (grp, r) in enumerate(zip(self.layout.timing.groups, rows, strict=True)):
+            text = (self.workdir / after_file(g)).read_text(encoding="ascii")
+            units = [int(x, 16) for x in text.split() if not x.startswith("//") and "x" not in x.lower()]
+            if len(units) == len(r):
+                for i in grp.ports:
+                    after[r, i] = units
+        return lv, ld, after
+
     async def _batch(self, counts: list[int], ticks: int, dump: bool) -> None:
+        self.dut.mc_watch.value = int(self.watching)
         if dump and not self.dumping:
             self.dut.mc_dump.value = 1
             self.dumping = True

@@ -22,7 +22,7 @@ from collections.abc import Mapping
 
 from memcheck.contract import Contract
 from memcheck.sim.plumbing.layout import BATCH_CYCLES, Field, Layout
-from memcheck.sim.plumbing.words import TICK_FILE, HarnessLayout, cap_file, stim_file
+from memcheck.sim.plumbing.words import TICK_FILE, HarnessLayout, after_file, cap_file, late_file, stim_file
 
 HARNESS_TOP = "memcheck_harness"
 STIM_FILE = stim_file(0)
@@ -71,6 +71,7 @@ def harness_text(
         "  reg mc_done;",
         "  reg mc_dump;",
         "  integer mc_i;",
+        "  reg mc_watch;",
     ]
     for g, w in enumerate(lay.words):
         lines += [
@@ -80,6 +81,10 @@ def harness_text(
             f"  reg mc_clk_{g};",
             f"  integer mc_count_{g};",
             f"  integer mc_j_{g};",
+            f"  integer mc_row_{g};",
+            f"  time mc_tsample_{g};",
+            f"  reg [{w.cap_width - 1}:0] mc_late_{g} [0:DEPTH-1];",
+            f"  reg [63:0] mc_after_{g} [0:DEPTH-1];",
         ]
     if lay.tick is not None:
         lines += [
@@ -118,18 +123,27 @@ def harness_text(
         lines.append(f'      if (mc_count_{g} > 0) $readmemh("{stim_file(g)}", mc_stim_{g}, 0, mc_count_{g} - 1);')
     if lay.tick is not None:
         lines.append(f'      if (mc_tcount > 0) $readmemh("{TICK_FILE}", mc_tstim, 0, mc_tcount - 1);')
+    lines += [f"      mc_row_{g} = -1;" for g in range(len(lay.words))]
     lines.append("      fork")
     lines += _group_processes(lay)
     lines += _tick_process(lay)
     lines.append("      join")
+    lines.append(f"      if (mc_watch) #{lay.timing.lead};  // replays: let the read data settle after the last edge")
     for g in range(len(lay.words)):
         lines.append(f'      if (mc_count_{g} > 0) $writememb("{cap_file(g)}", mc_cap_{g}, 0, mc_count_{g} - 1);')
+        lines += [
+            f"      if (mc_watch && mc_count_{g} > 0) begin",
+            f'        $writememb("{late_file(g)}", mc_late_{g}, 0, mc_count_{g} - 1);',
+            f'        $writememh("{after_file(g)}", mc_after_{g}, 0, mc_count_{g} - 1);',
+            "      end",
+        ]
     lines += ["      mc_done = ~mc_done;", "    end", "  end", "endmodule", ""]
     return "\n".join(lines)
 
 
 def _initial(lay: HarnessLayout) -> list[str]:
     lines = ["  initial begin", "    mc_go = 1'b0;", "    mc_done = 1'b0;", "    mc_dump = 1'b0;", "    mc_i = 0;"]
+    lines.append("    mc_watch = 1'b0;")
     for g, w in enumerate(lay.words):
         lines += [f"    mc_clk_{g} = 1'b0;", f"    mc_count_{g} = 0;"]
         lines += [f"    mc_s_{g} = {w.stim_width}'h{w.idle_word():x};"]
@@ -140,7 +154,23 @@ def _initial(lay: HarnessLayout) -> list[str]:
     lines += ["  end", ""]
     for g, grp in enumerate(lay.timing.groups):
         lines.append(f"  always @(posedge mc_clk_{g}) mc_clk_{g} <= #{max(grp.half, 1)} 1'b0;")
+    lines.append("  // Replays: the read data as it last changed after each sample point, and when.")
+    for g, w in enumerate(lay.words):
+        cap = _cap_expr(w)
+        if cap == "1'b0":
+            continue
+        lines += [
+            f"  always @({cap}) if (mc_watch && mc_row_{g} >= 0) begin",
+            f"    mc_late_{g}[mc_row_{g}] = {cap};",
+            f"    mc_after_{g}[mc_row_{g}] = $time - mc_tsample_{g};",
+            "  end",
+        ]
     return lines
+
+
+def _cap_expr(w: Layout) -> str:
+    fields = [pf.read_data for pf in w.ports if pf.read_data is not None]
+    return "{" + ", ".join(_sig(f.pin) for f in reversed(fields)) + "}" if fields else "1'b0"
 
 
 def _group_processes(lay: HarnessLayout) -> list[str]:
@@ -148,8 +178,7 @@ def _group_processes(lay: HarnessLayout) -> list[str]:
     change the inputs, sample the read data, raise the clock."""
     lines: list[str] = []
     for g, (w, grp) in enumerate(zip(lay.words, lay.timing.groups, strict=True)):
-        cap_fields = [pf.read_data for pf in w.ports if pf.read_data is not None]
-        cap = "{" + ", ".join(_sig(f.pin) for f in reversed(cap_fields)) + "}" if cap_fields else "1'b0"
+        cap = _cap_expr(w)
         lines += [
             f"        begin : group_{g}",
             f"          #{grp.first};" if grp.first > 0 else "          // the first edge: one period from now",
@@ -162,6 +191,8 @@ def _group_processes(lay: HarnessLayout) -> list[str]:
         lines += _assign(f"mc_s_{g}", list(w.inputs()), "            ")
         lines += [
             f"            #{grp.sample - grp.apply} mc_cap_{g}[mc_j_{g}] = {cap};",
+            f"            if (mc_watch) begin mc_row_{g} = mc_j_{g}; mc_tsample_{g} = $time; "
+            f"mc_late_{g}[mc_j_{g}] = {cap}; mc_after_{g}[mc_j_{g}] = 0; end",
             f"            #{grp.period - grp.sample} mc_clk_{g} = 1'b1;",
             "          end",
             "        end",

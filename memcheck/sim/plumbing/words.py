@@ -33,6 +33,16 @@ def cap_file(group: int) -> str:
     return "cap.bin" if group == 0 else f"cap{group}.bin"
 
 
+def late_file(group: int) -> str:
+    """Replays: the read data of each row as it last changed after the sample point."""
+    return f"late{group}.bin"
+
+
+def after_file(group: int) -> str:
+    """Replays: when (harness units after the sample point) that last change came."""
+    return f"after{group}.hex"
+
+
 TICK_FILE = "tick.hex"
 
 

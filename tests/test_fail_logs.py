@@ -1,0 +1,126 @@
+"""Fail logs written by runs and read back by diagnosis: ``march run --fail-log`` on RTL with an
+injected stuck-at cell, and ``bist campaign --fail-log`` for every instance of a small campaign.
+
+The round trips are our own checks: the run's first failing read, diagnosed with ``--first-fail``,
+must rank the injected fault (or one indistinguishable from it under the test) first.
+"""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import pytest
+
+from memcheck.bist.campaign import CampaignSpec, run_campaign
+from memcheck.bist.campaign.faillog import write_campaign_log
+from memcheck.cli import main
+from memcheck.diagnose import FailRow, diagnose, fail_log, read_fail_log
+from memcheck.diagnose.from_runs import diagnose_command, march_failure_row
+from memcheck.faults import Arrangement, Cell, CellFault, model_named
+from memcheck.faults.replay import power_up_states
+from memcheck.march.expand import MarchStep
+from memcheck.march.library import resolve_test
+from memcheck.ops import Expected, read
+from memcheck.records import Activity, CheckedTrace, MarchFailure, Observed
+from tests.test_sim_march_run import tiny_rtl
+
+
+def _failure(activity: Activity, expected: int | None, got: Observed) -> MarchFailure:
+    step = MarchStep(40, 2, 0, 1, read(6), expected)
+    return MarchFailure(
+        41, "a", 40, activity, step, "d", expected, Expected(0, 0), got, 0, 0, CheckedTrace("power-up", ())
+    )
+
+
+def test_march_failure_row_names_the_read_and_counts_x_bits_as_failing() -> None:
+    assert march_failure_row(_failure("read", 0xF0, Observed(0xF1, 0xFF)), 8) == [FailRow(1, 2, 0, 6, 0xF0, 0xF1)]
+    # bits 0..3 read as X: they fail (the complement of the expected bits there)
+    assert march_failure_row(_failure("read", 0xF0, Observed(0xF0, 0xF0)), 8) == [FailRow(1, 2, 0, 6, 0xF0, 0xFF)]
+    assert march_failure_row(_failure("quiet", None, Observed(1, 1)), 8) == []
+    assert march_failure_row(None, 8) == []
+
+
+def test_diagnose_command_carries_every_memory_option() -> None:
+    setup = Arrangement(64, 4, layout=(8, 8), order="lfsr", backgrounds="solid,checkerboard", seed=9, any_order="down")
+    cmd = diagnose_command("March C-", setup, "f.csv")
+    assert cmd == (
+        "memcheck diagnose 'March C-' f.csv --words 64 --width 4 --layout 8x8 --order lfsr --any-order down "
+        "--backgrounds solid,checkerboard --seed 9 --first-fail"
+    )
+
+
+@pytest.mark.icarus
+@pytest.mark.parametrize(("value", "address"), [(1, 6), (0, 9)])
+def test_march_run_fail_log_diagnoses_back_to_the_stuck_cell(
+    tmp_path: Path, value: int, address: int, capsys: pytest.CaptureFixture[str]
+) -> None:
+    c = tiny_rtl(tmp_path, "sa", SA_ADDR=address, SA_BIT=3, SA_VAL=value)
+    log = tmp_path / "fails.csv"
+    argv = ["march", "run", str(c), "MATS+", "--out", str(tmp_path / "out"), "--no-waveform", "--seed", "3"]
+    assert main([*argv, "--fail-log", str(log)]) == 1
+    assert f"wrote {log} (1 failing read; first-fail log)" in capsys.readouterr().out
+    text = log.read_text()
+    assert text.startswith("# memcheck march run ")
+    (row,) = read_fail_log(log)
+    assert (row.address, row.diff) == (address, 1 << 3)
+    # the comment names the one command that reads it back; run it
+    cmd = next(line for line in text.splitlines() if line.startswith("# read it back: "))
+    assert "--backgrounds std0,std1,std2,std3" in cmd  # 8-bit words: the standard set, the shared default
+    js = tmp_path / "d.json"
+    assert (
+        main(["diagnose", "MATS+", str(log), "--words", "16", "--width", "8", "--first-fail", "--json", str(js)]) == 0
+    )
+    doc = json.loads(js.read_text())
+    top = [g for g in doc["groups"] if g["rank"] == 1]
+    injected = CellFault(model_named(f"SA{value}"), Cell(address, 3)).describe()
+    assert any(injected in g["instances"] for g in top), top
+
+
+@pytest.mark.icarus
+def test_passing_march_run_writes_an_empty_fail_log(tmp_path: Path) -> None:
+    c = tiny_rtl(tmp_path, "good")
+    log = tmp_path / "fails.csv"
+    assert (
+        main(["march", "run", str(c), "MATS+", "--out", str(tmp_path / "o"), "--no-waveform", "--fail-log", str(log)])
+        == 0
+    )
+    assert read_fail_log(log) == [] and "no failing March read" in log.read_text()
+
+
+@pytest.mark.icarus
+def test_campaign_fail_logs_diagnose_back_to_each_failing_instance(tmp_path: Path) -> None:
+    # Every class the campaign runs, decoder faults included (run bit by bit on RTL, put together
+    # here): each instance that failed on RTL gives a one-row log whose diagnosis ranks it first.
+    spec = CampaignSpec("March C-", 8, 2, classes="SAF,TF,CFid,SOF,AF", universe="sample:3", seed=4)
+    report = run_campaign(spec, workers=1)
+    assert report.agree
+    test, setup = resolve_test("March C-"), Arrangement(8, 2, seed=4)
+    checked = 0
+    for k, o in enumerate(report.outcomes):
+        path = tmp_path / f"{k}.csv"
+        _, _, rows = write_campaign_log(report, path, "March C-", k)
+        assert read_fail_log(path) == rows
+        if not rows:
+            assert not any(o.failed)
+            continue
+        d = diagnose(test, setup, rows, first_fail=True)
+        assert d.rank_of(o.fault) == 1, f"{o.fault.describe()}: rank {d.rank_of(o.fault)}"
+        # the logged read is the first failing read of the reference engine from that power-up state
+        states = power_up_states(len(o.fault.power_up_labels()))
+        assert any(fail_log(test, o.fault, setup, s)[:1] == rows for s in states)
+        checked += 1
+    assert checked >= 10
+
+
+@pytest.mark.icarus
+def test_campaign_cli_fail_log_and_instance_choice(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
+    log = tmp_path / "f.csv"
+    argv = ["bist", "campaign", "MATS+", "--words", "8", "--faults", "SAF", "--workers", "1", "--seed", "2"]
+    assert main([*argv, "--fail-log", str(log), "--fail-log-instance", "3"]) == 0
+    out = capsys.readouterr().out
+    assert f"wrote {log}: instance 3 " in out
+    assert "# memcheck bist campaign 'MATS+': instance 3 [SAF]" in log.read_text()
+    assert len(read_fail_log(log)) == 1
+    assert main([*argv, "--fail-log", str(log), "--fail-log-instance", "99"]) == 2
+    assert "instances 0..15" in capsys.readouterr().err
