@@ -161,12 +161,20 @@ def test_drafts_of_the_examples_name_their_pins_and_validate(tmp_path: Path) -> 
         )
         out.write_text(text, encoding="utf-8")
         drafted = load_contract(out)  # every draft validates unchanged
-        assert drafted.memory.width == c.memory.width and drafted.memory.lanes == c.memory.lanes, e["name"]
-        assert drafted.memory.words == 1 << c.memory.address_bits, e["name"]  # words from the address width
-        (same if _shape(drafted) == _shape(c) else differ).append(e["name"])
-    # All 13 agree today; the issue asks for at least 10. A name that differs is listed here.
+        shape_ok = drafted.memory.width == c.memory.width and drafted.memory.lanes == c.memory.lanes
+        shape_ok = shape_ok and drafted.memory.words == 1 << c.memory.address_bits  # words from the address width
+        (same if shape_ok and _shape(drafted) == _shape(c) else differ).append(e["name"])
+    # The issue asks for at least 10 of its 13 examples. Examples that need the real-memory keys (several
+    # clocks, a sample point, power pins, a lane map) state what no port list can show; they must validate,
+    # and may differ. Every other example agrees today: a name listed here is a regression.
     assert len(same) >= 10, f"drafts differ from the hand-written contracts for: {differ}"
-    assert len(EXAMPLES) == 13 and differ == [], differ
+    plain = [e["name"] for e in EXAMPLES if _plain(load_contract(examples_dir() / e["contract"]))]
+    assert len(plain) >= 13 and not set(plain) & set(differ), differ
+
+
+def _plain(c: Contract) -> bool:
+    """No key a port list cannot suggest: one default clock, no sample point, no power pins, even lanes."""
+    return not c.clocks and c.timing.sample is None and c.power is None and c.memory.lane_map is None
 
 
 @pytest.mark.icarus

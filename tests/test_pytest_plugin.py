@@ -109,7 +109,7 @@ def test_a_conforming_and_a_buggy_example_with_junit_and_the_fixture(pytester: p
         [
             f"rtl/{GOOD}/contract.toml .*",
             f"*memcheck contract rtl/{BUGGY}/contract.toml::check*",
-            f"rtl/{BUGGY}/contract.toml: DIFFERENCE FOUND",
+            f"rtl/{BUGGY}/contract.toml: DIFFERENCE FOUND*",
             f"replay: memcheck replay memcheck-out/rtl/{BUGGY}/replay.json",
             "cycle  port  op *expected*actual*differs",
         ]

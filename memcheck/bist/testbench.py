@@ -196,8 +196,9 @@ def _unit(prefix: str, u: TbUnit) -> str:
 """
 
 
-def testbench_verilog(prefix: str, units: list[TbUnit], pre_cycles: int = 3) -> str:
-    """A testbench module ``prefix`` (plus ``prefix_mem`` / ``prefix_check*`` helpers) running ``units``.
+def testbench_verilog(prefix: str, units: list[TbUnit], pre_cycles: int = 3, half_period: str = "5") -> str:
+    """A testbench module ``prefix`` (plus ``prefix_mem`` / ``prefix_check*`` helpers) running ``units``,
+    its clock toggling every ``half_period`` ns.
 
     ``rst_n`` is held low for ``pre_cycles`` cycles (long enough for a wrapper's own reset, which the
     unit's memory text drives from time 0); ``start`` is pulsed one cycle later.
@@ -214,7 +215,7 @@ def testbench_verilog(prefix: str, units: list[TbUnit], pre_cycles: int = 3) -> 
     reg clk;
     reg rst_n;
     reg start;
-    initial begin clk = 1'b0; forever #5 clk = ~clk; end
+    initial begin clk = 1'b0; forever #{half_period} clk = ~clk; end
     initial begin
         rst_n = 1'b0;
         start = 1'b0;

@@ -16,7 +16,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from memcheck._atomic import write_text_atomic
-from memcheck.bist.adapter import adapter_verilog, wrapper_unit
+from memcheck.bist.adapter import adapter_verilog, half_period_ns, wrapper_unit
 from memcheck.bist.microcode import EnginePlan
 from memcheck.bist.testbench import TbUnit, testbench_verilog
 from memcheck.bist.verilog import engine_verilog
@@ -198,7 +198,9 @@ def run_on_wrapper(
         stream_file = str(work / "engine.hex")
     unit = TbUnit(plan, "engine", stream_file, wrapper_unit(plan, contract, port, "engine"))
     pre = 3 if contract.reset is None else max(3, contract.reset.cycles + 1)
-    tb = write_text_atomic(work / "bist_tb.v", testbench_verilog("bist_tb", [unit], pre))
+    tb = write_text_atomic(
+        work / "bist_tb.v", testbench_verilog("bist_tb", [unit], pre, half_period_ns(contract, port))
+    )
     rtl = contract.rtl
     flags = [f"-I{d}" for d in rtl.include_dirs] + [f"-D{k}={v}" for k, v in rtl.defines.items()]
     out = simulate("bist_tb", [tb, engine, adapter, *rtl.sources], work, flags=flags)

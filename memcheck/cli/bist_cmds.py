@@ -9,7 +9,7 @@ from typing import Any, TypeVar
 import click
 
 from memcheck._atomic import write_text_atomic
-from memcheck.bist.adapter import adapter_verilog, choose_port, wrapper_unit
+from memcheck.bist.adapter import adapter_verilog, choose_port, half_period_ns, wrapper_unit
 from memcheck.bist.lint import lint_file
 from memcheck.bist.microcode import EnginePlan, plan_engine
 from memcheck.bist.testbench import TbUnit, testbench_verilog
@@ -130,8 +130,9 @@ def bist_generate(test: str, output: str | None, testbench: bool, **kw: Any) -> 
     out = Path(output) if output else Path(f"{plan.module}.v")
     files = [write_text_atomic(out, engine_verilog(plan))]
     unit = TbUnit(plan, "engine")
-    pre = 3
+    pre, half = 3, "5"
     if contract is not None and port is not None:
+        half = half_period_ns(contract, port)
         files.append(
             write_text_atomic(out.with_name(f"{plan.module}_adapter.v"), adapter_verilog(plan, contract, port))
         )
@@ -139,7 +140,7 @@ def bist_generate(test: str, output: str | None, testbench: bool, **kw: Any) -> 
             unit = TbUnit(plan, "engine", None, wrapper_unit(plan, contract, port, "engine"))
             pre = 3 if contract.reset is None else max(3, contract.reset.cycles + 1)
     if testbench:
-        tb = testbench_verilog(f"{plan.module}_tb", [unit], pre)
+        tb = testbench_verilog(f"{plan.module}_tb", [unit], pre, half)
         files.append(write_text_atomic(out.with_name(f"{plan.module}_tb.v"), tb))
     for f in files:
         click.echo(f"wrote {f}")
