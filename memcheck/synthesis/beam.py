@@ -24,7 +24,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from memcheck.synthesis.rows import DET
-from memcheck.synthesis.search import CUT_TIME, Search, Step, _Cut, _Level
+from memcheck.synthesis.search import CUT_TIME, Level, Search, SearchCut, Step
 
 DEFAULT_BEAM_WIDTH = 200
 DEFAULT_MAX_ELEMENT = 8  # longest element tried; the library's longest has 6 operations (March RAW)
@@ -53,7 +53,7 @@ class BeamSearch(Search):
     def _prefix_lengths(self, K: int) -> range:
         return range(max(0, K - self.max_element), K)
 
-    def _trim(self, level: _Level) -> None:
+    def _trim(self, level: Level) -> None:
         if len(level) <= self.width:
             return
         score = (self.model.final(level.states[0]) == DET).sum(axis=1)
@@ -76,7 +76,7 @@ def beam_search(search: BeamSearch, max_length: int) -> BeamOutcome:
             if done.size:
                 steps = search.path(n, int(done[0]))
                 return BeamOutcome(steps, n, search.width, search.max_element, None, time.monotonic() - t0)
-    except _Cut as cut:
+    except SearchCut as cut:
         return BeamOutcome(None, None, search.width, search.max_element, cut.reason, time.monotonic() - t0)
     return BeamOutcome(None, None, search.width, search.max_element, None, time.monotonic() - t0)
 

@@ -68,7 +68,9 @@ class SearchOutcome:
 
 
 @dataclass
-class _Level:
+class Level:
+    """The states first reached with one length (parts appended, then frozen into one array each)."""
+
     states: list[U8] = field(default_factory=list)
     g: list[U8] = field(default_factory=list)
     parent_level: list[IntArray] = field(default_factory=list)
@@ -93,7 +95,9 @@ class _Level:
         return sum(len(s) for s in self.states)
 
 
-class _Cut(Exception):
+class SearchCut(Exception):
+    """Raised inside a search when its time or memory limit is reached; ``reason`` names which."""
+
     def __init__(self, reason: str) -> None:
         super().__init__(reason)
         self.reason = reason
@@ -111,7 +115,7 @@ class Search:
     first_directions: tuple[int, ...] = (0, 1)
     deadline: float | None = None
     memory_limit: int | None = None
-    levels: list[_Level] = field(default_factory=list)
+    levels: list[Level] = field(default_factory=list)
     seen: set[bytes] = field(default_factory=set)
     held_bytes: int = 0
 
@@ -123,7 +127,7 @@ class Search:
             1: ElementTrie(m, 1),
             UNWRITTEN: ElementTrie(m, UNWRITTEN, self.first_writes, self.first_directions),
         }
-        start = _Level()
+        start = Level()
         init = m.init[None, :].copy()
         g0 = np.array([UNWRITTEN], np.uint8)
         start.add(init, g0, -1, np.zeros(1, np.int64), np.zeros((1, 3), np.int64))
@@ -133,18 +137,18 @@ class Search:
     # -- generation ---------------------------------------------------------------------------
     def _check_time(self) -> None:
         if self.deadline is not None and time.monotonic() > self.deadline:
-            raise _Cut(CUT_TIME)
+            raise SearchCut(CUT_TIME)
 
     def _hold(self, states: int) -> None:
         """Count ``states`` new states (level arrays and seen-set keys) against the memory limit."""
         self.held_bytes += states * (2 * self.model.rows + _KEY_OVERHEAD)
         if self.memory_limit is not None and self.held_bytes > self.memory_limit:
-            raise _Cut(CUT_MEMORY)
+            raise SearchCut(CUT_MEMORY)
 
     def _keep_new(self, states: U8, g: U8) -> IntArray:
         return keep_new(states, g, self.seen)
 
-    def _extend(self, level: _Level, k: int, sel: IntArray, g_in: int, es: ElementSet, length: int) -> None:
+    def _extend(self, level: Level, k: int, sel: IntArray, g_in: int, es: ElementSet, length: int) -> None:
         src = self.levels[k].states[0][sel]
         per = max(1, CHUNK_BYTES // max(1, len(src) * self.model.rows))
         for e0 in range(0, len(es), per):
@@ -161,7 +165,7 @@ class Search:
             level.add(flat[keep], g[keep], k, sel[s_idx], ref)
             self._hold(keep.size)
 
-    def _delays(self, level: _Level, K: int) -> None:
+    def _delays(self, level: Level, K: int) -> None:
         level.freeze()
         if not len(level):
             return
@@ -178,11 +182,11 @@ class Search:
         """Lengths of the prefixes a level-``K`` state is built from (all shorter ones here)."""
         return range(K)
 
-    def _trim(self, level: _Level) -> None:
+    def _trim(self, level: Level) -> None:
         """Hook for searches that keep only part of a level (nothing here: the search is exact)."""
 
-    def build_level(self, K: int) -> _Level:
-        level = _Level()
+    def build_level(self, K: int) -> Level:
+        level = Level()
         for k in self._prefix_lengths(K):
             prev = self.levels[k]
             if not len(prev):
@@ -240,6 +244,6 @@ class Search:
                 if self.exhausted(n):
                     return SearchOutcome(None, n + 1, True, None, SearchStats(tuple(counts), time.monotonic() - t0))
                 n += 1
-        except _Cut as cut:
+        except SearchCut as cut:
             return SearchOutcome(None, n, False, cut.reason, SearchStats(tuple(counts), time.monotonic() - t0))
         return SearchOutcome(None, n, False, None, SearchStats(tuple(counts), time.monotonic() - t0))

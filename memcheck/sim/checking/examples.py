@@ -29,7 +29,6 @@ BULK_SHRINK_SECONDS = 30.0
 #: Bulk examples of a contract the vectorised model cannot check (several clocks, power pins) are
 #: checked by the reference model, about a hundred times slower: new ones stop after this many seconds.
 SLOW_MODEL_BULK_SECONDS = 30.0
-_FLAKY_NOTE = LIKELY_RACE
 
 
 class _Mismatch(Exception):
@@ -107,7 +106,7 @@ def short_examples(runner: Runner, stats: dict[str, int]) -> tuple[CheckedTrace 
     except Flaky as exc:
         found = _flaky_mismatch(exc).checked
         assert isinstance(found, CheckedTrace)
-        return found, _FLAKY_NOTE
+        return found, LIKELY_RACE
     return None, ""
 
 
@@ -228,7 +227,7 @@ def bulk_examples(runner: Runner, stats: dict[str, int]) -> tuple[CheckedTrace |
     except Flaky as exc:  # pragma: no cover - results are cached per trace, so replays agree
         inner = _flaky_mismatch(exc).checked
         assert isinstance(inner, ArrayCheck)
-        found, note = inner, _FLAKY_NOTE
+        found, note = inner, LIKELY_RACE
     finally:
         runner._pool = None
     now = time.perf_counter()
