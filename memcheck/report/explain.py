@@ -7,6 +7,7 @@ reviewer's comment: "read-during-write should return the old data".
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass
 
 from memcheck.contract import Contract
@@ -57,7 +58,7 @@ class _Seen:
     prefix: str  # what the pins showed, in words
     timing: str  # a latency hint, or ""
 
-    @property
+    @functools.cached_property
     def issue_cycle(self) -> int:
         """The row of the operation whose read data is due here: ``read_latency`` of the port's own
         edges earlier (with one clock, that many cycles earlier)."""

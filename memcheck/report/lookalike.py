@@ -68,8 +68,14 @@ def _writes(contract: Contract, rows: list[CycleRow]) -> list[_Write]:
 def issue_row(checked: CheckedTrace, row: CycleRow, port: int, latency: int) -> CycleRow | None:
     """The row whose operation on ``port`` produced the read data due at ``row``: ``latency`` of the
     port's own edges earlier (rows where the port has no clock edge do not count)."""
-    edges = [r for r in checked.rows if r.cycle <= row.cycle and r.ops[port].kind != OpKind.NO_EDGE]
-    return edges[-1 - latency] if len(edges) > latency else None
+    seen = 0
+    for r in reversed(checked.rows):  # backwards from ``row``: linear in the latency, not the trace
+        if r.cycle > row.cycle or r.ops[port].kind == OpKind.NO_EDGE:
+            continue
+        if seen == latency:
+            return r
+        seen += 1
+    return None
 
 
 def _address_guess(read: int, other: int) -> str:

@@ -82,9 +82,10 @@ def check_contract(
 
 def _validate_trace(c: Contract, failure: Failure, where: Path) -> None:
     m = Model(c)  # stepped, so that each cycle is checked at its own tick (several clocks)
-    for k, cycle in enumerate(failure.trace.cycles):
+    trace = failure.trace  # built from the rows on each access: once here
+    for k, cycle in enumerate(trace.cycles):
         try:
-            m.step(cycle, failure.trace.power_at(k))
+            m.step(cycle, trace.power_at(k))
         except InvalidOperation as exc:
             raise ReplayError(f"{where}: cycle {k} of the trace does not fit the contract: {exc}.") from None
 
