@@ -1,0 +1,187 @@
+"""Word pairs of the neighbour universe counted from the layout, without per-word arrays.
+
+Every neighbour pair of the neighbours universe (:mod:`memcheck.faults.universe`) is a pair of
+words a fixed step apart on the ``rows x cols`` word grid, repeated over a rectangle of base words
+(a :class:`Band`): a cell and its neighbour one physical column to the right are in words one mux
+column apart (the same bit), or, at the last mux column, in the first mux column's word of the next
+bit. What the fast engine needs from such a pair is
+
+* whether the shifted word comes first in the ⇑ walk (the pair's relation),
+* the two words' classes (how each background flips them), and a word's class depends only on the
+  parity of its row and of its mux column (:func:`memcheck.march.backgrounds.parity`).
+
+So :func:`band_counts` counts the pairs of a band by (shifted word first?, row parity, column
+parity of the base word). For walks where the step alone decides which word comes first
+(``linear``, ``col-fast``, ``row-fast``) that is a product of parity counts, O(1) whatever the
+size; for the other walks the band is streamed in blocks of rows with numpy (bounded memory),
+positions from the walk's closed form, or from the walk built once (``lfsr``, ``gray`` on a
+word count that is not a power of two). A band and its reverse (every pair swapped) are the same
+pairs, so each is counted once.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+import numpy.typing as npt
+
+from memcheck.faults.sparse import addresses_at, closed_form, positions_of
+from memcheck.march.orders import AddressOrder
+
+IntArray = npt.NDArray[np.int64]
+
+#: Word pairs per streamed block: bounds the memory of a streamed band (about 100 bytes a pair).
+BLOCK_PAIRS = 1 << 21
+#: Walks where the step between two words alone decides which comes first.
+STEP_ORDERS = ("linear", "col-fast", "row-fast")
+
+
+@dataclass(frozen=True)
+class Band:
+    """Word pairs (base ``(r, c)``, shifted ``(r + dr, c + dc)``) for rows ``r0 <= r < r1`` and
+    mux columns ``c0 <= c < c1`` of the base word."""
+
+    dr: int
+    dc: int
+    r0: int
+    r1: int
+    c0: int
+    c1: int
+
+    @property
+    def size(self) -> int:
+        return max(0, self.r1 - self.r0) * max(0, self.c1 - self.c0)
+
+    @property
+    def delta(self) -> int:
+        """Parity class of the shifted word = parity class of the base word XOR this."""
+        return ((self.dr & 1) << 1) | (self.dc & 1)
+
+    def reverse(self) -> Band:
+        """The same pairs, base and shifted swapped."""
+        return Band(-self.dr, -self.dc, self.r0 + self.dr, self.r1 + self.dr, self.c0 + self.dc, self.c1 + self.dc)
+
+
+def parity_counts(lo: int, hi: int) -> tuple[int, int]:
+    """How many integers of ``[lo, hi)`` are even and odd."""
+    if hi <= lo:
+        return 0, 0
+    odd = hi // 2 - lo // 2
+    return hi - lo - odd, odd
+
+
+@dataclass(eq=False)
+class Walk:
+    """Positions in the ⇑ walk of any addresses, and addresses at any positions, without building
+    the walk when it has a closed form (else built once: 16 bytes a word)."""
+
+    order: AddressOrder
+    _built: list[tuple[IntArray, IntArray]] = field(default_factory=list)
+
+    @property
+    def materialised(self) -> bool:
+        return not closed_form(self.order)
+
+    def _arrays(self) -> tuple[IntArray, IntArray]:
+        if not self._built:
+            up = self.order.up()
+            pos = np.empty(self.order.words, dtype=np.int64)
+            pos[up] = np.arange(self.order.words, dtype=np.int64)
+            self._built.append((up, pos))
+        return self._built[0]
+
+    def pos(self, addresses: IntArray) -> IntArray:
+        if self.materialised:
+            out: IntArray = self._arrays()[1][addresses]
+            return out
+        return positions_of(self.order, addresses)
+
+    def addr(self, positions: IntArray) -> IntArray:
+        if self.materialised:
+            out: IntArray = self._arrays()[0][positions]
+            return out
+        return addresses_at(self.order, positions)
+
+
+def _step_first(order: AddressOrder, band: Band, cols: int) -> bool:
+    """Whether the shifted word comes first, for a walk decided by the step alone."""
+    if order.kind == "row-fast":
+        return band.dc < 0 or (band.dc == 0 and band.dr < 0)
+    return band.dr * cols + band.dc < 0
+
+
+def _closed_counts(band: Band, first: bool) -> IntArray:
+    out = np.zeros((2, 4), np.int64)
+    rp = parity_counts(band.r0, band.r1)
+    cp = parity_counts(band.c0, band.c1)
+    for pq in range(4):
+        out[int(first), pq] = rp[pq >> 1] * cp[pq & 1]
+    return out
+
+
+def _streamed_counts(walk: Walk, band: Band, cols: int, block_pairs: int) -> IntArray:
+    out = np.zeros(8, np.int64)
+    c = np.arange(band.c0, band.c1, dtype=np.int64)
+    step = max(1, block_pairs // max(1, c.size))
+    col_par = c & 1
+    for start in range(band.r0, band.r1, step):
+        r = np.arange(start, min(band.r1, start + step), dtype=np.int64)
+        base = (r[:, None] * cols + c[None, :]).reshape(-1)
+        first = walk.pos(base + (band.dr * cols + band.dc)) < walk.pos(base)
+        pq = ((r[:, None] & 1) << 1 | col_par[None, :]).reshape(-1)
+        out += np.bincount(first * 4 + pq, minlength=8)
+    return out.reshape(2, 4)
+
+
+@dataclass(eq=False)
+class BandCounter:
+    """:func:`band_counts` with a cache shared by a band and its reverse."""
+
+    walk: Walk
+    cols: int
+    block_pairs: int = BLOCK_PAIRS
+    _cache: dict[Band, IntArray] = field(default_factory=dict)
+
+    def counts(self, band: Band) -> IntArray:
+        """``out[first, pq]``: pairs of ``band`` by whether the shifted word comes first in the ⇑
+        walk and the base word's parity class ``pq = (row & 1) * 2 + (col & 1)``."""
+        if band in self._cache:
+            return self._cache[band]
+        rev = band.reverse()
+        if rev in self._cache:  # swapped pairs: the other word first, the other word's parity class
+            r = self._cache[rev]
+            out = np.zeros((2, 4), np.int64)
+            for pq in range(4):
+                out[:, pq ^ band.delta] = r[::-1, pq]
+        elif band.size == 0:
+            out = np.zeros((2, 4), np.int64)
+        elif self.walk.order.kind in STEP_ORDERS:
+            out = _closed_counts(band, _step_first(self.walk.order, band, self.cols))
+        else:
+            out = _streamed_counts(self.walk, band, self.cols, self.block_pairs)
+        self._cache[band] = out
+        return out
+
+
+def cell_bands(rows: int, cols: int, width: int, dr: int, dc: int) -> list[tuple[Band, IntArray, IntArray]]:
+    """The cell pairs (aggressor = victim + (dr, dc) physical rows/columns) as bands of victim words
+    with their (aggressor bit, victim bit) lists."""
+    r0, r1 = max(0, -dr), rows - max(0, dr)
+    bits = np.arange(width, dtype=np.int64)
+    if dc == 0:
+        return [(Band(dr, 0, r0, r1, 0, cols), bits, bits)]
+    if dc > 0:  # the last mux column's right neighbour is the next bit's first mux column
+        return [
+            (Band(dr, 1, r0, r1, 0, cols - 1), bits, bits),
+            (Band(dr, -(cols - 1), r0, r1, cols - 1, cols), bits[:-1] + 1, bits[:-1]),
+        ]
+    return [
+        (Band(dr, -1, r0, r1, 1, cols), bits, bits),
+        (Band(dr, cols - 1, r0, r1, 0, 1), bits[1:] - 1, bits[1:]),
+    ]
+
+
+def word_band(rows: int, cols: int, dr: int, dc: int) -> Band:
+    """Word pairs (x, y = x + (dr, dc) on the word grid) with both words inside the grid."""
+    return Band(dr, dc, max(0, -dr), rows - max(0, dr), max(0, -dc), cols - max(0, dc))
