@@ -58,6 +58,10 @@ class Band:
         """Parity class of the shifted word = parity class of the base word XOR this."""
         return ((self.dr & 1) << 1) | (self.dc & 1)
 
+    def step(self, cols: int) -> int:
+        """Address of the shifted word minus address of the base word."""
+        return self.dr * cols + self.dc
+
     def reverse(self) -> Band:
         """The same pairs, base and shifted swapped."""
         return Band(-self.dr, -self.dc, self.r0 + self.dr, self.r1 + self.dr, self.c0 + self.dc, self.c1 + self.dc)
@@ -111,17 +115,45 @@ def _step_first(order: AddressOrder, band: Band, cols: int) -> bool:
     return band.dr * cols + band.dc < 0
 
 
-def _closed_counts(band: Band, first: bool) -> IntArray:
-    out = np.zeros((2, 4), np.int64)
+@dataclass(frozen=True, eq=False)
+class BandCount:
+    """``count[first, pq]``: pairs of a band by whether the shifted word comes first in the ⇑ walk
+    and the base word's parity class ``pq = (row & 1) * 2 + (col & 1)``; ``base[first, pq]`` the
+    smallest base address of such a pair (-1: none)."""
+
+    count: IntArray
+    base: IntArray
+
+    def __eq__(self, other: object) -> bool:
+        return (
+            isinstance(other, BandCount)
+            and np.array_equal(self.count, other.count)
+            and np.array_equal(self.base, other.base)
+        )
+
+    __hash__ = None  # type: ignore[assignment]
+
+
+def _empty() -> BandCount:
+    return BandCount(np.zeros((2, 4), np.int64), np.full((2, 4), -1, np.int64))
+
+
+def _closed_counts(band: Band, first: bool, cols: int) -> BandCount:
+    out = _empty()
     rp = parity_counts(band.r0, band.r1)
     cp = parity_counts(band.c0, band.c1)
     for pq in range(4):
-        out[int(first), pq] = rp[pq >> 1] * cp[pq & 1]
+        x, y = pq >> 1, pq & 1
+        out.count[int(first), pq] = rp[x] * cp[y]
+        if rp[x] and cp[y]:  # the first row and column of these parities
+            out.base[int(first), pq] = (band.r0 + ((band.r0 ^ x) & 1)) * cols + band.c0 + ((band.c0 ^ y) & 1)
     return out
 
 
-def _streamed_counts(walk: Walk, band: Band, cols: int, block_pairs: int) -> IntArray:
-    out = np.zeros(8, np.int64)
+def _streamed_counts(walk: Walk, band: Band, cols: int, block_pairs: int) -> BandCount:
+    out = _empty()
+    count = out.count.reshape(-1)
+    base_of = out.base.reshape(-1)
     c = np.arange(band.c0, band.c1, dtype=np.int64)
     step = max(1, block_pairs // max(1, c.size))
     col_par = c & 1
@@ -129,35 +161,41 @@ def _streamed_counts(walk: Walk, band: Band, cols: int, block_pairs: int) -> Int
         r = np.arange(start, min(band.r1, start + step), dtype=np.int64)
         base = (r[:, None] * cols + c[None, :]).reshape(-1)
         first = walk.pos(base + (band.dr * cols + band.dc)) < walk.pos(base)
-        pq = ((r[:, None] & 1) << 1 | col_par[None, :]).reshape(-1)
-        out += np.bincount(first * 4 + pq, minlength=8)
-    return out.reshape(2, 4)
+        idx = first * 4 + ((r[:, None] & 1) << 1 | col_par[None, :]).reshape(-1)
+        here = np.bincount(idx, minlength=8)
+        for v in np.flatnonzero((here > 0) & (base_of < 0)).tolist():
+            base_of[v] = base[int(np.argmax(idx == v))]
+        count += here
+    return out
 
 
 @dataclass(eq=False)
 class BandCounter:
-    """:func:`band_counts` with a cache shared by a band and its reverse."""
+    """:meth:`counts` of bands, with a cache shared by a band and its reverse."""
 
     walk: Walk
     cols: int
     block_pairs: int = BLOCK_PAIRS
-    _cache: dict[Band, IntArray] = field(default_factory=dict)
+    _cache: dict[Band, BandCount] = field(default_factory=dict)
 
-    def counts(self, band: Band) -> IntArray:
-        """``out[first, pq]``: pairs of ``band`` by whether the shifted word comes first in the ⇑
-        walk and the base word's parity class ``pq = (row & 1) * 2 + (col & 1)``."""
+    def counts(self, band: Band) -> BandCount:
+        """The pairs of ``band`` counted by relation and parity class (see :class:`BandCount`): O(1)
+        for step-decided walks, streamed in blocks of rows otherwise."""
         if band in self._cache:
             return self._cache[band]
         rev = band.reverse()
         if rev in self._cache:  # swapped pairs: the other word first, the other word's parity class
             r = self._cache[rev]
-            out = np.zeros((2, 4), np.int64)
+            out = _empty()
             for pq in range(4):
-                out[:, pq ^ band.delta] = r[::-1, pq]
+                out.count[:, pq ^ band.delta] = r.count[::-1, pq]
+                out.base[:, pq ^ band.delta] = np.where(
+                    r.base[::-1, pq] < 0, -1, r.base[::-1, pq] + rev.step(self.cols)
+                )
         elif band.size == 0:
-            out = np.zeros((2, 4), np.int64)
+            out = _empty()
         elif self.walk.order.kind in STEP_ORDERS:
-            out = _closed_counts(band, _step_first(self.walk.order, band, self.cols))
+            out = _closed_counts(band, _step_first(self.walk.order, band, self.cols), self.cols)
         else:
             out = _streamed_counts(self.walk, band, self.cols, self.block_pairs)
         self._cache[band] = out

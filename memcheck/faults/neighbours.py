@@ -14,8 +14,8 @@ pairs. Here the same tables come from the structure of the layout instead:
 * a stuck-open cell's context (the classes of its word and of the words before and after it in
   the walk, and the walk's two ends) is counted in blocks of addresses; its verdict comes from
   the compact memory of one representative word per context (:mod:`memcheck.faults.sparse`);
-* examples of escapes are searched in blocks of rows, stopping when every wanted key is found,
-  and simulated on their compact memory.
+* the example of an escape is the first pair of its key: each band records the first base word of
+  every (relation, parity class), and the example is simulated on its compact memory.
 
 The tables are equal (same keys, same counts) to :func:`~memcheck.faults.universe.pair_table_neighbours`,
 :func:`~memcheck.faults.universe.word_pair_table`, :func:`~memcheck.faults.universe.cell_table` and
@@ -26,7 +26,7 @@ instance simulation).
 
 from __future__ import annotations
 
-from collections.abc import Callable, Iterator, Sequence
+from collections.abc import Iterator, Sequence
 from dataclasses import dataclass
 
 import numpy as np
@@ -45,7 +45,6 @@ from memcheck.faults.universe import (
     CellTable,
     PairTable,
     WordPairTable,
-    _first_by_key,
     _pack,
     _unpack,
     require_layout,
@@ -56,9 +55,7 @@ from memcheck.march.orders import AddressOrder
 
 IntArray = npt.NDArray[np.int64]
 
-_Batches = Callable[[int, int], Iterator[tuple["IntArray", "IntArray", "IntArray"]]]
-
-#: Addresses per block of the stuck-open context count and cells per block of the example search.
+#: Addresses per block of the stuck-open context count (walks that are not step-decided).
 BLOCK = 1 << 21
 
 
@@ -124,41 +121,52 @@ class NeighbourCounts:
         u, c = merge_counts([codes.reshape(-1)], [np.repeat(self.words_per_class(), codes.shape[1])])
         return CellTable(u, c)
 
-    def pair_table(self) -> PairTable:
+    def _cell_rows(self) -> Iterator[tuple[IntArray, int, int, int, IntArray, IntArray]]:
+        """Per cell band and (relation, parity class) that occurs: the key of each of its bit pairs,
+        the word-pair count, the first victim word and the step to its aggressor word, the bit pairs."""
         codes = self.plan.rs.class_codes()
-        ncode = 1 << self.plan.rs.nbg
-        keys: list[IntArray] = []
-        counts: list[IntArray] = []
         for dr, dc in CELL_OFFSETS:
             for band, ba, bv in cell_bands(self.rows, self.cols, self.setup.width, dr, dc):
                 if band.size == 0 or ba.size == 0:
                     continue
-                step = band.dr * self.cols + band.dc
+                step = band.step(self.cols)
                 scope = 0 if step == 0 else (1 if step < 0 else 2)
                 n = self.bands.counts(band)
-                for first, pq in zip(*np.nonzero(n), strict=True):
+                for first, pq in zip(*np.nonzero(n.count), strict=True):
                     rel = 1 if step == 0 else (2 if first else 3)
                     ca = codes[self.pq_class[pq ^ band.delta], ba]
                     cv = codes[self.pq_class[pq], bv]
-                    u, c = count_keys(_pack(np.full(ca.size, rel), np.full(ca.size, scope), ca, cv, ncode))
-                    keys.append(u)
-                    counts.append(scaled(c, int(n[first, pq])))
+                    keys = _pack(np.full(ca.size, rel), np.full(ca.size, scope), ca, cv, 1 << self.plan.rs.nbg)
+                    yield keys, int(n.count[first, pq]), int(n.base[first, pq]), step, ba, bv
+
+    def pair_table(self) -> PairTable:
+        keys: list[IntArray] = []
+        counts: list[IntArray] = []
+        for k, n, _, _, _, _ in self._cell_rows():
+            u, c = count_keys(k)
+            keys.append(u)
+            counts.append(scaled(c, n))
         uk, uc = merge_counts(keys, counts)
-        return _unpack(uk, uc, ncode)
+        return _unpack(uk, uc, 1 << self.plan.rs.nbg)
+
+    def _word_rows(self) -> Iterator[tuple[int, int, int, int]]:
+        """Per word band and (relation, parity class) that occurs: key, count, first x, first y."""
+        nwc = int(self.plan.rs.wpar.shape[0])
+        for dr, dc in WORD_OFFSETS:
+            band = word_band(self.rows, self.cols, dr, dc)
+            if band.size == 0:
+                continue
+            n = self.bands.counts(band)
+            for first, pq in zip(*np.nonzero(n.count), strict=True):
+                relation = 2 if first else 1  # y (the shifted word) first: YX
+                key = (relation * nwc + int(self.pq_class[pq])) * nwc + int(self.pq_class[pq ^ band.delta])
+                x = int(n.base[first, pq])
+                yield key, int(n.count[first, pq]), x, x + band.step(self.cols)
 
     def word_pair_table(self) -> WordPairTable:
         nwc = self.plan.rs.wpar.shape[0]
-        keys: list[IntArray] = []
-        counts: list[IntArray] = []
-        for dr, dc in WORD_OFFSETS:
-            band = word_band(self.rows, self.cols, dr, dc)
-            n = self.bands.counts(band) if band.size else np.zeros((2, 4), np.int64)
-            for first, pq in zip(*np.nonzero(n), strict=True):
-                relation = 2 if first else 1  # y (the shifted word) first: YX
-                key = (relation * nwc + self.pq_class[pq]) * nwc + self.pq_class[pq ^ band.delta]
-                keys.append(np.array([key], np.int64))
-                counts.append(np.array([n[first, pq]], np.int64))
-        u, c = merge_counts(keys, counts)
+        rows = list(self._word_rows())
+        u, c = merge_counts([np.array([r[0]], np.int64) for r in rows], [np.array([r[1]], np.int64) for r in rows])
         return WordPairTable(u // (nwc * nwc), (u // nwc) % nwc, u % nwc, c)
 
     # -- stuck-open cells ---------------------------------------------------------------------------
@@ -237,70 +245,28 @@ class NeighbourCounts:
                 out[code] = Cell(*min(cands))
         return out
 
-    def _row_blocks(self, per_row: int) -> Iterator[tuple[int, int]]:
-        step = max(1, BLOCK // max(1, per_row))
-        for r0 in range(0, self.rows, step):
-            yield r0, min(self.rows, r0 + step)
-
-    def _cell_pairs(self, r0: int, r1: int) -> Iterator[tuple[IntArray, IntArray, IntArray]]:
-        """(key, victim cell, aggressor cell) of every neighbour pair whose victim is in rows r0..r1-1."""
-        width = self.setup.width
-        pcols = width * self.cols
-        codes = self.plan.rs.class_codes()
-        for dr, dc in CELL_OFFSETS:
-            rv = np.arange(max(r0, -dr), min(r1, self.rows - dr), dtype=np.int64)
-            pv = np.arange(max(0, -dc), pcols - max(0, dc), dtype=np.int64)
-            if rv.size == 0 or pv.size == 0:
-                continue
-            rv, pv = np.repeat(rv, pv.size), np.tile(pv, rv.size)
-            ra, pa = rv + dr, pv + dc
-            wa, ba = ra * self.cols + pa % self.cols, pa // self.cols
-            wv, bv = rv * self.cols + pv % self.cols, pv // self.cols
-            rel = np.where(wa == wv, 1, np.where(self.walk.pos(wa) < self.walk.pos(wv), 2, 3))
-            scope = np.where(wa == wv, 0, np.where(wa < wv, 1, 2))
-            ca, cv = codes[self._classes_of(wa), ba], codes[self._classes_of(wv), bv]
-            yield _pack(rel, scope, ca, cv, 1 << self.plan.rs.nbg), wv * width + bv, wa * width + ba
-
-    def _first_in_blocks(self, per_row: int, batches_of: _Batches, wanted: IntArray) -> dict[int, tuple[int, int]]:
-        """The first instance of each wanted key, rows block by block, until every key is found."""
-        best: dict[int, tuple[int, int]] = {}
-        for r0, r1 in self._row_blocks(per_row):
-            found = _first_by_key(batches_of(r0, r1), wanted)
-            for k, v in found.items():
-                if k not in best or v < best[k]:
-                    best[k] = v
-            if len(best) == len(wanted):
-                break
-        return best
-
     def find_pairs(self, keys: list[int]) -> dict[int, tuple[Cell, Cell]]:
-        """Like :func:`memcheck.faults.universe.find_pairs` for the neighbours universe."""
+        """Like :func:`memcheck.faults.universe.find_pairs` for the neighbours universe: the first
+        instance (by victim cell, then aggressor cell) of each key, from each band's first pair."""
         width = self.setup.width
-        wanted = np.array(sorted(set(keys)), np.int64)
-        if wanted.size == 0:
-            return {}
-        best = self._first_in_blocks(8 * width * self.cols, self._cell_pairs, wanted)
+        wanted = set(keys)
+        best: dict[int, tuple[int, int]] = {}
+        for k, _, wv, step, ba, bv in self._cell_rows():
+            for i in np.flatnonzero(np.isin(k, list(wanted))).tolist():
+                cand = (wv * width + int(bv[i]), (wv + step) * width + int(ba[i]))
+                key = int(k[i])
+                if key not in best or cand < best[key]:
+                    best[key] = cand
         return {k: (Cell(*divmod(a, width)), Cell(*divmod(v, width))) for k, (v, a) in best.items()}
-
-    def _word_pairs(self, r0: int, r1: int) -> Iterator[tuple[IntArray, IntArray, IntArray]]:
-        nwc = int(self.plan.rs.wpar.shape[0])
-        for dr, dc in WORD_OFFSETS:
-            band = word_band(self.rows, self.cols, dr, dc)
-            r = np.arange(max(r0, band.r0), min(r1, band.r1), dtype=np.int64)
-            c = np.arange(band.c0, band.c1, dtype=np.int64)
-            if r.size == 0 or c.size == 0:
-                continue
-            x = (r[:, None] * self.cols + c[None, :]).reshape(-1)
-            y = x + dr * self.cols + dc
-            rel = np.where(self.walk.pos(x) < self.walk.pos(y), 1, 2)
-            yield (rel * nwc + self._classes_of(x)) * nwc + self._classes_of(y), x, y
 
     def find_word_pairs(self, keys: list[int]) -> dict[int, tuple[int, int]]:
         """Like :func:`memcheck.faults.universe.find_word_pairs` for the neighbours universe."""
-        wanted = np.array(sorted(set(keys)), np.int64)
-        if wanted.size == 0:
-            return {}
-        return self._first_in_blocks(4 * self.cols, self._word_pairs, wanted)
+        wanted = set(keys)
+        best: dict[int, tuple[int, int]] = {}
+        for key, _, x, y in self._word_rows():
+            if key in wanted and (key not in best or (x, y) < best[key]):
+                best[key] = (x, y)
+        return best
 
     def simulate(self, faults: Sequence[FaultInstance]) -> list[FaultResult]:
         return simulate_sparse(self.plan.test, faults, self.setup)
