@@ -22,7 +22,7 @@ _BASE = 200 << 20  # interpreter, numpy, tables
 _PER_WORD_RESOLVE = 128  # up, pos, addresses, parity code, classes (int64), sort scratch (measured)
 _PER_WORD_CLASS = 24  # per word and word class: the running counts of the pair counting
 _NEIGHBOUR_BLOCKS = 400 << 20  # the neighbours universe's blocks (faults/neighbours.py, lattice.py)
-_PER_WORD_WALK = 40  # a walk without closed form: the order's copy, up and pos (int64), building scratch
+_PER_WORD_WALK = 56  # a walk without closed form: up, pos, building scratch, compact memories (measured 42-55)
 _PER_SAMPLE = 4096  # one sampled instance and its simulation
 
 

@@ -89,7 +89,8 @@ class Walk:
 
     def _arrays(self) -> tuple[IntArray, IntArray]:
         if not self._built:
-            up = self.order.up()
+            o = self.order  # a fresh copy builds the walk, so its cache is freed with it
+            up = AddressOrder(o.kind, o.words, o.layout, o.seed).up()
             pos = np.empty(self.order.words, dtype=np.int64)
             pos[up] = np.arange(self.order.words, dtype=np.int64)
             self._built.append((up, pos))
