@@ -17,7 +17,17 @@ from memcheck.faults.counted import CountSource, WholeCounts
 from memcheck.faults.coverage import _resolve_examples, _tally_counted, coverage
 from memcheck.faults.fast import simulate
 from memcheck.faults.fast_stream import Plan
-from memcheck.faults.lattice import STEP_ORDERS, Band, BandCounter, Walk, _closed_counts, _step_first, _streamed_counts
+from memcheck.faults.lattice import (
+    STEP_ORDERS,
+    Band,
+    BandCounter,
+    Walk,
+    _closed_counts,
+    _gray_counts,
+    _step_first,
+    _streamed_counts,
+    gray_separable,
+)
 from memcheck.faults.neighbours import NeighbourCounts
 from memcheck.faults.sampling import class_size, enumerate_class
 from memcheck.faults.universe import CLASSES, Universe
@@ -137,3 +147,20 @@ def test_memory_estimate_refuses_only_walks_built_whole(capsys: pytest.CaptureFi
     err = capsys.readouterr().err
     assert rc == 2
     assert "--max-memory" in err and "lfsr walk" in err and "Traceback" not in err
+
+
+@settings(max_examples=100, deadline=None)
+@given(
+    rows=st.sampled_from([1, 2, 4, 8, 16, 32]),
+    cols=st.sampled_from([1, 2, 4, 8, 16, 32]),
+    dr=st.integers(-1, 1),
+    dc=st.integers(-31, 31),
+)
+def test_gray_bands_split_into_row_and_column_terms(rows: int, cols: int, dr: int, dc: int) -> None:
+    """The separable Gray count (row term XOR column term) equals the pair-by-pair count."""
+    band = Band(dr, dc, max(0, -dr), rows - max(0, dr), max(0, -dc), cols - max(0, dc))
+    if band.size == 0 or band.step(cols) == 0:
+        return
+    walk = Walk(AddressOrder("gray", rows * cols, (rows, cols)))
+    assert gray_separable(walk.order, cols)
+    assert _gray_counts(band, cols) == _streamed_counts(walk, band, cols, block_pairs=5)

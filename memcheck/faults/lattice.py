@@ -170,6 +170,60 @@ def _streamed_counts(walk: Walk, band: Band, cols: int, block_pairs: int) -> Ban
     return out
 
 
+def gray_separable(order: AddressOrder, cols: int) -> bool:
+    """Gray walk on a power-of-two memory with power-of-two mux columns: the position of ``(r, c)``
+    is ``ginv(r) * cols + (ginv(c) XOR (cols - 1 if r has odd parity else 0))`` (``ginv`` the inverse
+    Gray code: bit k of it is the parity of the bits k and above), so which of two words comes first
+    is a row term XOR a column term."""
+    n = order.words
+    return order.kind == "gray" and n & (n - 1) == 0 and cols & (cols - 1) == 0
+
+
+def _ginv(x: IntArray) -> IntArray:
+    out = x.copy()
+    shift = 1
+    while shift < 64:
+        out ^= out >> shift
+        shift <<= 1
+    return out
+
+
+def _split(idx: IntArray, flag: npt.NDArray[np.bool_]) -> tuple[IntArray, IntArray]:
+    """``(count[parity, flag], smallest[parity, flag])`` of indices ``idx`` (-1: none)."""
+    count = np.zeros((2, 2), np.int64)
+    smallest = np.full((2, 2), -1, np.int64)
+    for x in (0, 1):
+        for f in (0, 1):
+            sel = np.flatnonzero(((idx & 1) == x) & (flag == bool(f)))
+            count[x, f] = sel.size
+            if sel.size:
+                smallest[x, f] = idx[sel[0]]
+    return count, smallest
+
+
+def _gray_counts(band: Band, cols: int) -> BandCount:
+    """A band under a separable Gray walk (:func:`gray_separable`): O(rows + cols)."""
+    r = np.arange(band.r0, band.r1, dtype=np.int64)
+    c = np.arange(band.c0, band.c1, dtype=np.int64)
+    if band.dr != 0:  # the rows differ: the row term decides
+        row_flag, col_flag = _ginv(r + band.dr) < _ginv(r), np.zeros(c.size, bool)
+    else:  # same row: the column term, reversed on rows of odd parity
+        row_flag, col_flag = (_ginv(r) & 1) == 1, _ginv(c + band.dc) < _ginv(c)
+    rc, rmin = _split(r, row_flag)
+    cc, cmin = _split(c, col_flag)
+    out = _empty()
+    for pq in range(4):
+        x, y = pq >> 1, pq & 1
+        for a in (0, 1):
+            for b in (0, 1):
+                out.count[a ^ b, pq] += rc[x, a] * cc[y, b]
+                if rc[x, a] and cc[y, b]:
+                    base = int(rmin[x, a] * cols + cmin[y, b])
+                    have = int(out.base[a ^ b, pq])
+                    out.base[a ^ b, pq] = base if have < 0 else min(have, base)
+    return out
+
+
 @dataclass(eq=False)
 class BandCounter:
     """:meth:`counts` of bands, with a cache shared by a band and its reverse."""
@@ -195,8 +249,12 @@ class BandCounter:
                 )
         elif band.size == 0:
             out = _empty()
+        elif band.step(self.cols) == 0:  # one word: neither comes first
+            out = _closed_counts(band, False, self.cols)
         elif self.walk.order.kind in STEP_ORDERS:
             out = _closed_counts(band, _step_first(self.walk.order, band, self.cols), self.cols)
+        elif gray_separable(self.walk.order, self.cols):
+            out = _gray_counts(band, self.cols)
         else:
             out = _streamed_counts(self.walk, band, self.cols, self.block_pairs)
         self._cache[band] = out
