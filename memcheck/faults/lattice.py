@@ -10,12 +10,13 @@ bit. What the fast engine needs from such a pair is
 * the two words' classes (how each background flips them), and a word's class depends only on the
   parity of its row and of its mux column (:func:`memcheck.march.backgrounds.parity`).
 
-So :func:`band_counts` counts the pairs of a band by (shifted word first?, row parity, column
-parity of the base word). For walks where the step alone decides which word comes first
-(``linear``, ``col-fast``, ``row-fast``) that is a product of parity counts, O(1) whatever the
-size; for the other walks the band is streamed in blocks of rows with numpy (bounded memory),
-positions from the walk's closed form, or from the walk built once (``lfsr``, ``gray`` on a
-word count that is not a power of two). A band and its reverse (every pair swapped) are the same
+So :meth:`BandCounter.counts` counts the pairs of a band by (shifted word first?, row parity,
+column parity of the base word), with the first such pair. For walks where the step alone decides
+which word comes first (``linear``, ``col-fast``, ``row-fast``) that is a product of parity counts,
+O(1) whatever the size; a Gray walk on a power-of-two layout splits into a row term XOR a column
+term (:func:`gray_separable`, O(rows + cols)); for the other walks the band is streamed in blocks of
+rows with numpy (bounded memory), positions from the walk's closed form, or from the walk built
+once (``lfsr``, ``gray`` on a word count that is not a power of two). A band and its reverse (every pair swapped) are the same
 pairs, so each is counted once.
 """
 
