@@ -16,8 +16,8 @@ which word comes first (``linear``, ``col-fast``, ``row-fast``) that is a produc
 O(1) whatever the size; a Gray walk on a power-of-two layout splits into a row term XOR a column
 term (:func:`gray_separable`, O(rows + cols)); for the other walks the band is streamed in blocks of
 rows with numpy (bounded memory), positions from the walk's closed form, or from the walk built
-once (``lfsr``, ``gray`` on a word count that is not a power of two). A band and its reverse (every pair swapped) are the same
-pairs, so each is counted once.
+once (``lfsr``, ``gray`` on a word count that is not a power of two). A band and its reverse
+(every pair swapped) are the same pairs, so each is counted once.
 """
 
 from __future__ import annotations
