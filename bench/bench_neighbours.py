@@ -4,7 +4,7 @@ the whole-memory tables of memcheck/faults/universe.py ("before"). Target: <= 60
 
 Jobs (every fault class, March C-, seed 1, linear order unless named):
   2 Mword x 64 (layout 4096x512, standard backgrounds), 128 Mword x 1 (16384x8192, solid),
-  1 Mword x 128 (2048x512, standard backgrounds), 128 Mword x 1 in gray order (streamed bands).
+  1 Mword x 128 (2048x512, standard backgrounds), 128 Mword x 1 in gray order (not step-decided).
 
 Each job runs in its own process; the result lines must be equal before and after (printed "same"
 when they are). The earlier way takes minutes on the big jobs: ``--before-timeout S`` bounds it
