@@ -23,6 +23,7 @@ from memcheck.faults.lattice import (
     BandCounter,
     Walk,
     _closed_counts,
+    _complement_counts,
     _gray_counts,
     _step_first,
     _streamed_counts,
@@ -110,13 +111,16 @@ def test_counts_equal_instance_by_instance_simulation(setup: Arrangement, data: 
     order=st.sampled_from(ORDERS),
 )
 def test_step_decided_bands_equal_streamed_bands(rows: int, cols: int, dr: int, dc: int, order: str) -> None:
-    """The O(1) count of a band (step-decided walks) equals the pair-by-pair count, and a band's
-    reverse, derived from the band, equals its own pair-by-pair count (every walk)."""
+    """The O(1) count of a band (step-decided walks) and the split count of the complement walk equal
+    the pair-by-pair count, and a band's reverse, derived from the band, equals its own pair-by-pair
+    count (every walk)."""
     band = Band(dr, dc, max(0, -dr), rows - max(0, dr), max(0, -dc), cols - max(0, dc))
     if band.size == 0 or (dr, dc) == (0, 0):
         return
     walk = Walk(AddressOrder(order, rows * cols, (rows, cols), seed=rows))
     streamed = _streamed_counts(walk, band, cols, block_pairs=7)
+    if order == "complement":  # step-decided inside each half of the addresses, streamed across
+        assert _complement_counts(walk, band, cols, block_pairs=3) == streamed
     if order in STEP_ORDERS:
         assert _closed_counts(band, _step_first(walk.order, band, cols), cols) == streamed
     counter = BandCounter(walk, cols)

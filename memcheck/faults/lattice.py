@@ -22,7 +22,7 @@ once (``lfsr``, ``gray`` on a word count that is not a power of two). A band and
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 import numpy.typing as npt
@@ -225,6 +225,32 @@ def _gray_counts(band: Band, cols: int) -> BandCount:
     return out
 
 
+def _merged(parts: list[BandCount]) -> BandCount:
+    out = _empty()
+    for p in parts:
+        out.count[:] += p.count
+        keep = (p.base >= 0) & ((out.base < 0) | (p.base < out.base))
+        out.base[keep] = p.base[keep]
+    return out
+
+
+def _complement_counts(walk: Walk, band: Band, cols: int, block_pairs: int) -> BandCount:
+    """A band under the complement walk: positions rise through the lower half of the addresses and
+    fall through the upper half, so rows whose pairs lie in one half are step-decided; only the rows
+    that straddle the middle are streamed."""
+    half = (walk.order.words + 1) // 2
+    step = band.step(cols)
+    lo_end = min(band.r1, max(band.r0, -(-(half - (band.c1 - 1) - max(0, step)) // cols)))
+    hi_start = max(lo_end, min(band.r1, -(-(half - band.c0 - min(0, step)) // cols)))
+    parts = [
+        _closed_counts(replace(band, r1=lo_end), step < 0, cols),
+        _closed_counts(replace(band, r0=hi_start), step > 0, cols),
+    ]
+    if hi_start > lo_end:
+        parts.append(_streamed_counts(walk, replace(band, r0=lo_end, r1=hi_start), cols, block_pairs))
+    return _merged(parts)
+
+
 @dataclass(eq=False)
 class BandCounter:
     """:meth:`counts` of bands, with a cache shared by a band and its reverse."""
@@ -256,6 +282,8 @@ class BandCounter:
             out = _closed_counts(band, _step_first(self.walk.order, band, self.cols), self.cols)
         elif gray_separable(self.walk.order, self.cols):
             out = _gray_counts(band, self.cols)
+        elif self.walk.order.kind == "complement":
+            out = _complement_counts(self.walk, band, self.cols, self.block_pairs)
         else:
             out = _streamed_counts(self.walk, band, self.cols, self.block_pairs)
         self._cache[band] = out
