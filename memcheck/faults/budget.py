@@ -21,7 +21,8 @@ DEFAULT_MAX_MEMORY = 4 << 30
 _BASE = 200 << 20  # interpreter, numpy, tables
 _PER_WORD_RESOLVE = 128  # up, pos, addresses, parity code, classes (int64), sort scratch (measured)
 _PER_WORD_CLASS = 24  # per word and word class: the running counts of the pair counting
-_PER_CELL_NEIGHBOUR = 48  # the neighbour pair table, counted in row blocks
+_NEIGHBOUR_BLOCKS = 400 << 20  # the neighbours universe's blocks (faults/neighbours.py, lattice.py)
+_PER_WORD_WALK = 56  # a walk without closed form: up, pos, building scratch, compact memories (measured 42-55)
 _PER_SAMPLE = 4096  # one sampled instance and its simulation
 
 
@@ -57,9 +58,19 @@ def estimate_coverage(setup: Arrangement, universe: Universe, classes: tuple[str
         total += words * wclasses * _PER_WORD_CLASS
         parts.append(f"pair counting over up to {wclasses} word class(es)")
     else:
-        total += min(setup.cells, 1 << 22) * _PER_CELL_NEIGHBOUR
-        parts.append("neighbour pair tables in blocks of 2^22 cells")
+        total, parts = _neighbours(setup)
     return Estimate(total, "; ".join(parts))
+
+
+def _neighbours(setup: Arrangement) -> tuple[int, list[str]]:
+    """The neighbours universe is counted from the layout (faults/neighbours.py): blocks of bounded
+    size, plus the walk built once for orders without a closed form."""
+    total = _BASE + _NEIGHBOUR_BLOCKS
+    parts = ["neighbour pairs counted from the layout in blocks of 2^21"]
+    if not closed_form(AddressOrder(setup.order, setup.words, setup.layout, setup.seed)):
+        total += setup.words * _PER_WORD_WALK
+        parts.append(f"{setup.words:,} words x {_PER_WORD_WALK} B for the {setup.order} walk")
+    return total, parts
 
 
 def check_budget(estimate: Estimate, limit: int, what: str, option: str) -> None:

@@ -19,16 +19,14 @@ import numpy as np
 import numpy.typing as npt
 
 from memcheck.errors import FaultModelError
+from memcheck.faults.counted import CountSource, count_source
 from memcheck.faults.fast import (
     AF_RELATIONS,
     AF_VARIANTS,
     CELL_RELATIONS,
-    Plan,
     combine_bits,
     run_af_classes,
     run_cell_classes,
-    simulate,
-    sof_detection,
 )
 from memcheck.faults.figures import interval, percent
 from memcheck.faults.figures import wilson_interval as wilson_interval
@@ -51,18 +49,10 @@ from memcheck.faults.universe import (
     SCOPES,
     TWO_CELL_CLASSES,
     Universe,
-    cell_table,
-    find_cells,
-    find_pairs,
-    find_word_pairs,
-    pair_table_all,
-    pair_table_neighbours,
     parse_classes,
     parse_universe,
     require_layout,
-    sof_contexts,
     word_pair_key,
-    word_pair_table,
 )
 from memcheck.march.backgrounds import resolve_backgrounds
 from memcheck.march.library import resolve_test
@@ -249,12 +239,12 @@ def _tally_table(
                 tally.add((cls_of[m], names[m], label), v, int(counts[sel].sum()), locate(first, m) if v else None)
 
 
-def _single_cell(plan: Plan, classes: Sequence[str], tally: _Tally) -> None:
+def _single_cell(src: CountSource, classes: Sequence[str], tally: _Tally) -> None:
     models = [m for c in classes for m in models_of(c)]
     if not models:
         return
-    ct = cell_table(plan.rs)
-    run = run_cell_classes(plan, "single", np.zeros_like(ct.code), ct.code, models)
+    ct = src.cell_table()
+    run = run_cell_classes(src.plan, "single", np.zeros_like(ct.code), ct.code, models)
     _tally_table(
         tally,
         [m.cls for m in models],
@@ -266,11 +256,12 @@ def _single_cell(plan: Plan, classes: Sequence[str], tally: _Tally) -> None:
     )
 
 
-def _two_cell(plan: Plan, classes: Sequence[str], kind: str, tally: _Tally) -> None:
+def _two_cell(src: CountSource, classes: Sequence[str], tally: _Tally) -> None:
     models = [m for c in classes for m in models_of(c)]
+    plan = src.plan
     if not models or plan.setup.cells < 2:
         return
-    pt = pair_table_all(plan.rs) if kind == "all" else pair_table_neighbours(plan.rs)
+    pt = src.pair_table()
     ncode = 1 << plan.rs.nbg
     for ri in (1, 2, 3):
         sel = np.flatnonzero(pt.relation == ri)
@@ -290,12 +281,12 @@ def _two_cell(plan: Plan, classes: Sequence[str], kind: str, tally: _Tally) -> N
         _tally_table(tally, [m.cls for m in models], [m.name for m in models], scope, verdicts, pt.count[sel], locate)
 
 
-def _stuck_open(plan: Plan, tally: _Tally) -> None:
-    width = plan.setup.width
-    reps, counts = sof_contexts(plan.rs)
+def _stuck_open(src: CountSource, tally: _Tally) -> None:
+    width = src.plan.setup.width
+    reps, counts = src.sof_contexts()
     words = np.repeat(reps, width)
     bits = np.tile(np.arange(width, dtype=np.int64), reps.size)
-    d0, d1 = sof_detection(plan, words, bits)
+    d0, d1 = src.sof_detection(words, bits)
     verdict = np.where(d0 & d1, 0, np.where(d0 | d1, 1, 2))
     weight = np.repeat(counts, width)
     for v in (0, 1, 2):
@@ -314,12 +305,12 @@ def af_label(kind: str, wired: str | None) -> str:
     return kind + (f" ({wired})" if wired else "")
 
 
-def _decoder(plan: Plan, kind: str, tally: _Tally) -> None:
-    rs = plan.rs
+def _decoder(src: CountSource, tally: _Tally) -> None:
+    plan, rs = src.plan, src.plan.rs
     codes = rs.class_codes()
-    nwc, width = codes.shape
-    per_class = np.bincount(rs.wclass, minlength=nwc)
-    wt = word_pair_table(rs, kind)
+    width = codes.shape[1]
+    per_class = src.words_per_class()
+    wt = src.word_pair_table()
     groups = [
         (0, list(AF_VARIANTS[:1]), np.flatnonzero(per_class).astype(np.int64), None, per_class[per_class > 0]),
     ]
@@ -355,13 +346,12 @@ def _decoder(plan: Plan, kind: str, tally: _Tally) -> None:
         _tally_table(tally, ["AF"] * len(variants), names, None, verdicts, counts, locate)
 
 
-def _resolve_examples(plan: Plan, kind: str, tally: _Tally) -> dict[tuple[str, str, str], FaultResult]:
+def _resolve_examples(src: CountSource, tally: _Tally) -> dict[tuple[str, str, str], FaultResult]:
     """Turn locators into instances (one batch search per kind) and simulate them for witnesses."""
-    rs = plan.rs
     loc = {g: lc for g, (_, lc) in tally.locators.items()}
-    cells = find_cells(rs, [loc_[2] for loc_ in loc.values() if loc_[0] == "cell"])
-    pairs = find_pairs(rs, kind, [loc_[2] for loc_ in loc.values() if loc_[0] == "pair"])
-    wpairs = find_word_pairs(rs, kind, [loc_[2] for loc_ in loc.values() if loc_[0] == "wordpair"])
+    cells = src.find_cells([loc_[2] for loc_ in loc.values() if loc_[0] == "cell"])
+    pairs = src.find_pairs([loc_[2] for loc_ in loc.values() if loc_[0] == "pair"])
+    wpairs = src.find_word_pairs([loc_[2] for loc_ in loc.values() if loc_[0] == "wordpair"])
     instances: dict[tuple[str, str, str], FaultInstance] = {}
     for g, loc_ in loc.items():
         if loc_[0] == "cell" and loc_[2] in cells:
@@ -372,12 +362,12 @@ def _resolve_examples(plan: Plan, kind: str, tally: _Tally) -> dict[tuple[str, s
         elif loc_[0] == "sof":
             instances[g] = StuckOpenFault(Cell(loc_[1], loc_[2]))
         elif loc_[0] == "word":
-            instances[g] = DecoderFault(loc_[1][0], int(np.flatnonzero(rs.wclass == loc_[2])[0]), None, loc_[1][1])
+            instances[g] = DecoderFault(loc_[1][0], src.first_word_of_class(loc_[2]), None, loc_[1][1])
         elif loc_[0] == "wordpair" and loc_[2] in wpairs:
             x, y = wpairs[loc_[2]]
             instances[g] = DecoderFault(loc_[1][0], x, y, loc_[1][1])
     keys = list(instances)
-    results = simulate(plan.test, [instances[k] for k in keys], plan.setup, plan)
+    results = src.simulate([instances[k] for k in keys])
     return dict(zip(keys, results, strict=True))
 
 
@@ -414,17 +404,15 @@ def _tally_sample(t: MarchTest, setup: Arrangement, cls_list: Sequence[str], uni
     return tally
 
 
-def _tally_counted(plan: Plan, cls_list: Sequence[str], kind: str) -> _Tally:
+def _tally_counted(src: CountSource, cls_list: Sequence[str]) -> _Tally:
     """Count whole classes by relation and signature (``all`` or ``neighbours`` universes)."""
-    if kind == "neighbours":
-        require_layout(plan.setup)
     tally = _Tally()
-    _single_cell(plan, [c for c in cls_list if models_of(c) and not models_of(c)[0].two_cell], tally)
-    _two_cell(plan, [c for c in cls_list if c in TWO_CELL_CLASSES], kind, tally)
+    _single_cell(src, [c for c in cls_list if models_of(c) and not models_of(c)[0].two_cell], tally)
+    _two_cell(src, [c for c in cls_list if c in TWO_CELL_CLASSES], tally)
     if "SOF" in cls_list:
-        _stuck_open(plan, tally)
-    if "AF" in cls_list and plan.setup.words >= 1:
-        _decoder(plan, kind, tally)
+        _stuck_open(src, tally)
+    if "AF" in cls_list and src.plan.setup.words >= 1:
+        _decoder(src, tally)
     return tally
 
 
@@ -470,9 +458,11 @@ def coverage(
         tally = _tally_sample(t, setup, cls_list, uni)
         examples = tally.results
     else:
-        plan = Plan.build(t, setup)
-        tally = _tally_counted(plan, cls_list, uni.kind)
-        examples = _resolve_examples(plan, uni.kind, tally)
+        if uni.kind == "neighbours":
+            require_layout(setup)
+        src = count_source(t, setup, uni.kind)
+        tally = _tally_counted(src, cls_list)
+        examples = _resolve_examples(src, tally)
     class_rows: list[ClassCoverage] = []
     escape_rows: list[EscapeGroup] = []
     for cls in cls_list:
