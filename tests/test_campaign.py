@@ -23,7 +23,7 @@ from memcheck.bist.microcode import plan_engine
 from memcheck.cli import main
 from memcheck.faults.geometry import Arrangement
 from memcheck.faults.sampling import class_size
-from memcheck.faults.universe import STATIC_CLASSES as CLASSES
+from memcheck.faults.universe import CLASSES
 from memcheck.march.library import algorithm_names
 
 pytestmark = pytest.mark.skipif(shutil.which("iverilog") is None, reason="needs Icarus Verilog")
