@@ -64,7 +64,8 @@ def bist_faulty_memory(
     path = write_text_atomic(Path(output or f"{module}.v"), text)
     click.echo(
         f"{module}: {n} x {width}, {copies} faulty copies, READ_LATENCY {read_latency}, retention {retention} "
-        f"idle cycles; wrote {path}. Run with +faults=TABLE.hex (fault table format: docs/bist.md)."
+        f"idle cycles; wrote {path}. Run with +faults=TABLE.hex (fault table format: docs/bist.md); drive split "
+        "high on the first operation of each March element (dynamic faults pair operations within one element)."
     )
 
 
