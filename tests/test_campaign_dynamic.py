@@ -140,3 +140,30 @@ def test_rtl_agrees_on_larger_dynamic_samples(latency: int, test: str, words: in
     report = run_campaign(spec, workers=2)
     assert report.disagreements == ()
     assert sum(c.faults for c in report.classes) >= 7 * 64
+
+
+def test_dynamic_fail_logs_from_rtl_diagnose_back_to_the_instance(tmp_path: Path) -> None:
+    # Each dynamic instance that failed on RTL (READ_LATENCY 0) gives a first-fail log equal to the reference
+    # engine's first failing read from one of its power-up states, and diagnosis (among the instance's own class, to
+    # keep the test short) ranks the instance first.
+    from memcheck.bist.campaign.faillog import write_campaign_log
+    from memcheck.diagnose import diagnose, fail_log
+    from memcheck.faults import Arrangement
+    from memcheck.faults.replay import power_up_states
+    from memcheck.march.library import resolve_test
+
+    spec = CampaignSpec("March RAW", 8, 2, classes="dRDF,dCFds,dCFir", universe="sample:3", seed=6, read_latency=0)
+    report = run_campaign(spec, workers=1)
+    assert report.agree
+    test, setup = resolve_test("March RAW"), Arrangement(8, 2, seed=6)
+    checked = 0
+    for k, o in enumerate(report.outcomes):
+        _, _, rows = write_campaign_log(report, tmp_path / f"{k}.csv", "March RAW", k)
+        if not rows:
+            continue
+        states = power_up_states(len(o.fault.power_up_labels()))
+        assert any(fail_log(test, o.fault, setup, s)[:1] == rows for s in states)
+        found = diagnose(test, setup, rows, first_fail=True, classes=(o.cls,))
+        assert found.rank_of(o.fault) == 1, o.fault.describe()
+        checked += 1
+    assert checked == 9
