@@ -130,8 +130,8 @@ def test_latency_out_of_range_is_refused() -> None:
 
 
 @pytest.mark.slow
-@pytest.mark.parametrize("latency", [0, 1, 3])
-@pytest.mark.parametrize("test", ["March RAW", "March AB", "March C-"])
+@pytest.mark.parametrize("latency", [0, 3])
+@pytest.mark.parametrize("test", ["March RAW", "March AB"])
 @pytest.mark.parametrize(("words", "width", "order"), [(64, 1, "linear"), (32, 8, "lfsr")])
 def test_rtl_agrees_on_larger_dynamic_samples(latency: int, test: str, words: int, width: int, order: str) -> None:
     spec = CampaignSpec(
