@@ -120,6 +120,7 @@ def _declarations() -> list[str]:
         "    // the last operation on the victim's / aggressor's word: state before, write?, value written",
         "    reg [COPIES-1:0] PVs, PVw, PVd, PAs, PAw, PAd, vb, ab;",
         "    reg last_en, chain;  // chain: this operation follows the previous one back to back",
+        "    reg dyn_any;  // some copy has a dynamic fault (the rest of the dynamic logic is skipped otherwise)",
         "    reg [AW-1:0] last_addr;",
         "    reg [COPIES-1:0] hv, ha, dv, da, gv, v1, v2, a1, m0, m1, ret, xo, yo, rhit;",
         "    reg [COPIES-1:0] hit_p [0:3];",
@@ -169,6 +170,7 @@ def _init() -> list[str]:
         "        V = settle(A, V);",
         "        PVs = {COPIES{1'b0}}; PVw = PVs; PVd = PVs; PAs = PVs; PAw = PVs; PAd = PVs;",
         "        last_en = 1'b0; last_addr = {AW{1'b0}}; chain = 1'b0;",
+        "        dyn_any = |(p0_vd | p0_ad | p1_vd | p1_ad);",
         "        for (i = 0; i < 4; i = i + 1) begin",
         "            hit_p[i] = {COPIES{1'b0}}; ret_p[i] = {COPIES{1'b0}}; good_p[i] = {W{1'b0}};",
         "        end",
@@ -190,10 +192,12 @@ def _functions() -> list[str]:
         return f"p{s}_valid & (p{s}_any | (p{s}_vs & ~(v ^ p{s}_vst) & {ok(s, 'a')}))"
 
     def pre_ok(s: int, who: str) -> str:  # a dynamic part (who: V or A) follows its first operation
-        return (
-            f"(~p{s}_{who.lower()}d | ({{COPIES{{chain}}}} & ~(P{who}s ^ p{s}_ps) & ~(P{who}w ^ p{s}_pw)"
-            f" & (~p{s}_pw | ~(P{who}d ^ p{s}_pd))))"
-        )
+        part = f"p{s}_{who.lower()}d"
+        same = f"~(P{who}s ^ p{s}_ps) & ~(P{who}w ^ p{s}_pw) & (~p{s}_pw | ~(P{who}d ^ p{s}_pd))"
+        return f"~{part} | ({same})"
+
+    def dyn(name: str, args: str) -> list[str]:  # AND in the dynamic condition (only when a copy has one)
+        return [f"            if (dyn_any) {name} = {name} & pre_ok({args});"]
 
     return [
         "    // state coupling and stuck-at: the victim once the cells hold a and v (FP copies only)",
@@ -225,17 +229,20 @@ def _functions() -> list[str]:
         "        input s;",
         "        begin",
         "            if (s) vw_match = p1_valid & (p1_any | (p1_vw & ~(V ^ p1_vst) & ~(dv ^ p1_wv) & "
-        + f"{ok(1, 'A')} & {pre_ok(1, 'V')}));",
+        + ok(1, "A")
+        + "));",
         "            else vw_match = p0_valid & (p0_any | (p0_vw & ~(V ^ p0_vst) & ~(dv ^ p0_wv) & "
-        + f"{ok(0, 'A')} & {pre_ok(0, 'V')}));",
+        + ok(0, "A")
+        + "));",
+        *dyn("vw_match", "s, 1'b0"),
         "        end",
         "    endfunction",
         "    function [COPIES-1:0] vr_match;",
         "        input s;",
         "        begin",
-        f"            if (s) vr_match = p1_valid & (p1_any | (p1_vr & ~(V ^ p1_vst) & {ok(1, 'A')}"
-        f" & {pre_ok(1, 'V')}));",
-        f"            else vr_match = p0_valid & (p0_any | (p0_vr & ~(V ^ p0_vst) & {ok(0, 'A')} & {pre_ok(0, 'V')}));",
+        "            if (s) vr_match = p1_valid & (p1_any | (p1_vr & ~(V ^ p1_vst) & " + ok(1, "A") + "));",
+        "            else vr_match = p0_valid & (p0_any | (p0_vr & ~(V ^ p0_vst) & " + ok(0, "A") + "));",
+        *dyn("vr_match", "s, 1'b0"),
         "        end",
         "    endfunction",
         "    function [COPIES-1:0] agg_match;  // an operation on the aggressor disturbs the victim (value v)",
@@ -243,9 +250,20 @@ def _functions() -> list[str]:
         "        input [COPIES-1:0] v;",
         "        begin",
         "            if (s) agg_match = p1_valid & (is_write ? p1_aw & ~(da ^ p1_awv) : p1_ar) & ~(A ^ p1_ast)"
-        f" & p1_vs & ~(v ^ p1_vst) & {pre_ok(1, 'A')};",
+        " & p1_vs & ~(v ^ p1_vst);",
         "            else agg_match = p0_valid & (is_write ? p0_aw & ~(da ^ p0_awv) : p0_ar) & ~(A ^ p0_ast)"
-        f" & p0_vs & ~(v ^ p0_vst) & {pre_ok(0, 'A')};",
+        " & p0_vs & ~(v ^ p0_vst);",
+        *dyn("agg_match", "s, 1'b1"),
+        "        end",
+        "    endfunction",
+        "    // dynamic parts of slot s on the victim (use_a 0) or aggressor (1): this operation follows back to",
+        "    // back on the part's first operation (copies without a dynamic part: all ones)",
+        "    function [COPIES-1:0] pre_ok;",
+        "        input s, use_a;",
+        "        begin",
+        "            if (!chain) pre_ok = ~(s ? (use_a ? p1_ad : p1_vd) : (use_a ? p0_ad : p0_vd));",
+        f"            else if (use_a) pre_ok = s ? ({pre_ok(1, 'A')}) : ({pre_ok(0, 'A')});",
+        f"            else pre_ok = s ? ({pre_ok(1, 'V')}) : ({pre_ok(0, 'V')});",
         "        end",
         "    endfunction",
         "    function [COPIES-1:0] choose;  // slot 0 if it matches, else slot 1, else keep",
@@ -271,8 +289,10 @@ def _write_step() -> list[str]:
         "                yo = yo | (A & ~((hv & (k_wc | k_ec)) | (ha & k_af)));",
         "                V = (k_fp & v2) | (k_af & xo) | (~(k_fp | k_af) & V);",
         "                A = (k_fp & a1) | (k_af & yo) | (~(k_fp | k_af) & A);",
-        "                PVs = (hv & vb) | (~hv & PVs); PVw = hv | PVw; PVd = (hv & dv) | (~hv & PVd);",
-        "                PAs = (ha & ab) | (~ha & PAs); PAw = ha | PAw; PAd = (ha & da) | (~ha & PAd);",
+        "                if (dyn_any) begin",
+        "                    PVs = (hv & vb) | (~hv & PVs); PVw = hv | PVw; PVd = (hv & dv) | (~hv & PVd);",
+        "                    PAs = (ha & ab) | (~ha & PAs); PAw = ha | PAw; PAd = (ha & da) | (~ha & PAd);",
+        "                end",
         "                rhit = {COPIES{1'b0}};",
         "                ret = {COPIES{1'b0}};",
     ]
@@ -294,8 +314,10 @@ def _read_step() -> list[str]:
         "                ret = ret | (ha & k_ns & wired(A, V)) | (ha & k_af & ~k_ns & A);",
         "                V = (k_fp & v2) | (~k_fp & V);",
         "                rhit = hv | (ha & k_af);",
-        "                PVs = (hv & vb) | (~hv & PVs); PVw = ~hv & PVw; PVd = (hv & vb) | (~hv & PVd);",
-        "                PAs = (ha & ab) | (~ha & PAs); PAw = ~ha & PAw; PAd = (ha & ab) | (~ha & PAd);",
+        "                if (dyn_any) begin",
+        "                    PVs = (hv & vb) | (~hv & PVs); PVw = ~hv & PVw; PVd = (hv & vb) | (~hv & PVd);",
+        "                    PAs = (ha & ab) | (~ha & PAs); PAw = ~ha & PAw; PAd = (ha & ab) | (~ha & PAd);",
+        "                end",
     ]
 
 
@@ -305,7 +327,8 @@ def _always() -> list[str]:
         "    // data is there before the next rising edge; otherwise at the rising edge",
         "    wire op_clk = (READ_LATENCY == 0) ? ~clk : clk;",
         "    always @(posedge op_clk) begin",
-        "        hv = vhit[addr]; ha = ahit[addr]; vb = V; ab = A;",
+        "        hv = vhit[addr]; ha = ahit[addr];",
+        "        if (dyn_any) begin vb = V; ab = A; end",
         "        chain = last_en && en === 1'b1 && last_addr == addr && split !== 1'b1;",
         "        last_en = en === 1'b1; last_addr = addr;",
         "        dv = pick(wdata, 1'b0); da = pick(wdata, 1'b1);",
