@@ -93,8 +93,6 @@ def plan_instances(
     """The instances of each class in ``universe`` (samples drawn with the universe's seed)."""
     out = []
     for cls in classes:
-        if cls not in RTL_CLASSES:
-            raise BistError(f"the RTL fault model does not implement class {cls!r} (it has {', '.join(RTL_CLASSES)})")
         if universe.kind == "sample":
             assert universe.size is not None
             found = sample_class(cls, setup, universe.size, universe.seed, universe.base)
