@@ -23,7 +23,7 @@ from memcheck.bist.microcode import plan_engine
 from memcheck.cli import main
 from memcheck.faults.geometry import Arrangement
 from memcheck.faults.sampling import class_size
-from memcheck.faults.universe import STATIC_CLASSES as CLASSES
+from memcheck.faults.universe import CLASSES
 from memcheck.march.library import algorithm_names
 
 pytestmark = pytest.mark.skipif(shutil.which("iverilog") is None, reason="needs Icarus Verilog")
@@ -114,7 +114,7 @@ def test_the_engine_fail_flag_matches_the_harness_for_the_driving_copy(tmp_path:
 
 def test_table_rows_hold_every_field() -> None:
     assert sum(b for _, b in ROW_FIELDS) <= ROW_BITS
-    row = pack_row({"kind": 1, "vword": 5, "p1_r": 1})
+    row = pack_row({"kind": 1, "vword": 5, ROW_FIELDS[-1][0]: 1})
     assert len(row) == ROW_BITS // 4 and int(row, 16) & (1 << (ROW_BITS - sum(b for _, b in ROW_FIELDS)))
 
 

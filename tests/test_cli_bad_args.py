@@ -86,6 +86,7 @@ BAD_ARGS: list[tuple[tuple[str, ...], tuple[str, ...]]] = [
     (("bist", "campaign", "MATS+", "--words", "1048576", "--copies", "1024"), ("--copies 1024", "too large")),
     (("bist", "campaign", "MATS+", "--words", "16", "--workers", "2", "--scheduler", "x:1"), ("do not go together",)),
     (("bist", "faulty-memory", "--words", "16", "--read-latency", "9"), ("READ_LATENCY", "9")),
+    (("bist", "campaign", "MATS+", "--words", "16", "--read-latency", "5"), ("read latency", "5")),
     (("bist", "faulty-memory", "--words", "16", "--module", "module"), ("not a plain Verilog identifier",)),
 ]
 

@@ -23,84 +23,57 @@ Data retention (DRF): a cell loses its value when the memory has been idle (``en
 engine's pause length, so each delay element of the test is exactly one retention loss, as in the
 fault simulator (idle cycles before the first access, i.e. reset, do not count).
 
-Table rows are :data:`ROW_FIELDS` packed most significant first into ``ROW_BITS`` bits (hex).
+Dynamic faults (two operations in a row, :mod:`memcheck.faults.primitives`): each copy keeps the last
+operation on its victim's and aggressor's word (``PV*``, ``PA*``: the state before it, write or read,
+the value written); an operation *follows back to back* (``chain``) when the previous clock cycle
+carried an operation on the same address and the input ``split`` is low. ``split`` marks the first
+operation of a new March element (or background): the fault simulator never pairs operations across
+elements, so a harness drives it from the engine's element and background (unconnected: only
+address and adjacency count). A pause (``en`` low) always breaks a pair.
+
+``READ_LATENCY`` 0 to 4, as the BIST engine: read data appear ``READ_LATENCY`` rising edges after the
+edge that samples the read. With 0 (an asynchronous read) the memory acts on each cycle's operation at
+the falling clock edge, so the data are there before the next rising edge; inputs must be stable by
+then (the engine changes them just after the rising edge).
+
+The fault table's format is :mod:`memcheck.bist.fault_table` (re-exported here).
 """
 
 from __future__ import annotations
 
-from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 
-from memcheck.errors import BistError
-from memcheck.faults.primitives import FaultModel, FaultPrimitive
-
-ROW_BITS = 128
-KIND_NONE, KIND_FP, KIND_SOF, KIND_NC, KIND_NS, KIND_WC, KIND_EC = range(7)
-AF_KIND_CODES = {"no-cell": KIND_NC, "no-cell-shared": KIND_NS, "wrong-cell": KIND_WC, "extra-cell": KIND_EC}
-SLOT_FIELDS = ("valid", "any", "vs", "vr", "vw", "vt", "vst", "wv", "as", "ar", "aw", "ast", "awv", "f", "r")
-ROW_FIELDS: tuple[tuple[str, int], ...] = (
-    ("kind", 4),
-    ("wired_and", 1),
-    ("drive", 1),
-    ("has_a", 1),
-    ("v0", 1),
-    ("a0", 1),
-    ("l0", 1),
-    ("vword", 24),
-    ("vbit", 10),
-    ("aword", 24),
-    ("abit", 10),
-    *((f"p{s}_{n}", 1) for s in (0, 1) for n in SLOT_FIELDS),
+from memcheck.bist.fault_table import (
+    AF_KIND_CODES,
+    KIND_FP,
+    KIND_SOF,
+    ROW_BITS,
+    ROW_FIELDS,
+    SLOT_FIELDS,
+    check_copies,
+    default_copies,
+    model_bits,
+    pack_row,
+    slot_bits,
+    table_text,
 )
-MAX_COPIES = 4096
-MAX_TABLE_CELLS = 1 << 27  # words x copies: the per-word copy masks stay below ~64 MiB in the simulator
+from memcheck.errors import BistError
 
-
-def slot_bits(p: FaultPrimitive) -> dict[str, int]:
-    """One fault primitive as the table's slot flags (see module docstring)."""
-    v, a = p.victim, p.aggressor
-    out = {"valid": 1, "any": int(v.is_any), "f": p.f, "r": p.f if p.r is None else p.r}
-    out.update(vs=int(v.is_state), vr=int(v.op == "r"), vw=int(v.op == "w"), vt=int(v.op == "T"))
-    out.update(vst=v.state or 0, wv=v.value or 0)
-    if a is not None:
-        out.update(**{"as": int(a.is_state)}, ar=int(a.op == "r"), aw=int(a.op == "w"))
-        out.update(ast=a.state or 0, awv=a.value or 0)
-    return out
-
-
-def model_bits(model: FaultModel) -> dict[str, int]:
-    if len(model.primitives) > 2:
-        raise BistError(f"{model.name} has {len(model.primitives)} primitives; the RTL model holds at most two")
-    out: dict[str, int] = {}
-    for s, p in enumerate(model.primitives):
-        out.update({f"p{s}_{k}": v for k, v in slot_bits(p).items()})
-    return out
-
-
-def pack_row(fields: Mapping[str, int]) -> str:
-    """A table row as hex (fields not given are 0)."""
-    value = 0
-    for name, bits in ROW_FIELDS:
-        x = int(fields.get(name, 0))
-        if not 0 <= x < 1 << bits:
-            raise BistError(f"fault table field {name}={x} does not fit in {bits} bits")
-        value = value << bits | x
-    used = sum(b for _, b in ROW_FIELDS)
-    return f"{value << (ROW_BITS - used):0{ROW_BITS // 4}x}"
-
-
-def check_copies(words: int, copies: int) -> None:
-    if not 1 <= copies <= MAX_COPIES or words * copies > MAX_TABLE_CELLS:
-        raise BistError(
-            f"--copies {copies} is too large for a {words}-word memory: use 1 to "
-            f"{min(MAX_COPIES, max(1, MAX_TABLE_CELLS // words))} (the simulator keeps a {copies}-bit mask per word)"
-        )
-
-
-def default_copies(words: int, rows: int) -> int:
-    """Copies per simulation: as many as the rows need, at most 1024 and within the memory budget."""
-    cap = min(1024, max(1, MAX_TABLE_CELLS // (4 * words)))
-    return max(1, min(cap, rows))
+__all__ = [
+    "AF_KIND_CODES",
+    "KIND_FP",
+    "KIND_SOF",
+    "ROW_BITS",
+    "ROW_FIELDS",
+    "MemoryShape",
+    "check_copies",
+    "default_copies",
+    "faulty_memory_verilog",
+    "model_bits",
+    "pack_row",
+    "slot_bits",
+    "table_text",
+]
 
 
 @dataclass(frozen=True)
@@ -144,6 +117,11 @@ def _declarations() -> list[str]:
         "    reg [COPIES-1:0] k_fp, k_sof, k_nc, k_ns, k_wc, k_ec, k_af, wired_and, drive;",
         f"    reg [COPIES-1:0] {slot_masks};",
         "    reg [COPIES-1:0] V, A, L;          // victim cell, aggressor cell, latch / floating bit, per copy",
+        "    // the last operation on the victim's / aggressor's word: state before, write?, value written",
+        "    reg [COPIES-1:0] PVs, PVw, PVd, PAs, PAw, PAd, vb, ab;",
+        "    reg last_en, chain;  // chain: this operation follows the previous one back to back",
+        "    reg dyn_any;  // some copy has a dynamic fault (the rest of the dynamic logic is skipped otherwise)",
+        "    reg [AW-1:0] last_addr;",
         "    reg [COPIES-1:0] hv, ha, dv, da, gv, v1, v2, a1, m0, m1, ret, xo, yo, rhit;",
         "    reg [COPIES-1:0] hit_p [0:3];",
         "    reg [COPIES-1:0] ret_p [0:3];",
@@ -190,6 +168,9 @@ def _init() -> list[str]:
         "            end",
         "        end",
         "        V = settle(A, V);",
+        "        PVs = {COPIES{1'b0}}; PVw = PVs; PVd = PVs; PAs = PVs; PAw = PVs; PAd = PVs;",
+        "        last_en = 1'b0; last_addr = {AW{1'b0}}; chain = 1'b0;",
+        "        dyn_any = |(p0_vd | p0_ad | p1_vd | p1_ad);",
         "        for (i = 0; i < 4; i = i + 1) begin",
         "            hit_p[i] = {COPIES{1'b0}}; ret_p[i] = {COPIES{1'b0}}; good_p[i] = {W{1'b0}};",
         "        end",
@@ -209,6 +190,14 @@ def _functions() -> list[str]:
 
     def settle_match(s: int) -> str:
         return f"p{s}_valid & (p{s}_any | (p{s}_vs & ~(v ^ p{s}_vst) & {ok(s, 'a')}))"
+
+    def pre_ok(s: int, who: str) -> str:  # a dynamic part (who: V or A) follows its first operation
+        part = f"p{s}_{who.lower()}d"
+        same = f"~(P{who}s ^ p{s}_ps) & ~(P{who}w ^ p{s}_pw) & (~p{s}_pw | ~(P{who}d ^ p{s}_pd))"
+        return f"~{part} | ({same})"
+
+    def dyn(name: str, args: str) -> list[str]:  # AND in the dynamic condition (only when a copy has one)
+        return [f"            if (dyn_any) {name} = {name} & pre_ok({args});"]
 
     return [
         "    // state coupling and stuck-at: the victim once the cells hold a and v (FP copies only)",
@@ -245,6 +234,7 @@ def _functions() -> list[str]:
         "            else vw_match = p0_valid & (p0_any | (p0_vw & ~(V ^ p0_vst) & ~(dv ^ p0_wv) & "
         + ok(0, "A")
         + "));",
+        *dyn("vw_match", "s, 1'b0"),
         "        end",
         "    endfunction",
         "    function [COPIES-1:0] vr_match;",
@@ -252,6 +242,7 @@ def _functions() -> list[str]:
         "        begin",
         "            if (s) vr_match = p1_valid & (p1_any | (p1_vr & ~(V ^ p1_vst) & " + ok(1, "A") + "));",
         "            else vr_match = p0_valid & (p0_any | (p0_vr & ~(V ^ p0_vst) & " + ok(0, "A") + "));",
+        *dyn("vr_match", "s, 1'b0"),
         "        end",
         "    endfunction",
         "    function [COPIES-1:0] agg_match;  // an operation on the aggressor disturbs the victim (value v)",
@@ -262,6 +253,17 @@ def _functions() -> list[str]:
         " & p1_vs & ~(v ^ p1_vst);",
         "            else agg_match = p0_valid & (is_write ? p0_aw & ~(da ^ p0_awv) : p0_ar) & ~(A ^ p0_ast)"
         " & p0_vs & ~(v ^ p0_vst);",
+        *dyn("agg_match", "s, 1'b1"),
+        "        end",
+        "    endfunction",
+        "    // dynamic parts of slot s on the victim (use_a 0) or aggressor (1): this operation follows back to",
+        "    // back on the part's first operation (copies without a dynamic part: all ones)",
+        "    function [COPIES-1:0] pre_ok;",
+        "        input s, use_a;",
+        "        begin",
+        "            if (!chain) pre_ok = ~(s ? (use_a ? p1_ad : p1_vd) : (use_a ? p0_ad : p0_vd));",
+        f"            else if (use_a) pre_ok = s ? ({pre_ok(1, 'A')}) : ({pre_ok(0, 'A')});",
+        f"            else pre_ok = s ? ({pre_ok(1, 'V')}) : ({pre_ok(0, 'V')});",
         "        end",
         "    endfunction",
         "    function [COPIES-1:0] choose;  // slot 0 if it matches, else slot 1, else keep",
@@ -287,6 +289,10 @@ def _write_step() -> list[str]:
         "                yo = yo | (A & ~((hv & (k_wc | k_ec)) | (ha & k_af)));",
         "                V = (k_fp & v2) | (k_af & xo) | (~(k_fp | k_af) & V);",
         "                A = (k_fp & a1) | (k_af & yo) | (~(k_fp | k_af) & A);",
+        "                if (dyn_any) begin",
+        "                    PVs = (hv & vb) | (~hv & PVs); PVw = hv | PVw; PVd = (hv & dv) | (~hv & PVd);",
+        "                    PAs = (ha & ab) | (~ha & PAs); PAw = ha | PAw; PAd = (ha & da) | (~ha & PAd);",
+        "                end",
         "                rhit = {COPIES{1'b0}};",
         "                ret = {COPIES{1'b0}};",
     ]
@@ -308,13 +314,23 @@ def _read_step() -> list[str]:
         "                ret = ret | (ha & k_ns & wired(A, V)) | (ha & k_af & ~k_ns & A);",
         "                V = (k_fp & v2) | (~k_fp & V);",
         "                rhit = hv | (ha & k_af);",
+        "                if (dyn_any) begin",
+        "                    PVs = (hv & vb) | (~hv & PVs); PVw = ~hv & PVw; PVd = (hv & vb) | (~hv & PVd);",
+        "                    PAs = (ha & ab) | (~ha & PAs); PAw = ~ha & PAw; PAd = (ha & ab) | (~ha & PAd);",
+        "                end",
     ]
 
 
 def _always() -> list[str]:
     return [
-        "    always @(posedge clk) begin",
+        "    // READ_LATENCY 0 (asynchronous read): the operation takes effect at the falling edge, so its read",
+        "    // data is there before the next rising edge; otherwise at the rising edge",
+        "    wire op_clk = (READ_LATENCY == 0) ? ~clk : clk;",
+        "    always @(posedge op_clk) begin",
         "        hv = vhit[addr]; ha = ahit[addr];",
+        "        if (dyn_any) begin vb = V; ab = A; end",
+        "        chain = last_en && en === 1'b1 && last_addr == addr && split !== 1'b1;",
+        "        last_en = en === 1'b1; last_addr = addr;",
         "        dv = pick(wdata, 1'b0); da = pick(wdata, 1'b1);",
         "        rd = mem[addr];",
         "        gv = pick(rd, 1'b0);",
@@ -347,9 +363,10 @@ def _always() -> list[str]:
 def _outputs() -> list[str]:
     return [
         "    // read port: READ_LATENCY cycles after the read; bits of 'drive' copies carry their faults",
-        "    wire [COPIES-1:0] hit_q = hit_p[READ_LATENCY - 1];",
-        "    wire [COPIES-1:0] ret_q = ret_p[READ_LATENCY - 1];",
-        "    wire [W-1:0] good_q = good_p[READ_LATENCY - 1];",
+        "    localparam QS = (READ_LATENCY == 0) ? 0 : READ_LATENCY - 1;",
+        "    wire [COPIES-1:0] hit_q = hit_p[QS];",
+        "    wire [COPIES-1:0] ret_q = ret_p[QS];",
+        "    wire [W-1:0] good_q = good_p[QS];",
         "    genvar gb;",
         "    generate",
         "        for (gb = 0; gb < W; gb = gb + 1) begin : g_bit",
@@ -363,8 +380,8 @@ def _outputs() -> list[str]:
 def faulty_memory_verilog(shape: MemoryShape) -> str:
     """The module text (see module docstring); ``shape`` gives the parameter defaults."""
     check_copies(shape.words, shape.copies)
-    if not 1 <= shape.read_latency <= 4:
-        raise BistError(f"the faulty memory's READ_LATENCY is 1 to 4, not {shape.read_latency}")
+    if not 0 <= shape.read_latency <= 4:
+        raise BistError(f"the faulty memory's READ_LATENCY is 0 to 4, not {shape.read_latency}")
     if shape.retention < 1:
         raise BistError("the retention time (the engine's pause) must be at least one cycle")
     head = [
@@ -378,15 +395,8 @@ def faulty_memory_verilog(shape: MemoryShape) -> str:
         f"    parameter RETENTION = {shape.retention}, parameter ROW_BITS = {ROW_BITS}",
         ") (",
         "    input wire clk, input wire en, input wire we, input wire [AW-1:0] addr, input wire [W-1:0] wdata,",
+        "    input wire split,  // 1: this operation never pairs with the previous one (a new March element)",
         "    output wire [W-1:0] rdata",
         ");",
     ]
     return "\n".join([*head, *_declarations(), *_functions(), *_init(), *_always(), *_outputs(), "endmodule", ""])
-
-
-def table_text(rows: Sequence[str], copies: int) -> str:
-    """A fault table of ``copies`` rows from packed rows (:func:`pack_row`; missing rows: no fault)."""
-    if len(rows) > copies:
-        raise BistError(f"{len(rows)} fault rows do not fit in {copies} copies")
-    lines = list(rows) + [pack_row({})] * (copies - len(rows))
-    return "\n".join(lines) + "\n"

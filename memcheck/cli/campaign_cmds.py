@@ -39,7 +39,7 @@ def _words_layout(words: int | None, layout: str | None) -> tuple[int, tuple[int
 @click.option("--width", type=int, default=1, show_default=True, help="Bits per word.")
 @click.option("--layout", default=None, help="Physical ROWSxCOLS (must give --words words).")
 @click.option("--copies", type=int, default=1, show_default=True, help="Faulty copies side by side (COPIES).")
-@click.option("--read-latency", type=int, default=1, show_default=True, help="READ_LATENCY default (1 to 4).")
+@click.option("--read-latency", type=int, default=1, show_default=True, help="READ_LATENCY default (0 to 4).")
 @click.option("--retention", type=int, default=100, show_default=True, help="Idle cycles that make a DRF cell decay.")
 @click.option("--module", default="faulty_sram", show_default=True, help="Verilog module name.")
 @click.option("-o", "--output", type=click.Path(dir_okay=False), default=None, help="Output file (default MODULE.v).")
@@ -64,7 +64,8 @@ def bist_faulty_memory(
     path = write_text_atomic(Path(output or f"{module}.v"), text)
     click.echo(
         f"{module}: {n} x {width}, {copies} faulty copies, READ_LATENCY {read_latency}, retention {retention} "
-        f"idle cycles; wrote {path}. Run with +faults=TABLE.hex (fault table format: docs/bist.md)."
+        f"idle cycles; wrote {path}. Run with +faults=TABLE.hex (fault table format: docs/bist.md); drive split "
+        "high on the first operation of each March element (dynamic faults pair operations within one element)."
     )
 
 
@@ -98,10 +99,17 @@ def _progress(enabled: bool) -> Iterator[Callable[[int, int], None] | None]:
 @click.option("--width", type=int, default=1, show_default=True, help="Bits per word.")
 @click.option("--layout", default=None, help="Physical ROWSxCOLS (needed for the neighbours universe).")
 @click.option("--backgrounds", default=None, help="Data backgrounds (default: solid for 1 bit, else standard).")
-@click.option("--faults", "classes", default=None, help="Fault classes, comma-separated (default: the static classes).")
+@click.option("--faults", "classes", default=None, help="Fault classes, comma-separated (default: every class).")
 @click.option("--universe", default="all", show_default=True, help="all, neighbours or sample:K.")
 @click.option("--copies", type=int, default=None, help="Faulty copies per simulation (default: from memory size).")
 @click.option("--pause-cycles", type=int, default=100, show_default=True, help="Engine pause = retention time.")
+@click.option(
+    "--read-latency",
+    type=int,
+    default=1,
+    show_default=True,
+    help="READ_LATENCY of the engine and the faulty memory (0 to 4).",
+)
 @click.option("--workers", type=click.IntRange(min=1), default=None, help="Local worker processes (default: cores).")
 @click.option("--scheduler", default=None, help="Dask scheduler ADDRESS (tcp://host:8786) instead of local workers.")
 @click.option("--json", "json_file", type=click.Path(dir_okay=False), default=None, help="Write a JSON report.")
@@ -144,6 +152,7 @@ def bist_campaign(test: str, json_file: str | None, fail_log: str | None, **kw: 
         seed,
         kw["copies"],
         kw["pause_cycles"],
+        kw["read_latency"],
     )
     where = f"Dask scheduler {scheduler}" if scheduler else f"{workers or 'all'} local worker processes"
     click.echo(f"memcheck bist campaign: {test} on {words} x {kw['width']}, order {kw['order']}, seed {seed}, {where}")

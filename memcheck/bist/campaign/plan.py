@@ -24,11 +24,10 @@ from memcheck.faults import (
 )
 from memcheck.faults.geometry import Arrangement
 from memcheck.faults.sampling import class_size, enumerate_class, sample_class
-from memcheck.faults.universe import STATIC_CLASSES, Universe
+from memcheck.faults.universe import CLASSES, Universe
 
-#: Fault classes the RTL model implements: every static class (the dynamic ones are not in the
-#: faulty Verilog memory yet).
-RTL_CLASSES: tuple[str, ...] = STATIC_CLASSES
+#: Fault classes the RTL model implements: every class of the fault simulator, static and dynamic.
+RTL_CLASSES: tuple[str, ...] = CLASSES
 
 
 @dataclass(frozen=True)
@@ -94,8 +93,6 @@ def plan_instances(
     """The instances of each class in ``universe`` (samples drawn with the universe's seed)."""
     out = []
     for cls in classes:
-        if cls not in RTL_CLASSES:
-            raise BistError(f"the RTL fault model does not implement class {cls!r} (it has {', '.join(RTL_CLASSES)})")
         if universe.kind == "sample":
             assert universe.size is not None
             found = sample_class(cls, setup, universe.size, universe.seed, universe.base)

@@ -163,7 +163,7 @@ def build_report(prepared: Prepared, found: list[InstanceOutcome], seconds: floa
         "backgrounds": list(prepared.backgrounds),
         "seed": spec.seed,
         "pause_cycles": spec.pause_cycles,
-        "read_latency": 1,
+        "read_latency": spec.read_latency,
     }
     figures = {
         "instances": len(found),

@@ -92,7 +92,13 @@ module campaign_tb;
         .fail_background(fail_background), .fail_expected(fail_expected), .fail_actual(fail_actual), .mem_en(en),
         .mem_we(we), .mem_addr(addr), .mem_wdata(wdata), .mem_rdata(rdata));
     {shape.module} #(.WORDS({plan.words}), .AW({aw}), .W({w}), .READ_LATENCY({plan.read_latency}), .COPIES({k}),
-        .RETENTION({shape.retention})) mem (.clk(clk), .en(en), .we(we), .addr(addr), .wdata(wdata), .rdata(rdata));
+        .RETENTION({shape.retention})) mem (.clk(clk), .en(en), .we(we), .addr(addr), .wdata(wdata), .split(split),
+        .rdata(rdata));
+    // a new March element (or background) never pairs with the previous operation (dynamic faults)
+    wire [{bw + ew - 1}:0] tag = {{eng.i_bg, eng.i_el}};
+    reg [{bw + ew - 1}:0] last_tag;
+    always @(posedge clk) if (en === 1'b1) last_tag <= tag;
+    wire split = tag !== last_tag;
     reg [{k - 1}:0] fails, expb, mism, newf;
     integer b, cyc;
     initial begin fails = {{{k}{{1'b0}}}}; cyc = 0; end

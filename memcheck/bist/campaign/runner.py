@@ -47,6 +47,7 @@ class CampaignSpec:
     seed: int = 1
     copies: int | None = None
     pause_cycles: int = 100
+    read_latency: int = 1
 
 
 @dataclass(frozen=True)
@@ -77,6 +78,7 @@ def prepare(spec: CampaignSpec) -> Prepared:
         layout=spec.layout,
         seed=spec.seed,
         pause_cycles=spec.pause_cycles,
+        read_latency=spec.read_latency,
     )
     if test.delays and spec.pause_cycles < 1:
         raise BistError(
