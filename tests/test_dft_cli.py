@@ -157,3 +157,16 @@ def test_claims_checked_and_universe_hint(capsys: pytest.CaptureFixture[str]) ->
         capsys, "coverage", "March SR", "--layout", "16x4", "--width", "8", "--faults", "CFdrd", "--seed", "1"
     )
     assert rc == 0 and "hint: between physically adjacent cells" in out and "CFdrd 58.4% (here 93.8%)" in out
+
+
+def test_universe_hint_on_a_memory_above_the_walked_limit(capsys: pytest.CaptureFixture[str]) -> None:
+    # Linear order counts neighbour pairs in closed form, so the hint is given above HINT_MAX_CELLS too;
+    # an lfsr walk of the same memory is not built just for a hint.
+    from memcheck.faults.checks import HINT_MAX_CELLS
+
+    assert 1024 * 512 * 9 > HINT_MAX_CELLS
+    argv = ("coverage", "March SR", "--layout", "1024x512", "--width", "9", "--faults", "CFdrd", "--seed", "1")
+    rc, out, _ = run(capsys, *argv)
+    assert rc == 0 and "hint: between physically adjacent cells (--universe neighbours, layout 1024x512)" in out
+    rc, out, _ = run(capsys, *argv, "--order", "lfsr")
+    assert rc == 0 and "hint:" not in out

@@ -23,8 +23,11 @@ from memcheck.faults.universe import TWO_CELL_CLASSES
 ClaimStatus = Literal["confirmed", "contradicted", "not measured"]
 #: Percentage points between the ``all`` and ``neighbours`` figures that earn a hint.
 HINT_POINTS = 5.0
-#: Largest memory (cells) for which the neighbours figure is measured just for the hint.
+#: Largest memory (cells) for which the neighbours figure is measured just for the hint, for orders
+#: whose neighbour pairs are walked (``lfsr``, ``gray``, ``complement``); the other orders count them
+#: in closed form (:mod:`memcheck.faults.lattice`), at any size.
 HINT_MAX_CELLS = 1 << 22
+_COUNTED_ORDERS = ("linear", "row-fast", "col-fast")
 
 
 @dataclass(frozen=True)
@@ -65,7 +68,9 @@ def universe_hint(report: CoverageReport) -> str | None:
     """One line when the ``all`` figure of a two-cell or decoder class differs from the
     ``neighbours`` figure by at least :data:`HINT_POINTS` (needs a layout; None otherwise)."""
     setup = report.setup
-    if report.universe.kind != "all" or setup.layout is None or setup.cells > HINT_MAX_CELLS:
+    if report.universe.kind != "all" or setup.layout is None:
+        return None
+    if setup.cells > HINT_MAX_CELLS and setup.order not in _COUNTED_ORDERS:
         return None
     classes = [c.cls for c in report.classes if c.cls in (*TWO_CELL_CLASSES, "AF") and c.faults]
     if not classes:
