@@ -66,6 +66,7 @@ def _job(args: list[object], code: str | None) -> tuple[str, str]:
         check=False,
         timeout=3600,
         env=env,
+        cwd=code,  # ``python -c`` puts the working folder first on the path
     )
     if proc.returncode != 0:
         return f"failed: {proc.stderr.strip().splitlines()[-1:]}", ""
@@ -81,7 +82,7 @@ def run(label: str, args: list[object], before: str | None = None) -> None:
         cost, figures = _job(args, None)
         print(f"{label}: {cost}; {figures}")
         return
-    old, old_figures = _job(args, before)
+    old, old_figures = _job(args, os.path.abspath(before))
     new, figures = _job(args, None)
     same = "identical" if figures == old_figures else f"DIFFER; before {old_figures}"
     print(f"{label}:\n  before: {old}\n  after:  {new}\n  {figures} ({same})")
