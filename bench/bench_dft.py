@@ -1,16 +1,19 @@
 """DFT workflow benchmark (issue 12): each job in its own process, wall time and peak memory printed.
 
 (a) ``coverage "March SS"`` with ``sample:100000`` (every class: 25 x 100,000 instances) on a
-    1 Gword x 64 memory with layout 32Kx32K (target <= 60 s, 2 GB): the sample runs on the compact
-    memory of the words it touches (memcheck/faults/sparse.py), so memory is bounded by the sample;
+    1 Gword x 64 memory with layout 32Kx32K (target <= 60 s, 2 GB): the sample is decoded and
+    simulated as arrays (memcheck/faults/drawn.py, sampled.py, compose.py) on the compact memory of
+    the words it touches (memcheck/faults/sparse.py), so memory is bounded by the sample;
+(a2) the same with ``sample:100000:neighbours``;
 (b) the same sample job on the 16 Mword x 64 memory of the OverflowError (sample:2000, CFst,CFds,AF);
 (c) neighbour universe, exact, 128 Mbit (2 Mword x 64, layout 4096x512), March SS, two-cell
     classes and AF (target <= 60 s, 4 GB);
 (d) diagnose on 1 Mbit with 10 failing operations (target <= 10 s): bench/bench_diagnose.py.
 
-Run: .venv/bin/python bench/bench_dft.py [--quick] [--sample K] [--skip-neighbours]
-(--quick shrinks (c) to 8 Mbit; --sample sets K of (a), default 100000). The machine may be shared:
-the load average is printed first.
+Run: .venv/bin/python bench/bench_dft.py [--quick] [--sample K] [--skip-neighbours] [--before DIR]
+(--quick shrinks (c) to 8 Mbit; --sample sets K of (a), default 100000; --before DIR runs every job
+a second time on the memcheck package found in DIR (e.g. ``git archive`` of an earlier commit) and
+prints both side by side). The machine may be shared: the load average is printed with every job.
 """
 
 from __future__ import annotations
@@ -47,17 +50,42 @@ print(json.dumps(out))
 """
 
 
-def run(label: str, args: list[object]) -> None:
+def _load() -> str:
+    return " ".join(f"{x:.2f}" for x in os.getloadavg())
+
+
+def _job(args: list[object], code: str | None) -> tuple[str, str]:
+    """One job in its own process (on the memcheck package in ``code`` when given): its cost (or why it
+    did not run) and its coverage figures."""
+    env = dict(os.environ, PYTHONPATH=code) if code else None
+    load = _load()
     proc = subprocess.run(
-        [sys.executable, "-c", _JOB, json.dumps(args)], capture_output=True, text=True, check=False, timeout=3600
+        [sys.executable, "-c", _JOB, json.dumps(args)],
+        capture_output=True,
+        text=True,
+        check=False,
+        timeout=3600,
+        env=env,
+        cwd=code,  # ``python -c`` puts the working folder first on the path
     )
     if proc.returncode != 0:
-        print(f"{label}: failed: {proc.stderr.strip().splitlines()[-1:]}")
-        return
+        return f"failed: {proc.stderr.strip().splitlines()[-1:]}", ""
     doc = json.loads(proc.stdout)
-    what = f"refused ({doc['refused']})" if "refused" in doc else f"coverage {doc['coverage']}"
-    cost = f"{doc['seconds']:.1f} s, peak {doc['peak_mib']:.0f} MiB, estimate {doc['estimate_gib']:.2f} GiB"
-    print(f"{label}: {cost}; {what}")
+    if "refused" in doc:
+        return f"refused ({doc['refused']})", ""
+    cost = f"{doc['seconds']:.1f} s, peak {doc['peak_mib']:.0f} MiB (load before {load}, after {_load()})"
+    return cost, f"coverage {doc['coverage']}"
+
+
+def run(label: str, args: list[object], before: str | None = None) -> None:
+    if not before:
+        cost, figures = _job(args, None)
+        print(f"{label}: {cost}; {figures}")
+        return
+    old, old_figures = _job(args, os.path.abspath(before))
+    new, figures = _job(args, None)
+    same = "identical" if figures == old_figures else f"DIFFER; before {old_figures}"
+    print(f"{label}:\n  before: {old}\n  after:  {new}\n  {figures} ({same})")
 
 
 def main() -> None:
@@ -65,12 +93,18 @@ def main() -> None:
     ap.add_argument("--quick", action="store_true")
     ap.add_argument("--sample", type=int, default=100_000)
     ap.add_argument("--skip-neighbours", action="store_true")
+    ap.add_argument("--before", default=None, help="folder holding an earlier memcheck package to compare with")
     args = ap.parse_args()
     quick = args.quick
-    print(f"load average before: {' '.join(f'{x:.2f}' for x in os.getloadavg())} on {os.cpu_count()} cores")
-    k = args.sample
-    run(f"(a) 1 Gword x 64, sample:{k}", [1 << 30, 64, 1 << 15, 1 << 15, f"sample:{k}", None])
-    run("(b) 16 Mword x 64, sample:2000", [1 << 24, 64, 4096, 4096, "sample:2000", "CFst,CFds,AF"])
+    print(f"load average before: {_load()} on {os.cpu_count()} cores")
+    k, old = args.sample, args.before
+    run(f"(a) 1 Gword x 64, sample:{k}", [1 << 30, 64, 1 << 15, 1 << 15, f"sample:{k}", None], old)
+    run(
+        f"(a2) 1 Gword x 64, sample:{k}:neighbours",
+        [1 << 30, 64, 1 << 15, 1 << 15, f"sample:{k}:neighbours", None],
+        old,
+    )
+    run("(b) 16 Mword x 64, sample:2000", [1 << 24, 64, 4096, 4096, "sample:2000", "CFst,CFds,AF"], old)
     words, rows, cols = ((1 << 17), 512, 256) if quick else ((1 << 21), 4096, 512)
     if not args.skip_neighbours:
         run(
@@ -78,7 +112,7 @@ def main() -> None:
             [words, 64, rows, cols, "neighbours", "CFst,CFds,CFtr,CFwd,CFrd,CFdrd,CFir,CFin,CFid,AF"],
         )
     print("(d) diagnose, 1 Mbit, 10 failing operations: bench/bench_diagnose.py")
-    print(f"load average after: {' '.join(f'{x:.2f}' for x in os.getloadavg())}")
+    print(f"load average after: {_load()}")
 
 
 if __name__ == "__main__":

@@ -76,6 +76,8 @@ BAD_ARGS: list[tuple[tuple[str, ...], tuple[str, ...]]] = [
     (("march", "run", REGFILE, "MATS+", "--port", "zz"), ("no port", "zz")),
     (("march", "run", REGFILE, "MATS+", "--layout", "3x3"), ("layout 3x3",)),
     (("march", "run", REGFILE, "MATS+", "--max-ops", "0"), ("--max-ops",)),
+    (("march", "run", REGFILE, "MATS+", "--fail-log", "f.csv", "--fail-log-limit", "0"), ("--fail-log-limit",)),
+    (("diagnose", "MATS+", "f.csv", "--words", "8", "--first-reads", "0"), ("--first-reads",)),
     (("demo", "--examples", "-1"), ("--examples",)),
     (("check", REGFILE, "--directed-examples", "-1"), ("--directed-examples",)),
     # bist campaign / faulty-memory (refused before any simulation)

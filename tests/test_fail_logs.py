@@ -1,14 +1,17 @@
 """Fail logs written by runs and read back by diagnosis: ``march run --fail-log`` on RTL with an
 injected stuck-at cell, and ``bist campaign --fail-log`` for every instance of a small campaign.
 
-The round trips are our own checks: the run's first failing read, diagnosed with ``--first-fail``,
-must rank the injected fault (or one indistinguishable from it under the test) first.
+The round trips are our own checks: the run's failing reads (a ``march run`` lists every one, checked
+against the reference engine's prediction; a campaign copy its first), diagnosed, must rank the
+injected fault (or one indistinguishable from it under the test) first.
 """
 
 from __future__ import annotations
 
 import json
+import shlex
 from pathlib import Path
+from typing import Any
 
 import pytest
 
@@ -50,31 +53,48 @@ def test_diagnose_command_carries_every_memory_option() -> None:
     )
 
 
+def _diagnose_cmd(log: Path, tmp_path: Path) -> dict[str, Any]:
+    """Run the read-back command the log's comment names; its JSON report."""
+    cmd = next(line for line in log.read_text().splitlines() if line.startswith("# read it back: "))
+    argv = shlex.split(cmd.removeprefix("# read it back: "))
+    assert argv[:2] == ["memcheck", "diagnose"]
+    js = tmp_path / "d.json"
+    assert main([*argv[1:], "--json", str(js)]) == 0
+    doc: dict[str, Any] = json.loads(js.read_text())
+    return doc
+
+
 @pytest.mark.icarus
 @pytest.mark.parametrize(("value", "address"), [(1, 6), (0, 9)])
-def test_march_run_fail_log_diagnoses_back_to_the_stuck_cell(
+def test_march_run_fail_log_lists_every_failing_read_and_diagnoses_back(
     tmp_path: Path, value: int, address: int, capsys: pytest.CaptureFixture[str]
 ) -> None:
+    """The RTL run goes on past its first failure: the log holds every failing read the reference
+    engine predicts for the injected stuck-at cell, and its diagnosis ranks that cell first."""
     c = tiny_rtl(tmp_path, "sa", SA_ADDR=address, SA_BIT=3, SA_VAL=value)
     log = tmp_path / "fails.csv"
-    argv = ["march", "run", str(c), "MATS+", "--out", str(tmp_path / "out"), "--no-waveform", "--seed", "3"]
+    argv = ["march", "run", str(c), "March C-", "--out", str(tmp_path / "out"), "--no-waveform", "--seed", "3"]
     assert main([*argv, "--fail-log", str(log)]) == 1
-    assert f"wrote {log} (1 failing read; first-fail log)" in capsys.readouterr().out
+    rows = read_fail_log(log)
+    assert f"wrote {log} ({len(rows)} failing reads)" in capsys.readouterr().out
     text = log.read_text()
-    assert text.startswith("# memcheck march run ")
-    (row,) = read_fail_log(log)
-    assert (row.address, row.diff) == (address, 1 << 3)
-    # the comment names the one command that reads it back; run it
-    cmd = next(line for line in text.splitlines() if line.startswith("# read it back: "))
-    assert "--backgrounds std0,std1,std2,std3" in cmd  # 8-bit words: the standard set, the shared default
-    js = tmp_path / "d.json"
-    assert (
-        main(["diagnose", "MATS+", str(log), "--words", "16", "--width", "8", "--first-fail", "--json", str(js)]) == 0
-    )
-    doc = json.loads(js.read_text())
+    assert text.startswith("# memcheck march run ") and f"every failing March read ({len(rows)})" in text
+    assert "--backgrounds std0,std1,std2,std3" in text  # 8-bit words: the standard set, the shared default
+    injected = CellFault(model_named(f"SA{value}"), Cell(address, 3))
+    setup = Arrangement(16, 8)
+    predicted = [fail_log(resolve_test("March C-"), injected, setup, s) for s in power_up_states(1)]
+    assert len(rows) > 1 and rows in predicted
+    doc = _diagnose_cmd(log, tmp_path)
+    assert not doc["first_fail"]
     top = [g for g in doc["groups"] if g["rank"] == 1]
-    injected = CellFault(model_named(f"SA{value}"), Cell(address, 3)).describe()
-    assert any(injected in g["instances"] for g in top), top
+    assert any(injected.describe() in g["instances"] for g in top), top
+    # cut at --fail-log-limit: the first rows, said so, read back with --first-reads
+    assert main([*argv, "--fail-log", str(log), "--fail-log-limit", "2"]) == 1
+    assert read_fail_log(log) == rows[:2]
+    assert f"the first 2 of {len(rows)} failing March reads" in log.read_text()
+    assert "--first-reads 2" in log.read_text()
+    top = [g for g in _diagnose_cmd(log, tmp_path)["groups"] if g["rank"] == 1]
+    assert any(injected.describe() in g["instances"] for g in top), top
 
 
 @pytest.mark.icarus

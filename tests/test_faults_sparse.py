@@ -1,5 +1,6 @@
 """The sampled path on a compact memory (memcheck.faults.sparse) gives exactly the fast engine's
-results on the whole memory: property test over orders, layouts, backgrounds, tests and every class.
+results on the whole memory: property test over orders, layouts, backgrounds, tests, every class and both
+sampled universes (all and neighbours).
 The fast engine itself is checked against the reference engine in tests/test_faults_engines.py."""
 
 from __future__ import annotations
@@ -24,7 +25,7 @@ def setups(draw: st.DrawFn) -> Arrangement:
     words = draw(st.sampled_from(sorted(LAYOUTS)))
     width = draw(st.sampled_from([1, 2, 4]))
     order = draw(st.sampled_from(["linear", "complement", "row-fast", "col-fast", "gray", "lfsr"]))
-    bgs = draw(st.sampled_from([None, "solid", "solid,checkerboard", "standard,row-stripe", "col-stripe"]))
+    bgs = draw(st.sampled_from([None, "solid", "solid,checkerboard", "standard,row-stripe", "col-stripe", "standard"]))
     return Arrangement(
         words,
         width,
@@ -41,10 +42,11 @@ def setups(draw: st.DrawFn) -> Arrangement:
     setup=setups(),
     name=st.sampled_from(["MATS+", "March C-", "March SS", "March G", "March RAW"]),
     seed=st.integers(0, 1000),
+    kind=st.sampled_from(["all", "neighbours"]),
 )
-def test_compact_memory_gives_the_whole_memory_results(setup: Arrangement, name: str, seed: int) -> None:
+def test_compact_memory_gives_the_whole_memory_results(setup: Arrangement, name: str, seed: int, kind: str) -> None:
     test = resolve_test(name)
-    faults = [f for cls in CLASSES for f in sample_class(cls, setup, 5, seed)]
+    faults = [f for cls in CLASSES for f in sample_class(cls, setup, 5, seed, kind)]
     assert simulate_sparse(test, faults, setup, chunk=7) == simulate(test, faults, setup)
 
 

@@ -63,6 +63,13 @@ def _lines(d: Diagnosis, top: int) -> list[str]:
 )
 @dft_library_option
 @click.option("--first-fail", is_flag=True, help="FAILLOG holds only the first failing read (a first-fail BIST).")
+@click.option(
+    "--first-reads",
+    type=click.IntRange(min=1),
+    default=None,
+    metavar="N",
+    help="FAILLOG holds only the first N failing reads (a fail log cut at --fail-log-limit).",
+)
 @click.option("--top", type=click.IntRange(min=1), default=8, show_default=True, help="Groups to print.")
 @click.option("--png", "png_file", type=click.Path(dir_okay=False), default=None, help="Write the array bitmap (PNG).")
 @click.option("--json", "json_file", type=click.Path(dir_okay=False), default=None, help="Write a JSON report.")
@@ -79,6 +86,7 @@ def diagnose_cmd(
     fault_classes: str | None,
     library: str | None,
     first_fail: bool,
+    first_reads: int | None,
     top: int,
     png_file: str | None,
     json_file: str | None,
@@ -101,7 +109,7 @@ def diagnose_cmd(
     )
     _, (t,) = load_tests((test,), library, None)
     rows = read_fail_log(faillog)
-    d = diagnose(t, setup, rows, first_fail=first_fail, classes=parse_classes(fault_classes))
+    d = diagnose(t, setup, rows, first_fail=first_fail, classes=parse_classes(fault_classes), first_reads=first_reads)
     for line in _lines(d, top):
         click.echo(line)
     if png_file:

@@ -21,6 +21,7 @@ from memcheck.cli._sim_options import (
     write_error_reports,
 )
 from memcheck.cli.march_cmds import dft_library_option, load_tests, march_group
+from memcheck.diagnose.from_runs import FAIL_LOG_LIMIT
 from memcheck.errors import MemcheckError
 from memcheck.march.backgrounds import BACKGROUND_NAMES
 from memcheck.march.orders import parse_layout
@@ -53,7 +54,16 @@ from memcheck.march.orders import parse_layout
     "fail_log",
     type=click.Path(dir_okay=False),
     default=None,
-    help="Write the first failing read as a fail log (docs/diagnose.md) that memcheck diagnose reads back.",
+    help="Write every failing March read as a fail log (docs/diagnose.md) that memcheck diagnose reads "
+    "back; the run then goes on past its first failure.",
+)
+@click.option(
+    "--fail-log-limit",
+    "fail_log_limit",
+    type=click.IntRange(min=1),
+    default=FAIL_LOG_LIMIT,
+    show_default=True,
+    help="Most rows the --fail-log holds (the first failing reads; the log says when it is cut).",
 )
 @click.option(
     "--max-ops",
@@ -78,6 +88,7 @@ def march_run(
     quiet: bool,
     library: str | None,
     fail_log: str | None,
+    fail_log_limit: int,
     **fields: Any,
 ) -> int:
     """Run NAME_OR_NOTATION (library name or March notation) alone on the RTL of CONTRACT_FILE.
@@ -104,7 +115,9 @@ def march_run(
                 f"backgrounds {bgs}"
             )
         with progress_line(interactive(quiet), "march run") as update:
-            result = run_march(contract_file, test, opts, on_progress=update)
+            result = run_march(
+                contract_file, test, opts, on_progress=update, fail_reads=fail_log_limit if fail_log else 0
+            )
     except MemcheckError as exc:
         rep = error_dict(contract_file, str(exc), seed, job="march run", test=name_or_notation)
         write_error_reports(json_file, None, rep, str(exc))
@@ -114,5 +127,7 @@ def march_run(
     click.echo(result.summary() if quiet else render_march_report(result))
     if fail_log:
         rows = write_march_run_log(result, fail_log, name_or_notation, library)
-        click.echo(f"wrote {fail_log} ({len(rows)} failing read{'s' if len(rows) != 1 else ''}; first-fail log)")
+        total = int(str(result.extra.get("failing_reads_total", len(rows))))
+        cut = f"; the first {len(rows)} of {total}: --fail-log-limit" if total > len(rows) else ""
+        click.echo(f"wrote {fail_log} ({len(rows)} failing read{'s' if len(rows) != 1 else ''}{cut})")
     return EXIT_OK if result.passed else EXIT_FAIL

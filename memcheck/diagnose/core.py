@@ -173,10 +173,13 @@ def diagnose(
     *,
     first_fail: bool = False,
     classes: Sequence[str] = CLASSES,
+    first_reads: int | None = None,
 ) -> Diagnosis:
     """Rank the single fault instances consistent with the failing reads ``rows`` of ``test`` on
     ``setup`` (``first_fail``: ``rows`` is only the first failing read, as a first-fail BIST reports).
     ``classes``: the fault classes candidates come from (default every class, static and dynamic).
+    ``first_reads``: ``rows`` is only the first that many failing reads (a capped log, as
+    ``march run --fail-log-limit`` writes it); ``first_fail`` is ``first_reads=1``.
 
     Raises FailLogError for rows that do not name a read of the test with its expected value.
     """
@@ -185,6 +188,7 @@ def diagnose(
     check_consistent(test, nbg)
     _check_rows(test, setup, nbg, rows)
     observed = frozenset(rows)
+    prefix = 1 if first_fail else first_reads  # None: the whole log
     cells = failing_cells(rows, setup.width)
     cands = candidates(setup, cells, classes) if cells else []
     pool = word_pool(setup, sorted({c.word for c in cells})) if cells else []
@@ -201,7 +205,7 @@ def diagnose(
             ws = fault_words(f)
             if ws not in streams:
                 streams[ws] = events.of(ws)
-            memo[key] = [frozenset(p[:1] if first_fail else p) for p in predict(f, streams[ws], setup.width)]
+            memo[key] = [frozenset(p[:prefix]) for p in predict(f, streams[ws], setup.width)]
         sigs = memo[key]
         by_key.setdefault(frozenset(sigs), []).append((f, sigs))
     groups: list[Group] = []

@@ -1,9 +1,11 @@
 """Fail logs from runs: what ``memcheck march run --fail-log`` and ``memcheck bist campaign --fail-log``
 write, in the format :func:`memcheck.diagnose.read_fail_log` reads (docs/diagnose.md).
 
-Both runs stop comparing at (or only report) the first failing read, so both logs are *first-fail*
-logs: at most one row, diagnosed with ``--first-fail``. The comment lines name the run and the one
-``memcheck diagnose`` command that reads the log back with the same memory options.
+A ``march run`` with ``--fail-log`` runs on past its first failure and lists every failing March
+read, up to ``--fail-log-limit`` rows (:data:`FAIL_LOG_LIMIT` by default; a cut log is read back with
+``--first-reads N``). A campaign copy reports only its first failing read, so a campaign log is a
+*first-fail* log (``--first-fail``). The comment lines name the run and the one ``memcheck
+diagnose`` command that reads the log back with the same memory options.
 """
 
 from __future__ import annotations
@@ -22,6 +24,9 @@ from memcheck.records import MarchFailure, MarchRunResult
 
 #: (background, element, operation inside the element, address) of a failing read
 FailOp = tuple[int, int, int, int]
+
+#: Rows a ``march run`` fail log holds at most by default (``--fail-log-limit``).
+FAIL_LOG_LIMIT = 1000
 
 
 def march_failure_row(failure: MarchFailure | None, width: int) -> list[FailRow]:
@@ -43,6 +48,17 @@ def march_failure_row(failure: MarchFailure | None, width: int) -> list[FailRow]
     return [FailRow(s.background, s.element, s.step, s.op.address, exp, actual)]
 
 
+def march_run_rows(result: MarchRunResult, width: int) -> tuple[list[FailRow], int]:
+    """The failing March reads a run listed (``run_march(..., fail_reads=N)``: up to N, in stream
+    order) and how many failed in all; a run that did not list them: its first failing read only."""
+    listed = result.extra.get("failing_reads")
+    if not isinstance(listed, list):
+        rows = march_failure_row(result.failure, width)
+        return rows, len(rows)
+    rows = [FailRow(*(int(x) for x in r)) for r in listed]
+    return rows, int(str(result.extra.get("failing_reads_total", len(rows))))
+
+
 def march_run_setup(result: MarchRunResult) -> Arrangement:
     """The memory options of a ``march run`` as diagnosis takes them."""
     m = result.contract.memory
@@ -60,12 +76,23 @@ def march_run_setup(result: MarchRunResult) -> Arrangement:
 def write_march_run_log(
     result: MarchRunResult, path: str | Path, test: str, library: str | None = None
 ) -> list[FailRow]:
-    """Write the first-fail log of a ``march run`` (``test``: how the command named the test)."""
+    """Write the fail log of a ``march run`` (``test``: how the command named the test): every failing
+    March read it listed (see :func:`march_run_rows`), saying when the list was cut."""
     setup = march_run_setup(result)
-    rows = march_failure_row(result.failure, setup.width)
+    rows, total = march_run_rows(result, setup.width)
+    listed = "failing_reads" in result.extra
+    first = None if listed and total == len(rows) else (len(rows) if listed else 1)
     where = str(result.contract_path) if result.contract_path else "contract"
     what = f"memcheck march run {where} {test!r}: seed {result.seed}, verdict {result.verdict}"
-    write_fail_log(rows, path, header_comments(what, diagnose_command(test, setup, str(path), library), rows))
+    scope = "first-fail log: at most the first failing read"
+    if listed:
+        scope = (
+            f"every failing March read ({total})"
+            if first is None
+            else f"the first {len(rows)} of {total} failing March reads (--fail-log-limit)"
+        )
+    command = diagnose_command(test, setup, str(path), library, first=first if rows else None)
+    write_fail_log(rows, path, header_comments(what, command, rows, scope))
     return rows
 
 
@@ -103,8 +130,10 @@ def campaign_row(test: MarchTest, setup: Arrangement, hits: Sequence[tuple[FailO
     return FailRow(bg, el, op, addr, exp, exp ^ flipped)
 
 
-def diagnose_command(test: str, setup: Arrangement, log: str, library: str | None = None) -> str:
-    """The ``memcheck diagnose`` command that reads ``log`` back with the memory options of ``setup``."""
+def diagnose_command(test: str, setup: Arrangement, log: str, library: str | None = None, first: int | None = 1) -> str:
+    """The ``memcheck diagnose`` command that reads ``log`` back with the memory options of ``setup``
+    (``first``: the log holds only the first that many failing reads; 1 is ``--first-fail``, None a
+    whole log)."""
     bgs = setup.background_spec
     parts = ["memcheck", "diagnose", test, log, "--words", str(setup.words), "--width", str(setup.width)]
     if setup.layout is not None:
@@ -115,13 +144,13 @@ def diagnose_command(test: str, setup: Arrangement, log: str, library: str | Non
         parts += ["--seed", str(setup.seed)]
     if library is not None:
         parts += ["--library", library]
-    return shlex.join([*parts, "--first-fail"])
+    if first is not None:
+        parts += ["--first-fail"] if first == 1 else ["--first-reads", str(first)]
+    return shlex.join(parts)
 
 
-def header_comments(what: str, command: str, rows: Sequence[FailRow]) -> list[str]:
-    """Comment lines of a run's fail log: what produced it and how to read it back."""
-    return [
-        what,
-        "first-fail log: at most the first failing read" + ("" if rows else "; this run had no failing March read"),
-        f"read it back: {command}",
-    ]
+def header_comments(
+    what: str, command: str, rows: Sequence[FailRow], scope: str = "first-fail log: at most the first failing read"
+) -> list[str]:
+    """Comment lines of a run's fail log: what produced it, what it holds and how to read it back."""
+    return [what, scope + ("" if rows else "; this run had no failing March read"), f"read it back: {command}"]

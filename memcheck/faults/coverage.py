@@ -42,8 +42,8 @@ from memcheck.faults.instances import (
     StuckOpenFault,
 )
 from memcheck.faults.primitives import FaultModel, models_of
-from memcheck.faults.sampling import sample_class
-from memcheck.faults.sparse import simulate_sparse
+from memcheck.faults.sampled import NO_SCOPE, sample_groups
+from memcheck.faults.sampled import af_label as af_label
 from memcheck.faults.universe import (
     CLASSES,
     SCOPES,
@@ -64,7 +64,6 @@ DISCLAIMER = (
     "Verdicts cover the modelled fault models only (single faults, the fault primitives and read "
     "conventions in docs/faults.md); they are an engineering aid, not sign-off."
 )
-NO_SCOPE = "-"
 _DETECTIONS: tuple[Detection, ...] = ("detected", "partial", "escaped")
 
 
@@ -301,10 +300,6 @@ def _stuck_open(src: CountSource, tally: _Tally) -> None:
             )
 
 
-def af_label(kind: str, wired: str | None) -> str:
-    return kind + (f" ({wired})" if wired else "")
-
-
 def _decoder(src: CountSource, tally: _Tally) -> None:
     plan, rs = src.plan, src.plan.rs
     codes = rs.class_codes()
@@ -371,15 +366,6 @@ def _resolve_examples(src: CountSource, tally: _Tally) -> dict[tuple[str, str, s
     return dict(zip(keys, results, strict=True))
 
 
-def _group_of(r: FaultResult) -> tuple[str, str, str]:
-    f = r.fault
-    if isinstance(f, DecoderFault):
-        return "AF", af_label(f.kind, f.wired), NO_SCOPE
-    if isinstance(f, CouplingFault):
-        return f.cls, f.name, f.scope
-    return f.cls, f.name, NO_SCOPE
-
-
 def _model_order(cls: str) -> list[str]:
     if cls == "AF":
         return [af_label(k, w) for k, w in AF_VARIANTS]
@@ -389,18 +375,16 @@ def _model_order(cls: str) -> list[str]:
 
 
 def _tally_sample(t: MarchTest, setup: Arrangement, cls_list: Sequence[str], uni: Universe) -> _Tally:
-    """Simulate a random sample of each class instance by instance, on the compact memory of the
-    words the sample touches (:mod:`memcheck.faults.sparse`); keep one example per group."""
+    """Simulate a random sample of each class as arrays, on the compact memory of the words the
+    sample touches (:mod:`memcheck.faults.sampled`); keep one example per group."""
     assert uni.size is not None
     tally = _Tally()
     for cls in cls_list:
-        inst = sample_class(cls, setup, uni.size, uni.seed, uni.base)
-        for r in simulate_sparse(t, inst, setup):
-            g = _group_of(r)
-            v = _DETECTIONS.index(r.verdict)
-            tally.add(g, v, 1)
-            if v and (g not in tally.results or (tally.results[g].verdict == "partial" and v == 2)):
-                tally.results[g] = r
+        for g, example in sample_groups(t, setup, cls, uni.size, uni.seed, uni.base):
+            for v, count in enumerate(g.counts):
+                tally.add(g.group, v, count)
+            if example is not None:
+                tally.results[g.group] = example
     return tally
 
 

@@ -128,10 +128,13 @@ def sample_numbers(total: int, size: int, seed: int, stream: int) -> list[int]:
     if total < _NUMPY_LIMIT:
         rng = np.random.default_rng([seed, stream])
         return [int(i) for i in np.sort(rng.choice(total, size=size, replace=False))]
-    big = random.Random(f"memcheck-sample:{seed}:{stream}")
+    bits = random.Random(f"memcheck-sample:{seed}:{stream}").getrandbits
+    k = total.bit_length()
     picks: set[int] = set()
     while len(picks) < size:  # rejection of repeats: uniform over subsets, and size << total here
-        picks.add(big.randrange(total))
+        r = bits(k)  # the draws of randrange(total): k random bits, retried while not below total
+        if r < total:
+            picks.add(r)
     return sorted(picks)
 
 

@@ -111,35 +111,51 @@ def _touched(faults: Sequence[FaultInstance]) -> tuple[list[int], list[int]]:
     return words, sof
 
 
-def compact(
-    test: MarchTest, setup: Arrangement, faults: Sequence[FaultInstance]
-) -> tuple[Plan, list[FaultInstance], IntArray]:
-    """The compact memory of ``faults`` (see module doc): its plan, the faults on it, and the real
-    address of each compact word."""
+def distinct(values: IntArray) -> IntArray:
+    """The distinct values, sorted (one sort: ``np.unique`` may hash, much slower on 10^5 values)."""
+    s = np.sort(np.asarray(values, dtype=np.int64))
+    out: IntArray = s[np.concatenate([[True], s[1:] != s[:-1]])] if len(s) else s
+    return out
+
+
+def compact_plan(
+    test: MarchTest, setup: Arrangement, words: IntArray, sof_words: IntArray
+) -> tuple[Plan, AddressOrder, IntArray, IntArray]:
+    """The compact memory of the words ``words`` and the stuck-open cells' words ``sof_words`` (see
+    module doc): its plan, the order of the real memory, the ⇑ position in the real memory of each
+    compact word (sorted, so a real word's compact number is its ``searchsorted`` there) and the
+    real address of each compact word."""
     order = AddressOrder(setup.order, setup.words, setup.layout, setup.seed)
     bgs = resolve_backgrounds(setup.background_spec, setup.width, setup.layout)
     check_consistent(test, len(bgs))
     n = setup.words
-    words, sof = _touched(faults)
-    pos = positions_of(order, np.array(sorted(set(words)), dtype=np.int64))
+    pos = positions_of(order, distinct(words))
     extra = [0, 1, n - 2, n - 1]
-    if sof:
-        p_sof = positions_of(order, np.array(sorted(set(sof)), dtype=np.int64))
-        extra_pos = np.unique(np.concatenate([p_sof - 1, p_sof + 1, np.array(extra, dtype=np.int64)]))
+    if len(sof_words):
+        p_sof = positions_of(order, distinct(sof_words))
+        extra_pos = distinct(np.concatenate([p_sof - 1, p_sof + 1, np.array(extra, dtype=np.int64)]))
     else:
         extra_pos = np.array(extra, dtype=np.int64)
     extra_pos = extra_pos[(extra_pos >= 0) & (extra_pos < n)]
-    all_pos = np.unique(np.concatenate([pos, extra_pos]))
+    all_pos = distinct(np.concatenate([pos, extra_pos]))
     real = addresses_at(order, all_pos)
     m = len(real)
-    local = {int(a): i for i, a in enumerate(real.tolist())}
-    k = len(bgs)
     wclass, wpar = word_classes(bgs, real, setup.layout)
     base = np.array([[(bg.base >> b) & 1 for b in range(setup.width)] for bg in bgs], dtype=np.uint8)
     small = Arrangement(m, setup.width, backgrounds=setup.background_spec, any_order=setup.any_order)
     ids = np.arange(m, dtype=np.int64)
     rs = Resolved(small, bgs, ids, ids.copy(), base, wclass, wpar)
-    plan = Plan(test, small, rs, schedule(test, k, setup.any_order))
+    return Plan(test, small, rs, schedule(test, len(bgs), setup.any_order)), order, all_pos, real
+
+
+def compact(
+    test: MarchTest, setup: Arrangement, faults: Sequence[FaultInstance]
+) -> tuple[Plan, list[FaultInstance], IntArray]:
+    """The compact memory of ``faults`` (see module doc): its plan, the faults on it, and the real
+    address of each compact word."""
+    words, sof = _touched(faults)
+    plan, _, _, real = compact_plan(test, setup, np.array(words, dtype=np.int64), np.array(sof, dtype=np.int64))
+    local = {int(a): i for i, a in enumerate(real.tolist())}
     return plan, [renumber(f, local) for f in faults], real
 
 

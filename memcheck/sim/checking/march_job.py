@@ -57,6 +57,9 @@ class MarchJob:
     phase: str = "march"
     what: str = "March test"
     cover: bool = False  # count the cover points of every batch (the check's sweep)
+    # 0: stop at the first failure (the check's sweep). N > 0: run on to the end and list the first N
+    # failing March reads (``march run --fail-log``); the first failure is reported as before.
+    fail_reads: int = 0
 
 
 class CarriedModel:
@@ -151,6 +154,9 @@ class _MarchRun:
         self.exp = np.zeros((0, self.limbs), dtype=np.uint64)
         self.op = np.zeros(0, dtype=np.int64)
         self.pool: ThreadPoolExecutor | None = None
+        self.failing: list[list[Any]] = []  # [cycle, operation, expected hex, failing bits hex], first N
+        self.failing_total = 0
+        self.failed = False  # a failure was reported (only a job listing failing reads runs on after it)
 
     def expect(self, due: np.ndarray, exp: np.ndarray, op: np.ndarray) -> None:
         """Queue March reads (due cycles counted from the schedule's start)."""
@@ -198,7 +204,9 @@ class _MarchRun:
         bad = mdiff.any(axis=1)
         march_first = int(d_due[np.argmax(bad)]) if bad.any() else None
         self.t_model += time.perf_counter() - t0
-        if model_first is None and march_first is None:
+        if self.job.fail_reads:
+            self._list_failing(d_due[bad], d_op[bad], d_exp[bad], mdiff[bad])
+        if self.failed or (model_first is None and march_first is None):
             self.march_reads += len(d_due)
             self._keep_tail(cols, ev, ek, value, defined)
             self.done += n
@@ -214,9 +222,25 @@ class _MarchRun:
                 "operation": int(d_op[j]),
             }
         window = self._window(cols, ev, ek, value, defined, k)
-        self.march_reads += int(np.count_nonzero(d_due <= k))
-        self.done += k + 1
-        return {"cycle": self.done - 1, "window": window.to_json(), "march": march}
+        cycle = self.done + k
+        self.failed = True
+        if self.job.fail_reads:  # the run goes on: every read of the batch counts, as the simulator ran them
+            self.march_reads += len(d_due)
+            self.done += n
+        else:
+            self.march_reads += int(np.count_nonzero(d_due <= k))
+            self.done = cycle + 1
+        return {"cycle": cycle, "window": window.to_json(), "march": march}
+
+    def _list_failing(self, due: np.ndarray, op: np.ndarray, exp: np.ndarray, diff: np.ndarray) -> None:
+        """Add failing March reads (in cycle order) to the list, up to ``job.fail_reads``."""
+        self.failing_total += len(due)
+        room = self.job.fail_reads - len(self.failing)
+        if room <= 0 or not len(due):
+            return
+        cycles, ops = (self.done + due[:room]).tolist(), op[:room].tolist()
+        words = zip(limbs_to_ints(exp[:room]), limbs_to_ints(diff[:room]), strict=True)
+        self.failing.extend([c, o, hex(e), hex(d)] for c, o, (e, d) in zip(cycles, ops, words, strict=True))
 
     def _keep_tail(self, cols: Columns, ev: np.ndarray, ek: np.ndarray, value: np.ndarray, defined: np.ndarray) -> None:
         n, w = len(cols), self.job.window
@@ -285,16 +309,20 @@ def run_march_job(runner: Runner, schedule: MarchSchedule, job: MarchJob) -> dic
         run = _MarchRun(runner, schedule, job)
         run.pool = pool
         failure = _run_batches(run, schedule, job)
-    return {
+    out: dict[str, Any] = {
         "failure": failure,
         "cycles_run": run.done,
         "march_reads_checked": run.march_reads,
         "seconds_model": round(run.t_model, 4),
     }
+    if job.fail_reads:
+        out.update(failing_reads=run.failing, failing_reads_total=run.failing_total)
+    return out
 
 
 def _run_batches(run: _MarchRun, schedule: MarchSchedule, job: MarchJob) -> dict[str, Any] | None:
-    """Every batch of the schedule, until the first failure (returned)."""
+    """Every batch of the schedule, until the first failure (returned); to the end when the job lists
+    failing reads."""
     failure = None
     pieces: list[Columns] = []
     queued = 0
@@ -304,19 +332,20 @@ def _run_batches(run: _MarchRun, schedule: MarchSchedule, job: MarchJob) -> dict
     laid = not c.lockstep
     hyper = hyper_ticks(c)
     size = max(job.batch // hyper, 1) * hyper
+    go_on = job.fail_reads > 0  # list failing reads to the end, past the first failure
     for piece in schedule.pieces():
         if job.expectations and not laid:
             run.expect(piece.due, piece.expected, piece.op_index)
         cols = lay_columns(c, piece.cols) if laid else piece.cols
         pieces.append(cols)
         queued += len(cols)
-        while queued >= size and failure is None:
+        while queued >= size and (failure is None or go_on):
             allc = Columns.concat(pieces)
-            failure = run.batch(allc[:size])
+            failure = run.batch(allc[:size]) or failure
             rest = allc[size:]
             pieces, queued = ([rest] if len(rest) else []), len(rest)
-        if failure is not None:
+        if failure is not None and not go_on:
             break
-    if failure is None and pieces:
-        failure = run.batch(Columns.concat(pieces))
+    if (failure is None or go_on) and pieces:
+        failure = run.batch(Columns.concat(pieces)) or failure
     return failure

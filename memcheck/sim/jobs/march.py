@@ -105,9 +105,12 @@ def _model_start(c: Contract) -> tuple[ModelStart, tuple[str, ...]]:
     return ("reset", ("reset",)) if c.reset is not None else ("power-up", ())
 
 
-def _run_schedule(s: Session, schedule: MarchSchedule) -> tuple[MarchFailure | None, dict[str, object]]:
-    """The schedule runs and is checked inside the simulator, batch by batch; only counts and the first
-    failure come back."""
+def _run_schedule(
+    s: Session, schedule: MarchSchedule, fail_reads: int = 0
+) -> tuple[MarchFailure | None, dict[str, object]]:
+    """The schedule runs and is checked inside the simulator, batch by batch; counts and the first
+    failure come back (and, with ``fail_reads``, the first that many failing March reads, named in
+    ``extra["failing_reads"]`` as (background, element, operation, address, expected, actual))."""
     work = s.out_dir / "run"
     work.mkdir(parents=True, exist_ok=True)
     stream_file = work / "stream.pickle"
@@ -120,12 +123,23 @@ def _run_schedule(s: Session, schedule: MarchSchedule) -> tuple[MarchFailure | N
         "pause_cycles": schedule.pause_cycles,
         "start": _model_start(s.contract)[0],
         "window": WINDOW,
+        "fail_reads": fail_reads,
     }
     res = s.launch({"mode": "march", "march": spec}, "run", extra_stall=_STALL_PER_BATCH)
     info = dict(res.extra.get("march", {}))
     extra = {k: v for k, v in res.extra.items() if k != "march"}
     extra.update({k: v for k, v in info.items() if k != "failure"})
+    if "failing_reads" in info:
+        extra["failing_reads"] = [_named_read(schedule, *row) for row in info["failing_reads"]]
     return failure_from_job(s.contract, schedule, info), extra
+
+
+def _named_read(schedule: MarchSchedule, cycle: int, op: int, expected: str, diff: str) -> list[int]:
+    """A failing March read the job listed, as a fail-log row: (background, element, operation in the
+    element, address, expected, actual); bits read as X or Z count as failing (complemented)."""
+    step = schedule.step(int(op))
+    exp = int(expected, 16)
+    return [step.background, step.element, step.step, step.op.address, exp, exp ^ int(diff, 16)]
 
 
 def _replay_prefix(s: Session, schedule: MarchSchedule, name: str, failure: MarchFailure, notes: list[str]) -> Any:
@@ -161,6 +175,7 @@ def run_march(
     options: SimOptions | None = None,
     *,
     on_progress: ProgressCallback | None = None,
+    fail_reads: int = 0,
     **overrides: Any,
 ) -> MarchRunResult:
     """Run ``test`` (library name, notation or MarchTest) alone on the contract's RTL under Icarus.
@@ -169,13 +184,15 @@ def run_march(
     naming the first failing operation. Bad input (notation, algorithm, order, backgrounds, layout,
     ports, budget, contract, RTL that does not compile, a stalled simulation) raises a MemcheckError
     subclass. Keyword ``overrides`` set :class:`~memcheck.sim.options.SimOptions` fields
-    (``backgrounds="solid", port="a"``).
+    (``backgrounds="solid", port="a"``). ``fail_reads`` > 0: the run goes on past its first failure
+    and ``extra["failing_reads"]`` lists the first ``fail_reads`` failing March reads
+    (``extra["failing_reads_total"]`` counts them all); the verdict and ``failure`` are unchanged.
     """
     opts = (options or SimOptions()).replace(**overrides)
     s = Session.open(contract, opts, job="march", on_progress=on_progress)
     schedule, name = prepare(s.contract, test, s.options)
     s.compile()
-    failure, extra = _run_schedule(s, schedule)
+    failure, extra = _run_schedule(s, schedule, fail_reads)
     notes: list[str] = []
     if schedule.pauses:
         notes.append(

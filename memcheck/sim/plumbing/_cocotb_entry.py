@@ -58,7 +58,7 @@ def _run(runner: PhaseRunner, job: dict[str, Any]) -> RunResult:
         schedule = march_schedule(
             runner.contract, stream, int(spec["writer"]), int(spec["reader"]), int(spec["pause_cycles"])
         )
-        march = MarchJob(spec["start"], int(spec["window"]))
+        march = MarchJob(spec["start"], int(spec["window"]), fail_reads=int(spec.get("fail_reads", 0)))
         return RunResult(seed=seed, extra={"march": run_march_job(runner, schedule, march)})
     return runner.run()
 
