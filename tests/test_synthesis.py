@@ -219,7 +219,7 @@ def test_row_model_matches_reference_engine(
         ({"classes": "SOF"}, "no cell-level model"),
         ({"classes": "SAF", "max_length": 1}, "below any possible test"),
         ({"classes": "CFst", "width": 2, "words": 4, "backgrounds": "solid"}, "no March test detects"),
-        ({"classes": "SAF", "width": 8, "backgrounds": "standard"}, "more than the 3"),
+        ({"classes": "SAF", "width": 128, "words": 4, "backgrounds": "standard"}, "more than the 7"),
     ],
 )
 def test_bad_input(kwargs: dict[str, object], needle: str) -> None:

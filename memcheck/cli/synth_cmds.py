@@ -109,7 +109,10 @@ def _report(result: SynthesisResult, max_length: int) -> int:
 @click.option(
     "--backgrounds",
     default=None,
-    help="Data backgrounds, at most 3 (the test runs once per background; default: solid).",
+    help=(
+        "Data backgrounds, at most 7, e.g. standard on words up to 64 bits (the test runs once per "
+        "background; default: solid)."
+    ),
 )
 @click.option("--max-length", type=int, default=DEFAULT_MAX_LENGTH, show_default=True, help="Longest test tried.")
 @click.option(

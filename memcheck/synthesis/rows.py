@@ -24,6 +24,7 @@ from __future__ import annotations
 
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
+from functools import lru_cache
 
 import numpy as np
 import numpy.typing as npt
@@ -122,6 +123,7 @@ def _aggressor_step(m: FaultModel, ca: int) -> StepFn:
     return step
 
 
+@lru_cache(maxsize=4096)  # rows depend only on these arguments: built once per (model, relation, bits)
 def _cell_rows(m: FaultModel, relation: int, ca: int, cv: int) -> list[RowSpec]:
     """relation: 0 one cell, 1 same word, 2 aggressor word first in ⇑, 3 victim word first."""
     states = [(0, v) for v in (0, 1)] if relation == 0 else [(a, v) for a in (0, 1) for v in (0, 1)]
@@ -166,6 +168,7 @@ def _af_step(kind: str, wired: str | None, side: int, code: int, fl: int) -> Ste
     return step
 
 
+@lru_cache(maxsize=1024)
 def _af_rows(variant: int, relation: int, cx: int, cy: int) -> list[RowSpec]:
     """relation: 0 one word (x only), 1 x first in ⇑, 2 y first."""
     kind, wired = AF_VARIANTS[variant]
@@ -271,7 +274,6 @@ class RowModel:
     pause: U8
     instances: tuple[Instance, ...]
     passes: tuple[tuple[U8, U8], ...] = ()
-    chain: IntArray | None = None  # set by passes.expand_passes: (pass - 1, row, start state) -> row
 
     @property
     def nbg(self) -> int:
@@ -299,17 +301,14 @@ class RowModel:
         )
 
     def final(self, states: U8) -> U8:
-        """The state each original row ends the whole test in: the state itself, or for a model
-        expanded over several backgrounds, each pass's state looked up from where the previous
-        pass left the row (see :mod:`memcheck.synthesis.passes`)."""
-        if self.chain is None:
-            return states
-        nrow = self.chain.shape[1]
-        out = states[:, :nrow]
-        for k in range(self.chain.shape[0]):
-            idx = self.chain[k][np.arange(nrow)[None, :], out]
-            out = np.take_along_axis(states, idx, axis=1)
-        return out
+        """The state each instance's row ends the whole test in (the state itself here; a model over
+        several passes composes them, see :mod:`memcheck.synthesis.passes`)."""
+        return states
+
+    def score(self, states: U8) -> IntArray:
+        """Rows each of ``states`` has detected (the beam search's ranking)."""
+        det: IntArray = (self.final(states) == DET).sum(axis=1)
+        return det
 
     def complete(self, states: U8) -> BoolArray:
         """Which of ``states`` (n, rows) detect every instance."""
@@ -338,12 +337,25 @@ def _table(step: StepFn | None) -> U8:
     return t
 
 
-def _row_tables(spec: RowSpec) -> tuple[U8, U8, U8]:
+Tables = tuple[U8, U8, U8]
+
+
+def _row_tables(spec: RowSpec) -> Tables:
     f, s = _table(spec.first), _table(spec.second)
     p = np.arange(WIDTH, dtype=np.uint8)
     if spec.pause is not None:
         p[:NSTATE] = [spec.pause(x & 3) for x in range(NSTATE)]  # a pause ends a pair
     return f, s, p
+
+
+def _cached_tables(spec: RowSpec, cache: dict[int, tuple[RowSpec, Tables, bytes]]) -> tuple[Tables, bytes]:
+    """The tables of ``spec`` and their bytes, built once per spec object (the entry holds the spec,
+    so its id cannot be reused while the cache lives)."""
+    hit = cache.get(id(spec))
+    if hit is None or hit[0] is not spec:
+        t = _row_tables(spec)
+        hit = cache[id(spec)] = (spec, t, b"".join(x.tobytes() for x in t))
+    return hit[1], hit[2]
 
 
 def build_model(classes: Sequence[str], setup: Arrangement) -> RowModel:
@@ -352,6 +364,7 @@ def build_model(classes: Sequence[str], setup: Arrangement) -> RowModel:
     raise KeyError (the caller reports it)."""
     nbg = setup.resolve().nbg
     rows: dict[bytes, int] = {}
+    cache: dict[int, tuple[RowSpec, Tables, bytes]] = {}
     tabs: list[list[tuple[U8, U8, U8]]] = []
     inits: list[int] = []
     instances: list[Instance] = []
@@ -365,12 +378,12 @@ def build_model(classes: Sequence[str], setup: Arrangement) -> RowModel:
             for specs in zip(*(alternatives for _, alternatives in cases), strict=True):
                 ids = []
                 for row in zip(*specs, strict=True):
-                    t = [_row_tables(spec) for spec in row]
-                    key = bytes([row[0].init]) + b"".join(x.tobytes() for tt in t for x in tt)
+                    t = [_cached_tables(spec, cache) for spec in row]
+                    key = bytes([row[0].init]) + b"".join(k for _, k in t)
                     if key not in rows:
                         rows[key] = len(inits)
                         inits.append(row[0].init)
-                        tabs.append(t)
+                        tabs.append([tt for tt, _ in t])
                     ids.append(rows[key])
                 alts.append(tuple(sorted(set(ids))))
             instances.append(Instance(f"{cls}: {cases[0][0]}", tuple(alts)))
