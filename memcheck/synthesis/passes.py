@@ -65,8 +65,9 @@ class ExpandedModel(RowModel):
         """Instances in groups: (their rows, row-index matrices of one-alternative instances by row
         count, alternatives of the others), indices local to the group's rows."""
         out = []
-        for c0 in range(0, len(self.instances), _CHUNK_INSTANCES):
-            part = self.instances[c0 : c0 + _CHUNK_INSTANCES]
+        nchunk = -(-len(self.instances) // _CHUNK_INSTANCES)
+        for c0 in range(nchunk):  # strided: each group mixes every class, so most states fail the first
+            part = self.instances[c0::nchunk]
             rows = np.array(sorted({r for inst in part for alt in inst.alternatives for r in alt}), np.int64)
             by_len: dict[int, list[IntArray]] = {}
             multi = []
@@ -87,7 +88,9 @@ class ExpandedModel(RowModel):
 
     def _complete_block(self, states: U8) -> BoolArray:
         alive = np.arange(states.shape[0])
-        for rows, singles, multi in self._chunks:
+        chunks = self._chunks
+        for group in list(chunks):
+            rows, singles, multi = group
             done = self.final_rows(states[alive], rows) == DET
             keep = np.ones(alive.size, bool)
             for mat in singles:
@@ -97,6 +100,8 @@ class ExpandedModel(RowModel):
                 for cols in alts:
                     any_alt |= done[:, cols].all(axis=1)
                 keep &= any_alt
+            if not keep.all() and chunks[0] is not group:  # tried first next time (changes the order only)
+                chunks.insert(0, chunks.pop(next(i for i, c in enumerate(chunks) if c is group)))
             alive = alive[keep]
             if not alive.size:
                 break
