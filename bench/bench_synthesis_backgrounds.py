@@ -51,8 +51,8 @@ def row(words: int, width: int, classes: str, limit: float) -> str:
     p = r.proof
     if r.test is not None:
         status = "" if r.minimal else f" (not proven; none ≤ {p.complete_below - 1}n)"
-        cell = f"**{r.length}n** `{r.test.to_unicode()}`{status}"
-        cost = f"{r.length * nbg}n"
+        cell = f"**{r.test.length}n** `{r.test.to_unicode()}`{status}"
+        cost = f"{r.test.length * nbg}n"
     else:
         cell = f"none ≤ {p.complete_below - 1}n (proven); cut by the {p.cut_by or 'length bound'}"
         cost = "-"
