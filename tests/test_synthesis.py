@@ -32,12 +32,13 @@ KNOWN = [
 ]
 
 
-def _reference_all_detected(test: MarchTest, classes: str, setup: Arrangement) -> bool:
-    """Every instance of every class detected by the reference engine, ⇕ walked both ways."""
+def _reference_all_detected(test: MarchTest, classes: str, setup: Arrangement, kind: str = "all") -> bool:
+    """Every instance of every class (``kind`` universe) detected by the reference engine, ⇕ walked
+    both ways."""
     for any_order in ("up", "down"):
         t = to_test(steps_of(test, any_order))
         for cls in classes.split(","):
-            results = simulate_reference(t, enumerate_class(cls, setup), setup)
+            results = simulate_reference(t, enumerate_class(cls, setup, kind), setup)
             if not all(r.verdict == "detected" for r in results):
                 return False
     return True
@@ -216,10 +217,13 @@ def test_row_model_matches_reference_engine(
     ("kwargs", "needle"),
     [
         ({"classes": "SAF,CFx"}, "Did you mean"),
-        ({"classes": "SOF"}, "no cell-level model"),
+        (
+            {"classes": "SOF", "words": 4, "width": 2, "backgrounds": "checkerboard", "layout": (2, 2)},
+            "every word alike",
+        ),
         ({"classes": "SAF", "max_length": 1}, "below any possible test"),
         ({"classes": "CFst", "width": 2, "words": 4, "backgrounds": "solid"}, "no March test detects"),
-        ({"classes": "SAF", "width": 8, "backgrounds": "standard"}, "more than the 3"),
+        ({"classes": "SAF", "width": 128, "words": 4, "backgrounds": "standard"}, "more than the 7"),
     ],
 )
 def test_bad_input(kwargs: dict[str, object], needle: str) -> None:

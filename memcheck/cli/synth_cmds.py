@@ -13,6 +13,7 @@ from memcheck.cli import EXIT_FAIL, EXIT_OK
 from memcheck.cli._options import address_order_options, resolve_seed, seed_option
 from memcheck.cli.march_cmds import march_group
 from memcheck.faults import DISCLAIMER
+from memcheck.march.orders import parse_layout
 from memcheck.synthesis import DEFAULT_BEAM_WIDTH, DEFAULT_MAX_LENGTH, DEFAULT_WORDS, SynthesisResult, synthesize
 
 
@@ -109,8 +110,19 @@ def _report(result: SynthesisResult, max_length: int) -> int:
 @click.option(
     "--backgrounds",
     default=None,
-    help="Data backgrounds, at most 3 (the test runs once per background; default: solid).",
+    help=(
+        "Data backgrounds, at most 7, e.g. standard on words up to 64 bits (the test runs once per "
+        "background; default: solid)."
+    ),
 )
+@click.option(
+    "--universe",
+    default="all",
+    show_default=True,
+    metavar="all|neighbours",
+    help="Instances to detect: every one, or two-cell and decoder faults between physical neighbours only.",
+)
+@click.option("--layout", default=None, metavar="RxC", help="Physical layout (needed for --universe neighbours).")
 @click.option("--max-length", type=int, default=DEFAULT_MAX_LENGTH, show_default=True, help="Longest test tried.")
 @click.option(
     "--time-limit",
@@ -134,6 +146,8 @@ def synthesize_cmd(
     order: str,
     any_order: str,
     backgrounds: str | None,
+    universe: str,
+    layout: str | None,
     max_length: int,
     time_limit: float | None,
     beam_width: int,
@@ -161,6 +175,8 @@ def synthesize_cmd(
         max_length=max_length,
         time_limit=time_limit,
         beam_width=beam_width,
+        universe=universe,
+        layout=parse_layout(layout) if layout else None,
     )
     code = _report(result, max_length)
     if json_path:

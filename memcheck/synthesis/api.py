@@ -10,22 +10,25 @@ from collections.abc import Sequence
 from dataclasses import dataclass, replace
 from typing import Any
 
+import numpy as np
+
 from memcheck.errors import FaultModelError, MemcheckError, SynthesisError
 from memcheck.faults import CLASSES, DISCLAIMER, Arrangement, CoverageReport, coverage
-from memcheck.faults.universe import class_named
+from memcheck.faults.universe import class_named, parse_universe, require_layout
 from memcheck.march.library import ALGORITHMS
 from memcheck.march.notation import MarchTest
 from memcheck.synthesis.beam import DEFAULT_BEAM_WIDTH, BeamOutcome, BeamSearch, beam_search
 from memcheck.synthesis.elements import DOWN, UP
-from memcheck.synthesis.evaluate import detects_all, to_test
+from memcheck.synthesis.evaluate import detects_all, instance_detected, steps_of, to_test
 from memcheck.synthesis.passes import expand_passes
 from memcheck.synthesis.rows import RowModel, build_model, builder_for, complement_closed, mirror_closed
 from memcheck.synthesis.search import CUT_TIME, Search, SearchOutcome, Step
+from memcheck.synthesis.sof import sof_supported
 
 DEFAULT_WORDS = 64
 DEFAULT_MAX_LENGTH = 32
 MIN_LENGTH = 2  # a test that detects anything writes and reads
-MAX_BACKGROUNDS = 3  # each later pass adds 9 pseudo-rows per row (every start state is tracked)
+MAX_BACKGROUNDS = 7  # the standard set of 64-bit words; the rows to build grow with the bit pairs (width^2)
 BEAM_SHARE = 0.5  # of --time-limit the beam search may take before the exact search starts
 DEFAULT_MEMORY_LIMIT = 4 << 30  # bytes of search states; beyond it the exact search stops (said in the proof)
 _MAX_ANY_CHECK = 6  # ⇕ elements whose 2^k direction assignments are all confirmed with the engine
@@ -66,6 +69,7 @@ class SynthesisResult:
     fallback: MarchTest | None = None
     found_by: str | None = None
     beam: BeamOutcome | None = None
+    universe: str = "all"
 
     @property
     def length(self) -> int | None:
@@ -81,6 +85,8 @@ class SynthesisResult:
         return {
             "classes": list(self.classes),
             "words": s.words,
+            "layout": None if s.layout is None else list(s.layout),
+            "universe": self.universe,
             "width": s.width,
             "order": s.order,
             "backgrounds": s.background_spec if isinstance(s.background_spec, str) else list(s.background_spec),
@@ -138,33 +144,64 @@ def parse_fault_classes(spec: str | Sequence[str]) -> tuple[str, ...]:
         out.append(cls)
         if builder_for(cls) is None:
             raise SynthesisError(
-                f"fault class {cls} has no cell-level model for the synthesis search yet (its "
-                "behaviour depends on the neighbouring word's read, which the search does not track); leave it "
+                f"fault class {cls} has no cell-level model for the synthesis search yet; leave it "
                 "out and check it afterwards with `memcheck coverage`."
             )
     return tuple(c for c in CLASSES if c in out)
 
 
-def _setup(words: int, width: int, order: str, backgrounds: str | None, seed: int | None) -> Arrangement:
-    setup = Arrangement(words, width, None, order, backgrounds, seed)
+def _setup(
+    words: int,
+    width: int,
+    order: str,
+    backgrounds: str | None,
+    seed: int | None,
+    layout: tuple[int, int] | None = None,
+) -> Arrangement:
+    setup = Arrangement(words, width, layout, order, backgrounds, seed)
     rs = setup.resolve()
     if rs.nbg > MAX_BACKGROUNDS:
         raise SynthesisError(
             f"the synthesis search runs the test once per data background and tracks every pass's start state; "
             f"{setup.background_spec!r} gives {rs.nbg} backgrounds for {width}-bit words, more than the "
-            f"{MAX_BACKGROUNDS} it handles. Pass --backgrounds with fewer (e.g. solid,checkerboard)."
+            f"{MAX_BACKGROUNDS} it handles (words of up to 64 bits with the standard set). Pass --backgrounds with "
+            "fewer."
         )
     return setup
 
 
+def _check_scope(cls: tuple[str, ...], setup: Arrangement, universe: str) -> str:
+    """The universe kind (``all`` or ``neighbours``), checked against the classes and memory."""
+    kind = parse_universe(universe).kind
+    if kind not in ("all", "neighbours"):
+        raise SynthesisError(
+            f"the synthesis search covers every instance of a universe: use --universe all or neighbours, not "
+            f"{universe!r} (a sampled universe is for `memcheck coverage`)"
+        )
+    if kind == "neighbours":
+        require_layout(setup)
+    if "SOF" in cls and not sof_supported(setup):
+        raise SynthesisError(
+            "SOF in the synthesis search needs data backgrounds that treat every word alike (solid, the standard "
+            f"set); {setup.background_spec!r} flips words by address. Leave SOF out or change --backgrounds."
+        )
+    return kind
+
+
 def _undetectable(model: RowModel) -> list[str]:
-    """Instances no March test in the space detects, found by exhausting each one's own space."""
+    """Instances no March test in the space detects, found by exhausting each one's own space. An
+    instance some library test detects (run through the row model) is detectable and skipped."""
+    seen = np.zeros(len(model.instances), bool)
+    for alg in sorted(ALGORITHMS, key=lambda a: -a.length):  # long tests first: usually one suffices
+        seen |= instance_detected(model, steps_of(alg.test))
+        if seen.all():
+            return []
     bad = []
-    for i, inst in enumerate(model.instances):
+    for i in np.flatnonzero(~seen).tolist():
         sub = expand_passes(model.restrict(i))
         out = Search(sub, allow_delay=True).run(64)
         if out.exhausted and out.steps is None:
-            bad.append(inst.label)
+            bad.append(model.instances[i].label)
     return bad
 
 
@@ -201,14 +238,16 @@ def _any_elements(model: RowModel, steps: tuple[Step, ...]) -> list[int]:
     return chosen
 
 
-def _confirm(steps: tuple[Step, ...], anys: list[int], setup: Arrangement, classes: tuple[str, ...]) -> CoverageReport:
+def _confirm(
+    steps: tuple[Step, ...], anys: list[int], setup: Arrangement, classes: tuple[str, ...], universe: str
+) -> CoverageReport:
     """Coverage of the test on the memory with the fault engine, for every walk of its ⇕ elements."""
     report: CoverageReport | None = None
     for dirs in itertools.product((UP, DOWN), repeat=len(anys)):
         alt = list(steps)
         for j, d in zip(anys, dirs, strict=True):
             alt[j] = replace(alt[j], direction=d)
-        rep = coverage(to_test(alt), setup, classes=classes)
+        rep = coverage(to_test(alt), setup, classes=classes, universe=universe)
         if any(c.detected != c.faults for c in rep.classes):
             raise SynthesisError(
                 f"internal check failed: the fault engine does not confirm {to_test(alt).to_unicode()} for "
@@ -217,16 +256,16 @@ def _confirm(steps: tuple[Step, ...], anys: list[int], setup: Arrangement, class
         report = report or rep
     assert report is not None
     test = to_test(steps, anys)
-    return coverage(test, setup, classes=classes)
+    return coverage(test, setup, classes=classes, universe=universe)
 
 
-def shortest_library_test(setup: Arrangement, classes: tuple[str, ...]) -> MarchTest | None:
+def shortest_library_test(setup: Arrangement, classes: tuple[str, ...], universe: str = "all") -> MarchTest | None:
     """The shortest library test that detects every instance on the memory, if any."""
     for alg in sorted(ALGORITHMS, key=lambda a: a.length):
         if alg.test.delays and "DRF" not in classes:
             continue
         try:
-            rep = coverage(alg.test, setup, classes=classes)
+            rep = coverage(alg.test, setup, classes=classes, universe=universe)
         except MemcheckError:
             continue
         if all(c.detected == c.faults for c in rep.classes):
@@ -246,6 +285,8 @@ def synthesize(
     time_limit: float | None = None,
     beam_width: int = DEFAULT_BEAM_WIDTH,
     memory_limit: int | None = DEFAULT_MEMORY_LIMIT,
+    universe: str = "all",
+    layout: tuple[int, int] | None = None,
 ) -> SynthesisResult:
     """The shortest March test (in the space of docs/synthesis.md) that detects every instance of
     ``classes`` on a ``words`` x ``width`` memory, from every power-up state.
@@ -264,11 +305,12 @@ def synthesize(
     t0 = time.monotonic()
     cls = parse_fault_classes(classes)
     _check_bounds(max_length, beam_width)
-    setup = _setup(words, width, order, backgrounds, seed)
-    base = build_model(cls, setup)
+    setup = _setup(words, width, order, backgrounds, seed, layout)
+    kind = _check_scope(cls, setup, universe)
+    base = build_model(cls, setup, kind)
     _require_detectable(base, cls, words, width)
     model = expand_passes(base)
-    comp, mirror = complement_closed(cls), mirror_closed(setup)
+    comp, mirror = complement_closed(cls), mirror_closed(setup, kind)
     delay, writes, dirs = "DRF" in cls, (0,) if comp else (0, 1), (UP,) if mirror else (UP, DOWN)
     deadline = None if time_limit is None else t0 + time_limit
     beam = None
@@ -290,12 +332,12 @@ def synthesize(
     steps, found_by = (exact.steps, "exact search") if exact.steps is not None else (None, None)
     if steps is None and beam is not None and beam.steps is not None:
         steps, found_by = beam.steps, "beam search"
-    fallback = shortest_library_test(setup, cls) if exact.cut_by is not None else None
+    fallback = shortest_library_test(setup, cls, kind) if exact.cut_by is not None else None
     if steps is None:
-        return SynthesisResult(cls, setup, max_length, None, None, proof, fallback, None, beam)
-    report = _confirm(steps, _any_elements(model, steps), setup, cls)
+        return SynthesisResult(cls, setup, max_length, None, None, proof, fallback, None, beam, kind)
+    report = _confirm(steps, _any_elements(model, steps), setup, cls, kind)
     proof = replace(proof, seconds=time.monotonic() - t0)
-    return SynthesisResult(cls, setup, max_length, report.test, report, proof, fallback, found_by, beam)
+    return SynthesisResult(cls, setup, max_length, report.test, report, proof, fallback, found_by, beam, kind)
 
 
 def _check_bounds(max_length: int, beam_width: int) -> None:

@@ -23,7 +23,6 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from memcheck.synthesis.rows import DET
 from memcheck.synthesis.search import CUT_TIME, Level, Search, SearchCut, Step
 
 DEFAULT_BEAM_WIDTH = 200
@@ -56,7 +55,7 @@ class BeamSearch(Search):
     def _trim(self, level: Level) -> None:
         if len(level) <= self.width:
             return
-        score = (self.model.final(level.states[0]) == DET).sum(axis=1)
+        score = self.model.score(level.states[0])
         keep = np.sort(np.argsort(-score, kind="stable")[: self.width])
         for name in ("states", "g", "parent_level", "parent_index", "ref"):
             setattr(level, name, [getattr(level, name)[0][keep]])

@@ -24,6 +24,7 @@ from __future__ import annotations
 
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
+from functools import lru_cache
 
 import numpy as np
 import numpy.typing as npt
@@ -31,7 +32,9 @@ import numpy.typing as npt
 from memcheck.faults import Arrangement
 from memcheck.faults.fast import AF_VARIANTS  # the fast engine's decoder variants, in its order
 from memcheck.faults.primitives import FaultModel, aggressor_op, models_of, pause, prev_code, settle, victim_op
-from memcheck.faults.universe import cell_table, pair_table_all, word_pair_table
+from memcheck.faults.universe import cell_table, pair_table_all, pair_table_neighbours, word_pair_table
+from memcheck.synthesis.rowspec import Built, RowSpec, StepFn, flip_bit
+from memcheck.synthesis.sof import sof_builder
 
 U8 = npt.NDArray[np.uint8]
 IntArray = npt.NDArray[np.int64]
@@ -45,18 +48,6 @@ UNWRITTEN = 2  # "good value" before the first write
 # End of a word's operations in an element: two operations in a row never span words or elements, so
 # the "armed" bit (state bit 2: the previous operation could start a dynamic fault) is dropped.
 CLEAR = np.array([s & 3 for s in range(NSTATE)] + [NSTATE], np.uint8)
-
-StepFn = Callable[[int, str, int], tuple[int, bool]]  # (state, kind, logical value) -> (state, detected)
-
-
-@dataclass(frozen=True)
-class RowSpec:
-    """One row: its power-up state and how an operation on its first / second word changes it."""
-
-    init: int
-    first: StepFn
-    second: StepFn | None
-    pause: Callable[[int], int] | None = None
 
 
 @dataclass(frozen=True)
@@ -122,6 +113,7 @@ def _aggressor_step(m: FaultModel, ca: int) -> StepFn:
     return step
 
 
+@lru_cache(maxsize=4096)  # rows depend only on these arguments: built once per (model, relation, bits)
 def _cell_rows(m: FaultModel, relation: int, ca: int, cv: int) -> list[RowSpec]:
     """relation: 0 one cell, 1 same word, 2 aggressor word first in ⇑, 3 victim word first."""
     states = [(0, v) for v in (0, 1)] if relation == 0 else [(a, v) for a in (0, 1) for v in (0, 1)]
@@ -166,6 +158,7 @@ def _af_step(kind: str, wired: str | None, side: int, code: int, fl: int) -> Ste
     return step
 
 
+@lru_cache(maxsize=1024)
 def _af_rows(variant: int, relation: int, cx: int, cy: int) -> list[RowSpec]:
     """relation: 0 one word (x only), 1 x first in ⇑, 2 y first."""
     kind, wired = AF_VARIANTS[variant]
@@ -186,19 +179,11 @@ def _af_rows(variant: int, relation: int, cx: int, cy: int) -> list[RowSpec]:
 # Builders: one per fault class (FP-based classes share one), registered by name
 # ---------------------------------------------------------------------------------------------------
 
-Built = list[tuple[str, list[list[RowSpec]]]]
-
-
-def _bit(code: int, bg: int) -> int:
-    """Bit ``bg`` of a signature code: whether the cell is complemented in background ``bg``."""
-    return (code >> bg) & 1
-
-
 _RELATION_NAMES = ("one cell", "same word", "aggressor's word first in ⇑", "victim's word first in ⇑")
 _AF_RELATION_NAMES = ("", "x first in ⇑", "y first in ⇑")  # (label, alternatives of row lists)
 
 
-def fp_builder(cls: str, setup: Arrangement, bg: int = 0) -> Built:
+def fp_builder(cls: str, setup: Arrangement, bg: int = 0, universe: str = "all") -> Built:
     """Rows of an FP-based class over the relations and codes present in ``setup``, as they behave
     in pass ``bg`` (the data background's flip bits of each signature code)."""
     rs = setup.resolve()
@@ -207,20 +192,21 @@ def fp_builder(cls: str, setup: Arrangement, bg: int = 0) -> Built:
     if not models[0].two_cell:
         for code in sorted(set(cell_table(rs).code.tolist())):
             out += [
-                (m.name + (f" (code {code})" if code else ""), [_cell_rows(m, 0, 0, _bit(code, bg))]) for m in models
+                (m.name + (f" (code {code})" if code else ""), [_cell_rows(m, 0, 0, flip_bit(code, bg))])
+                for m in models
             ]
         return out
     if setup.cells < 2:
         return out
-    pt = pair_table_all(rs)
+    pt = pair_table_all(rs) if universe == "all" else pair_table_neighbours(rs)
     keys = sorted({(int(r), int(a), int(v)) for r, a, v in zip(pt.relation, pt.code_a, pt.code_v, strict=True)})
     for rel, ca, cv in keys:
         where = _RELATION_NAMES[rel] + (f", codes {ca}{cv}" if ca or cv else "")
-        out += [(f"{m.name} ({where})", [_cell_rows(m, rel, _bit(ca, bg), _bit(cv, bg))]) for m in models]
+        out += [(f"{m.name} ({where})", [_cell_rows(m, rel, flip_bit(ca, bg), flip_bit(cv, bg))]) for m in models]
     return out
 
 
-def af_builder(cls: str, setup: Arrangement, bg: int = 0) -> Built:
+def af_builder(cls: str, setup: Arrangement, bg: int = 0, universe: str = "all") -> Built:
     """Decoder-fault rows: per word pair class, one alternative per data bit (pass ``bg``)."""
     rs = setup.resolve()
     codes = rs.class_codes()
@@ -228,7 +214,7 @@ def af_builder(cls: str, setup: Arrangement, bg: int = 0) -> Built:
     groups: set[tuple[int, tuple[int, ...], tuple[int, ...]]] = set()
     for c in np.flatnonzero(per_class).tolist():
         groups.add((0, tuple(codes[c].tolist()), tuple(codes[c].tolist())))
-    wt = word_pair_table(rs, "all")
+    wt = word_pair_table(rs, universe)
     for r, x, y in zip(wt.relation.tolist(), wt.class_x.tolist(), wt.class_y.tolist(), strict=True):
         groups.add((r, tuple(codes[x].tolist()), tuple(codes[y].tolist())))
     out: Built = []
@@ -237,12 +223,12 @@ def af_builder(cls: str, setup: Arrangement, bg: int = 0) -> Built:
             bits = sorted(set(zip(bx, by, strict=True)))
             kind, wired = AF_VARIANTS[variant]
             label = kind + (f" ({wired})" if wired else "") + ("" if rel == 0 else f", {_AF_RELATION_NAMES[rel]}")
-            out.append((label, [_af_rows(variant, rel, _bit(cx, bg), _bit(cy, bg)) for cx, cy in bits]))
+            out.append((label, [_af_rows(variant, rel, flip_bit(cx, bg), flip_bit(cy, bg)) for cx, cy in bits]))
     return out
 
 
-Builder = Callable[[str, Arrangement, int], Built]  # (class, memory, background index)
-ROW_BUILDERS: dict[str, Builder] = {"AF": af_builder}
+Builder = Callable[[str, Arrangement, int, str], Built]  # (class, memory, background index, universe kind)
+ROW_BUILDERS: dict[str, Builder] = {"AF": af_builder, "SOF": sof_builder}
 
 
 def builder_for(cls: str) -> Builder | None:
@@ -271,7 +257,6 @@ class RowModel:
     pause: U8
     instances: tuple[Instance, ...]
     passes: tuple[tuple[U8, U8], ...] = ()
-    chain: IntArray | None = None  # set by passes.expand_passes: (pass - 1, row, start state) -> row
 
     @property
     def nbg(self) -> int:
@@ -299,17 +284,14 @@ class RowModel:
         )
 
     def final(self, states: U8) -> U8:
-        """The state each original row ends the whole test in: the state itself, or for a model
-        expanded over several backgrounds, each pass's state looked up from where the previous
-        pass left the row (see :mod:`memcheck.synthesis.passes`)."""
-        if self.chain is None:
-            return states
-        nrow = self.chain.shape[1]
-        out = states[:, :nrow]
-        for k in range(self.chain.shape[0]):
-            idx = self.chain[k][np.arange(nrow)[None, :], out]
-            out = np.take_along_axis(states, idx, axis=1)
-        return out
+        """The state each instance's row ends the whole test in (the state itself here; a model over
+        several passes composes them, see :mod:`memcheck.synthesis.passes`)."""
+        return states
+
+    def score(self, states: U8) -> IntArray:
+        """Rows each of ``states`` has detected (the beam search's ranking)."""
+        det: IntArray = (self.final(states) == DET).sum(axis=1)
+        return det
 
     def complete(self, states: U8) -> BoolArray:
         """Which of ``states`` (n, rows) detect every instance."""
@@ -338,7 +320,10 @@ def _table(step: StepFn | None) -> U8:
     return t
 
 
-def _row_tables(spec: RowSpec) -> tuple[U8, U8, U8]:
+Tables = tuple[U8, U8, U8]
+
+
+def _row_tables(spec: RowSpec) -> Tables:
     f, s = _table(spec.first), _table(spec.second)
     p = np.arange(WIDTH, dtype=np.uint8)
     if spec.pause is not None:
@@ -346,12 +331,24 @@ def _row_tables(spec: RowSpec) -> tuple[U8, U8, U8]:
     return f, s, p
 
 
-def build_model(classes: Sequence[str], setup: Arrangement) -> RowModel:
-    """The row model of ``classes`` on ``setup``: one pass per data background, the rows of each
-    pass built from the same cases (signature codes) in the same order. Classes without a builder
-    raise KeyError (the caller reports it)."""
+def _cached_tables(spec: RowSpec, cache: dict[int, tuple[RowSpec, Tables, bytes]]) -> tuple[Tables, bytes]:
+    """The tables of ``spec`` and their bytes, built once per spec object (the entry holds the spec,
+    so its id cannot be reused while the cache lives)."""
+    hit = cache.get(id(spec))
+    if hit is None or hit[0] is not spec:
+        t = _row_tables(spec)
+        hit = cache[id(spec)] = (spec, t, b"".join(x.tobytes() for x in t))
+    return hit[1], hit[2]
+
+
+def build_model(classes: Sequence[str], setup: Arrangement, universe: str = "all") -> RowModel:
+    """The row model of ``classes`` on ``setup`` over the ``universe`` kind (``all`` or
+    ``neighbours``): one pass per data background, the rows of each pass built from the same cases
+    (signature codes) in the same order. Classes without a builder raise KeyError (the caller
+    reports it)."""
     nbg = setup.resolve().nbg
     rows: dict[bytes, int] = {}
+    cache: dict[int, tuple[RowSpec, Tables, bytes]] = {}
     tabs: list[list[tuple[U8, U8, U8]]] = []
     inits: list[int] = []
     instances: list[Instance] = []
@@ -359,18 +356,18 @@ def build_model(classes: Sequence[str], setup: Arrangement) -> RowModel:
         builder = builder_for(cls)
         if builder is None:
             raise KeyError(cls)
-        per_bg = [builder(cls, setup, k) for k in range(nbg)]
+        per_bg = [builder(cls, setup, k, universe) for k in range(nbg)]
         for cases in zip(*per_bg, strict=True):
             alts = []
             for specs in zip(*(alternatives for _, alternatives in cases), strict=True):
                 ids = []
                 for row in zip(*specs, strict=True):
-                    t = [_row_tables(spec) for spec in row]
-                    key = bytes([row[0].init]) + b"".join(x.tobytes() for tt in t for x in tt)
+                    t = [_cached_tables(spec, cache) for spec in row]
+                    key = bytes([row[0].init]) + b"".join(k for _, k in t)
                     if key not in rows:
                         rows[key] = len(inits)
                         inits.append(row[0].init)
-                        tabs.append(t)
+                        tabs.append([tt for tt, _ in t])
                     ids.append(rows[key])
                 alts.append(tuple(sorted(set(ids))))
             instances.append(Instance(f"{cls}: {cases[0][0]}", tuple(alts)))
@@ -408,7 +405,7 @@ def complement_closed(classes: Sequence[str]) -> bool:
     a test and its 0/1 complement detect the same instances (AF: wired-AND and wired-OR and both
     floating values are all in the universe, so AF is closed)."""
     for cls in classes:
-        if cls == "AF":
+        if cls in ("AF", "SOF"):  # SOF: both latch power-up values are in the universe
             continue
         if cls in ROW_BUILDERS:
             return False
@@ -418,19 +415,19 @@ def complement_closed(classes: Sequence[str]) -> bool:
     return True
 
 
-def mirror_closed(setup: Arrangement) -> bool:
+def mirror_closed(setup: Arrangement, universe: str = "all") -> bool:
     """True when reversing every element's direction maps the fault universe onto itself: for each
     cell pair with the aggressor's word first in ⇑ there is one with the same codes and the victim's
     word first, and likewise for decoder word pairs."""
     rs = setup.resolve()
-    pt = pair_table_all(rs) if setup.cells >= 2 else None
+    pt = None if setup.cells < 2 else (pair_table_all(rs) if universe == "all" else pair_table_neighbours(rs))
     if pt is not None:
         keys = {(int(r), int(a), int(v)) for r, a, v in zip(pt.relation, pt.code_a, pt.code_v, strict=True)}
         swap = {2: 3, 3: 2}
         if keys != {(swap.get(r, r), a, v) for r, a, v in keys}:
             return False
     codes = rs.class_codes()
-    wt = word_pair_table(rs, "all")
+    wt = word_pair_table(rs, universe)
     groups = {
         (int(r), codes[x].tobytes(), codes[y].tobytes())
         for r, x, y in zip(wt.relation, wt.class_x, wt.class_y, strict=True)
