@@ -4,6 +4,8 @@ the search: the per-pass row model run pass by pass, the reference fault engine,
 
 from __future__ import annotations
 
+import os
+
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
@@ -52,6 +54,7 @@ def test_pseudo_rows_do_not_grow_with_the_backgrounds() -> None:
 
 
 @pytest.mark.slow
+@pytest.mark.skipif(not os.environ.get("MEMCHECK_SLOW"), reason="about 7 minutes: set MEMCHECK_SLOW=1")
 def test_standard_backgrounds_on_8_bit_words_10n_confirmed_by_reference_engine() -> None:
     """SAF/AF/TF/CFin/CFid/CFst on 4 x 8 with the standard set (4 backgrounds): a proven-shortest
     test per pass of 10n, March C-'s length (A.J. van de Goor, "Using March Tests to Test SRAMs",
@@ -88,6 +91,7 @@ def _reference_sample_detected(test: MarchTest, classes: str, setup: Arrangement
 
 
 @pytest.mark.slow
+@pytest.mark.skipif(not os.environ.get("MEMCHECK_SLOW"), reason="about 2 minutes: set MEMCHECK_SLOW=1")
 def test_standard_backgrounds_on_1k_x_32_known_lengths() -> None:
     """1K x 32 with the six standard backgrounds: SAF 4n and SAF/AF/TF/CFin/CFid/CFst 10n per pass,
     proven shortest (MATS and March C- lengths, sources as in tests/test_synthesis.py; minimality
