@@ -76,15 +76,27 @@ def rows_of(index: int, fault: FaultInstance, width: int) -> list[Row]:
 MAX_INSTANCES = 2_000_000
 
 
+def universe_size(setup: Arrangement, classes: Sequence[str], universe: Universe) -> int:
+    """Fault instances the campaign would simulate: the whole ``all`` or ``neighbours`` universe, or for
+    ``sample:K[:neighbours]`` K per class (a class smaller than K whole), counted without enumerating."""
+    base = universe.base if universe.kind == "sample" else universe.kind
+    sizes = [class_size(c, setup, base) for c in classes if c in RTL_CLASSES]
+    if universe.kind == "sample":
+        assert universe.size is not None
+        return sum(min(universe.size, n) for n in sizes)
+    return sum(sizes)
+
+
 def check_budget(setup: Arrangement, classes: Sequence[str], universe: Universe) -> None:
     """Refuse a universe too large to simulate instance by instance (before enumerating it)."""
-    if universe.kind != "all":
-        return
-    total = sum(class_size(c, setup) for c in classes if c in RTL_CLASSES)
+    total = universe_size(setup, classes, universe)
     if total > MAX_INSTANCES:
+        name = f"sample:{universe.size}" if universe.kind == "sample" else universe.kind
+        name += ":neighbours" if universe.kind == "sample" and universe.base == "neighbours" else ""
+        hint = "a smaller sample:K" if universe.kind == "sample" else "--universe sample:K"
         raise BistError(
-            f"the 'all' universe of {setup.words} x {setup.width} has {total:,} fault instances, too many to simulate "
-            f"one by one on RTL (at most {MAX_INSTANCES:,}); use --universe sample:K or neighbours"
+            f"the {name!r} universe of {setup.words} x {setup.width} has {total:,} fault instances, too many to "
+            f"simulate one by one on RTL (at most {MAX_INSTANCES:,}); use {hint}"
         )
 
 
