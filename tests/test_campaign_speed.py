@@ -166,3 +166,20 @@ def test_a_sample_larger_than_a_class_counts_the_class() -> None:
     setup = Arrangement(8, 1)
     sample = parse_universe("sample:1000", 1)
     assert universe_size(setup, ["SAF", "CFid"], sample) == class_size("SAF", setup) + class_size("CFid", setup)
+
+
+def test_fast_row_packing_equals_the_table_format() -> None:
+    from memcheck.bist.campaign.plan import _fields
+    from memcheck.bist.faulty_memory import model_bits, pack_row
+    from memcheck.faults import CellFault, CouplingFault
+
+    prepared = prepare(CampaignSpec("March C-", 16, 4, universe="sample:5", seed=8, simulator="icarus"))
+    flat = [f for _, found in prepared.instances for f in found]
+    assert len({type(f) for f in flat}) == 4  # cell, coupling, stuck-open and decoder faults
+    for row in prepared.rows:
+        fault = flat[row.instance]
+        fields = _fields(fault, row.state, row.bit)
+        if isinstance(fault, CellFault | CouplingFault):
+            fields.update(model_bits(fault.model))
+        for drive in (False, True):
+            assert row.packed(drive) == pack_row({**fields, "drive": int(drive)})
