@@ -17,6 +17,7 @@ Usage: .venv/bin/python bench/bench_campaign.py [--quick] [--no-icarus] [--liter
 from __future__ import annotations
 
 import os
+import resource
 import socket
 import subprocess
 import sys
@@ -35,6 +36,12 @@ PER_CLASS = 112  # 112 x 18 classes = 2,016 instances
 
 def load() -> str:
     return "load {:.1f} {:.1f} {:.1f}".format(*os.getloadavg())
+
+
+def cpu() -> float:
+    """CPU seconds of this process and its finished children (compilers, simulators, local workers)."""
+    me, kids = resource.getrusage(resource.RUSAGE_SELF), resource.getrusage(resource.RUSAGE_CHILDREN)
+    return me.ru_utime + me.ru_stime + kids.ru_utime + kids.ru_stime
 
 
 def copies_speedup(simulator: str, words: int, width: int, rows: int, singles: int) -> float:
@@ -66,16 +73,17 @@ def copies_speedup(simulator: str, words: int, width: int, rows: int, singles: i
 def big_campaign(per_class: int, simulator: str, tag: str, scheduler: str | None = None) -> float:
     spec = CampaignSpec("March C-", 1024, 8, universe=f"sample:{per_class}", seed=7, simulator=simulator)
     before = load()
-    t0 = time.perf_counter()
+    t0, c0 = time.perf_counter(), cpu()
     report = run_campaign(spec, workers=None if scheduler else 2, scheduler=scheduler)
-    wall = time.perf_counter() - t0
+    wall, used = time.perf_counter() - t0, cpu() - c0
     f = report.figures
     phases = ", ".join(f"{k} {v:.1f} s" for k, v in report.phases)
     where = "Dask LocalCluster(2)" if scheduler else "2 local processes"
     print(
         f"{tag} {simulator:<9} 1K x 8 March C-, {f['instances']} instances ({f['simulated_copies']} copies, "
-        f"{f['simulations']} simulations of {f['copies_per_simulation']}), {where}: {wall:.1f} s wall "
-        f"({phases}; target <= 60 s), {len(report.disagreements)} disagreements [{before} -> {load()}]",
+        f"{f['simulations']} simulations of {f['copies_per_simulation']}), {where}: {wall:.1f} s wall, "
+        f"{used:.1f} s CPU here ({phases}; target <= 60 s), {len(report.disagreements)} disagreements "
+        f"[{before} -> {load()}]",
         flush=True,
     )
     return wall

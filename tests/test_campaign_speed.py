@@ -183,3 +183,8 @@ def test_fast_row_packing_equals_the_table_format() -> None:
             fields.update(model_bits(fault.model))
         for drive in (False, True):
             assert row.packed(drive) == pack_row({**fields, "drive": int(drive)})
+
+
+def test_an_unknown_simulator_on_the_command_line_exits_2(capsys: pytest.CaptureFixture[str]) -> None:
+    assert main(["bist", "campaign", "MATS+", "--words", "8", "--simulator", "questa"]) == 2
+    assert "questa" in capsys.readouterr().err
