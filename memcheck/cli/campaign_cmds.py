@@ -100,7 +100,7 @@ def _progress(enabled: bool) -> Iterator[Callable[[int, int], None] | None]:
 @click.option("--layout", default=None, help="Physical ROWSxCOLS (needed for the neighbours universe).")
 @click.option("--backgrounds", default=None, help="Data backgrounds (default: solid for 1 bit, else standard).")
 @click.option("--faults", "classes", default=None, help="Fault classes, comma-separated (default: the static classes).")
-@click.option("--universe", default="all", show_default=True, help="all, neighbours or sample:K.")
+@click.option("--universe", default="all", show_default=True, help="all, neighbours, sample:K[:neighbours].")
 @click.option("--copies", type=int, default=None, help="Faulty copies per simulation (default: from memory size).")
 @click.option("--pause-cycles", type=int, default=100, show_default=True, help="Engine pause = retention time.")
 @click.option(

@@ -1,5 +1,5 @@
-"""One shard of a campaign in Icarus Verilog: the generated engine drives the faulty memory's
-``COPIES`` copies; every copy is compared with the engine's own expected word and check flag.
+"""One shard of a campaign in Icarus Verilog or Verilator (:mod:`.verilator`): the generated engine drives the
+faulty memory's ``COPIES`` copies; every copy is compared with the engine's own expected word and check flag.
 
 The harness ``campaign_tb`` connects engine ``eng`` and memory ``mem``. The engine's ``mem_rdata`` is
 the memory's ``rdata``, which carries the fault of copy 0 (``drive``), so the engine's own ``fail``

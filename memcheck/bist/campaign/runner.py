@@ -141,6 +141,8 @@ def execute(
     n = workers if workers is not None else (os.cpu_count() or 1)
     source = on_cluster(prepared.harness, jobs, scheduler) if scheduler else _local(prepared.harness, jobs, n)
     results: dict[int, ShardResult] = {}
+    if progress is not None:
+        progress(0, len(jobs))  # the total is known while the harness compiles
     for res in source:
         results[res.index] = res
         if progress is not None:
