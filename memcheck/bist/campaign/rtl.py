@@ -22,7 +22,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from memcheck._atomic import write_text_atomic
-from memcheck.bist.campaign.verilator import build_verilator
+from memcheck.bist.campaign.verilator import BUILD_TAG, build_verilator
 from memcheck.bist.faulty_memory import MemoryShape, faulty_memory_verilog, table_text
 from memcheck.bist.microcode import EnginePlan
 from memcheck.bist.verilog import engine_verilog
@@ -46,7 +46,8 @@ class Harness:
 
     @property
     def key(self) -> str:
-        h = hashlib.sha256(self.simulator.encode() + b"\0")
+        tag = BUILD_TAG if self.simulator == "verilator" else self.simulator
+        h = hashlib.sha256(tag.encode() + b"\0")
         for name, text in self.sources:
             h.update(name.encode() + b"\0" + text.encode() + b"\0")
         return h.hexdigest()[:20]

@@ -1,9 +1,10 @@
 """Build a campaign harness with Verilator (an executable that takes ``+faults=TABLE``, like ``vvp``).
 
 The same three source files as the Icarus build are verilated with ``--main --timing`` (the harness's
-clock and reset are written with delays), then compiled with light C++ optimisation: the generated
+clock and reset are written with delays), then compiled with make and the C++ compiler: the generated
 code is large (every ``COPIES``-bit operation is unrolled word by word) and runs only ~40,000 cycles per
-simulation, so compile time matters more than run speed. Verilator's own run-time library
+simulation, so compile time matters: ``-O2`` on the per-cycle code (it compiles in about the same time
+as ``-O1`` and runs 2.4 times faster), ``-O0`` on start-up code. Verilator's own run-time library
 (``verilated*.o``) does not depend on the design: it is compiled once per Verilator version and kept
 beside the compiled harnesses, and later builds link the kept objects.
 
@@ -40,7 +41,9 @@ VERILATE = (
     "Vcampaign_tb",
 )
 #: C++ optimisation of the generated code (fast path, initial blocks) and of the run-time library
-MAKE_VARS = ("OPT_FAST=-O1", "OPT_SLOW=-O0", "OPT_GLOBAL=-O1")
+MAKE_VARS = ("OPT_FAST=-O2", "OPT_SLOW=-O0", "OPT_GLOBAL=-O1")
+#: what a compiled harness depends on besides its sources (part of the build cache key)
+BUILD_TAG = "\0".join((*VERILATE, *MAKE_VARS))
 RUNTIME_OBJECTS = ("verilated.o", "verilated_timing.o", "verilated_threads.o")
 
 
