@@ -14,6 +14,7 @@ import click
 from memcheck._atomic import write_text_atomic
 from memcheck.bist.campaign import CampaignSpec, render, run_campaign
 from memcheck.bist.campaign.faillog import write_campaign_log
+from memcheck.bist.campaign.verilator import SIMULATORS
 from memcheck.bist.faulty_memory import MemoryShape, faulty_memory_verilog
 from memcheck.cli import EXIT_FAIL, EXIT_OK
 from memcheck.cli._options import address_order_options, resolve_seed, seed_option
@@ -100,7 +101,7 @@ def _progress(enabled: bool) -> Iterator[Callable[[int, int], None] | None]:
 @click.option("--layout", default=None, help="Physical ROWSxCOLS (needed for the neighbours universe).")
 @click.option("--backgrounds", default=None, help="Data backgrounds (default: solid for 1 bit, else standard).")
 @click.option("--faults", "classes", default=None, help="Fault classes, comma-separated (default: every class).")
-@click.option("--universe", default="all", show_default=True, help="all, neighbours or sample:K.")
+@click.option("--universe", default="all", show_default=True, help="all, neighbours, sample:K[:neighbours].")
 @click.option("--copies", type=int, default=None, help="Faulty copies per simulation (default: from memory size).")
 @click.option("--pause-cycles", type=int, default=100, show_default=True, help="Engine pause = retention time.")
 @click.option(
@@ -109,6 +110,13 @@ def _progress(enabled: bool) -> Iterator[Callable[[int, int], None] | None]:
     default=1,
     show_default=True,
     help="READ_LATENCY of the engine and the faulty memory (0 to 4).",
+)
+@click.option(
+    "--simulator",
+    type=click.Choice(SIMULATORS),
+    default="auto",
+    show_default=True,
+    help="Icarus or Verilator; auto takes Verilator (when installed) for campaigns large enough to repay its compile.",
 )
 @click.option("--workers", type=click.IntRange(min=1), default=None, help="Local worker processes (default: cores).")
 @click.option("--scheduler", default=None, help="Dask scheduler ADDRESS (tcp://host:8786) instead of local workers.")
@@ -153,6 +161,7 @@ def bist_campaign(test: str, json_file: str | None, fail_log: str | None, **kw: 
         kw["copies"],
         kw["pause_cycles"],
         kw["read_latency"],
+        kw["simulator"],
     )
     where = f"Dask scheduler {scheduler}" if scheduler else f"{workers or 'all'} local worker processes"
     click.echo(f"memcheck bist campaign: {test} on {words} x {kw['width']}, order {kw['order']}, seed {seed}, {where}")

@@ -9,10 +9,11 @@ bit (the bits never interact; docs/faults.md), so it is ``width x 2^n`` rows.
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+import functools
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 
-from memcheck.bist.faulty_memory import AF_KIND_CODES, KIND_FP, KIND_SOF, model_bits, pack_row
+from memcheck.bist.faulty_memory import AF_KIND_CODES, KIND_FP, KIND_SOF, ROW_BITS, ROW_FIELDS, model_bits
 from memcheck.errors import BistError
 from memcheck.faults import (
     CellFault,
@@ -23,6 +24,7 @@ from memcheck.faults import (
     StuckOpenFault,
 )
 from memcheck.faults.geometry import Arrangement
+from memcheck.faults.primitives import FaultModel
 from memcheck.faults.sampling import class_size, enumerate_class, sample_class
 from memcheck.faults.universe import CLASSES, Universe
 
@@ -38,25 +40,56 @@ class Row:
     instance: int
     state: tuple[int, ...]
     bit: int
-    fields: tuple[tuple[str, int], ...]
+    value: int  # the packed table row (:func:`memcheck.bist.faulty_memory.pack_row`), drive bit clear
 
     def packed(self, drive: bool) -> str:
-        return pack_row({**dict(self.fields), "drive": int(drive)})
+        return f"{self.value | (_DRIVE if drive else 0):0{ROW_BITS // 4}x}"
 
 
+def _positions() -> dict[str, tuple[int, int]]:
+    """Each table field's (lowest bit, width) in a packed row, as :func:`pack_row` lays them."""
+    out, top = {}, ROW_BITS
+    for name, bits in ROW_FIELDS:
+        top -= bits
+        out[name] = (top, bits)
+    return out
+
+
+_POSITIONS = _positions()
+_DRIVE = 1 << _POSITIONS["drive"][0]
+
+
+def _pack(fields: Mapping[str, int]) -> int:
+    """:func:`pack_row` as an integer (the same bits; a test holds them equal), without its per-field loop."""
+    value = 0
+    for name, x in fields.items():
+        lsb, bits = _POSITIONS[name]
+        if not 0 <= x < 1 << bits:
+            raise BistError(f"fault table field {name}={x} does not fit in {bits} bits")
+        value |= x << lsb
+    return value
+
+
+@functools.cache
+def _model_word(model: FaultModel) -> int:
+    return _pack(model_bits(model))
+
+
+@functools.cache
 def states(n: int) -> list[tuple[int, ...]]:
     """All power-up states of ``n`` variables, first variable most significant."""
     return [tuple((s >> (n - 1 - i)) & 1 for i in range(n)) for s in range(1 << n)]
 
 
 def _fields(fault: FaultInstance, state: tuple[int, ...], bit: int) -> dict[str, int]:
+    """A row's own fields (a cell or coupling fault's model flags are packed once per model)."""
     if isinstance(fault, CellFault):
         c = fault.cell
-        return {"kind": KIND_FP, "vword": c.word, "vbit": c.bit, "v0": state[0], **model_bits(fault.model)}
+        return {"kind": KIND_FP, "vword": c.word, "vbit": c.bit, "v0": state[0]}
     if isinstance(fault, CouplingFault):
         a, v = fault.aggressor, fault.victim
         out = {"kind": KIND_FP, "vword": v.word, "vbit": v.bit, "has_a": 1, "aword": a.word, "abit": a.bit}
-        return {**out, "a0": state[0], "v0": state[1], **model_bits(fault.model)}
+        return {**out, "a0": state[0], "v0": state[1]}
     if isinstance(fault, StuckOpenFault):
         return {"kind": KIND_SOF, "vword": fault.cell.word, "vbit": fault.cell.bit, "l0": state[0]}
     out = {"kind": AF_KIND_CODES[fault.kind], "vword": fault.address, "vbit": bit, "v0": state[0], "l0": state[-1]}
@@ -69,21 +102,34 @@ def _fields(fault: FaultInstance, state: tuple[int, ...], bit: int) -> dict[str,
 def rows_of(index: int, fault: FaultInstance, width: int) -> list[Row]:
     n = len(fault.power_up_labels())
     bits = range(width) if isinstance(fault, DecoderFault) else (-1,)
-    return [Row(index, s, b, tuple(sorted(_fields(fault, s, b).items()))) for b in bits for s in states(n)]
+    model = _model_word(fault.model) if isinstance(fault, CellFault | CouplingFault) else 0
+    return [Row(index, s, b, _pack(_fields(fault, s, b)) | model) for b in bits for s in states(n)]
 
 
 MAX_INSTANCES = 2_000_000
 
 
+def universe_size(setup: Arrangement, classes: Sequence[str], universe: Universe) -> int:
+    """Fault instances the campaign would simulate: the whole ``all`` or ``neighbours`` universe, or for
+    ``sample:K[:neighbours]`` K per class (a class smaller than K whole), counted without enumerating."""
+    base = universe.base if universe.kind == "sample" else universe.kind
+    sizes = [class_size(c, setup, base) for c in classes if c in RTL_CLASSES]
+    if universe.kind == "sample":
+        assert universe.size is not None
+        return sum(min(universe.size, n) for n in sizes)
+    return sum(sizes)
+
+
 def check_budget(setup: Arrangement, classes: Sequence[str], universe: Universe) -> None:
     """Refuse a universe too large to simulate instance by instance (before enumerating it)."""
-    if universe.kind != "all":
-        return
-    total = sum(class_size(c, setup) for c in classes if c in RTL_CLASSES)
+    total = universe_size(setup, classes, universe)
     if total > MAX_INSTANCES:
+        name = f"sample:{universe.size}" if universe.kind == "sample" else universe.kind
+        name += ":neighbours" if universe.kind == "sample" and universe.base == "neighbours" else ""
+        hint = "a smaller sample:K" if universe.kind == "sample" else "--universe sample:K"
         raise BistError(
-            f"the 'all' universe of {setup.words} x {setup.width} has {total:,} fault instances, too many to simulate "
-            f"one by one on RTL (at most {MAX_INSTANCES:,}); use --universe sample:K or neighbours"
+            f"the {name!r} universe of {setup.words} x {setup.width} has {total:,} fault instances, too many to "
+            f"simulate one by one on RTL (at most {MAX_INSTANCES:,}); use {hint}"
         )
 
 

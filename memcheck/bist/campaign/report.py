@@ -100,6 +100,8 @@ class CampaignReport:
     test: MarchTest | None = None
     setup: Arrangement | None = None
     outcomes: tuple[InstanceOutcome, ...] = ()  # in plan order (class by class), for fail logs
+    simulator: str = "icarus"
+    phases: tuple[tuple[str, float], ...] = ()  # (phase, seconds): plan, simulate, compare
 
     def to_json(self) -> dict[str, Any]:
         classes: dict[str, Any] = {}
@@ -120,7 +122,12 @@ class CampaignReport:
         out = {**self.head, "classes": classes, "disagreements": list(self.disagreements)}
         rate = self.figures["instances"] / self.seconds if self.seconds > 0 else 0.0
         out["figures"] = dict(self.figures)
-        out["timing"] = {"seconds": round(self.seconds, 3), "instances_per_second": round(rate, 1)}
+        out["timing"] = {
+            "seconds": round(self.seconds, 3),
+            "instances_per_second": round(rate, 1),
+            "simulator": self.simulator,
+            "phases": {k: round(v, 3) for k, v in self.phases},
+        }
         out["note"] = NOTE
         return out
 
@@ -136,7 +143,9 @@ def _counts(v: list[int]) -> dict[str, int]:
 _INDEX = {"detected": 0, "partial": 1, "escaped": 2}
 
 
-def build_report(prepared: Prepared, found: list[InstanceOutcome], seconds: float) -> CampaignReport:
+def build_report(
+    prepared: Prepared, found: list[InstanceOutcome], seconds: float, phases: tuple[tuple[str, float], ...] = ()
+) -> CampaignReport:
     spec = prepared.spec
     rows = []
     for cls, _ in prepared.instances:
@@ -174,7 +183,8 @@ def build_report(prepared: Prepared, found: list[InstanceOutcome], seconds: floa
     }
     bad = tuple(_disagreement(prepared.test, o) for o in found if not o.agrees)
     sample = spec.universe.startswith("sample")
-    return CampaignReport(head, tuple(rows), bad, figures, seconds, sample, prepared.test, s, tuple(found))
+    sim = prepared.harness.simulator
+    return CampaignReport(head, tuple(rows), bad, figures, seconds, sample, prepared.test, s, tuple(found), sim, phases)
 
 
 def render(report: CampaignReport, max_disagreements: int = 20) -> str:
@@ -187,7 +197,8 @@ def render(report: CampaignReport, max_disagreements: int = 20) -> str:
     f = report.figures
     lines.append(
         f"{f['instances']} instances, {f['simulated_copies']} faulty copies in {f['simulations']} simulations of "
-        f"{f['copies_per_simulation']} copies, {f['cycles_per_simulation']} cycles each, {report.seconds:.1f} s"
+        f"{f['copies_per_simulation']} copies, {f['cycles_per_simulation']} cycles each ({report.simulator}), "
+        f"{report.seconds:.1f} s"
     )
     if report.agree:
         lines.append("agreement: every instance has the fault simulator's verdict on RTL")

@@ -1,5 +1,5 @@
-"""One shard of a campaign in Icarus Verilog: the generated engine drives the faulty memory's
-``COPIES`` copies; every copy is compared with the engine's own expected word and check flag.
+"""One shard of a campaign in Icarus Verilog or Verilator (:mod:`.verilator`): the generated engine drives the
+faulty memory's ``COPIES`` copies; every copy is compared with the engine's own expected word and check flag.
 
 The harness ``campaign_tb`` connects engine ``eng`` and memory ``mem``. The engine's ``mem_rdata`` is
 the memory's ``rdata``, which carries the fault of copy 0 (``drive``), so the engine's own ``fail``
@@ -11,6 +11,7 @@ address) is printed when a copy first fails: that is the operation the engine wo
 
 from __future__ import annotations
 
+import fcntl
 import hashlib
 import os
 import re
@@ -21,6 +22,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from memcheck._atomic import write_text_atomic
+from memcheck.bist.campaign.verilator import BUILD_TAG, build_verilator
 from memcheck.bist.faulty_memory import MemoryShape, faulty_memory_verilog, table_text
 from memcheck.bist.microcode import EnginePlan
 from memcheck.bist.verilog import engine_verilog
@@ -40,10 +42,12 @@ class Harness:
     sources: tuple[tuple[str, str], ...]  # (file name, text)
     copies: int
     cycles: int
+    simulator: str = "icarus"  # or "verilator" (memcheck.bist.campaign.verilator)
 
     @property
     def key(self) -> str:
-        h = hashlib.sha256()
+        tag = BUILD_TAG if self.simulator == "verilator" else self.simulator
+        h = hashlib.sha256(tag.encode() + b"\0")
         for name, text in self.sources:
             h.update(name.encode() + b"\0" + text.encode() + b"\0")
         return h.hexdigest()[:20]
@@ -125,13 +129,13 @@ endmodule
 """
 
 
-def build_harness(plan: EnginePlan, shape: MemoryShape) -> Harness:
+def build_harness(plan: EnginePlan, shape: MemoryShape, simulator: str = "icarus") -> Harness:
     sources = (
         (f"{plan.module}.v", engine_verilog(plan)),
         (f"{shape.module}.v", faulty_memory_verilog(shape)),
         ("campaign_tb.v", harness_text(plan, shape)),
     )
-    return Harness(sources, shape.copies, plan.cycles())
+    return Harness(sources, shape.copies, plan.cycles(), simulator)
 
 
 def _tool(name: str) -> str:
@@ -141,22 +145,42 @@ def _tool(name: str) -> str:
     return path
 
 
+def _icarus(sources: list[Path], workdir: Path) -> Path:
+    exe = workdir / "sim.vvp"
+    cmd = [_tool("iverilog"), "-g2005", "-s", "campaign_tb", "-o", str(exe), *map(str, sources)]
+    comp = subprocess.run(cmd, capture_output=True, text=True, timeout=600)
+    if comp.returncode != 0:
+        raise BistError(f"iverilog could not compile the campaign harness: {comp.stderr.strip()[:2000]}")
+    return exe
+
+
 def compiled(harness: Harness, cache: Path | None = None) -> Path:
-    """The compiled simulation (one per harness and machine, cached under the temp directory)."""
+    """The compiled simulation (one per harness and machine, cached under the temp directory; processes
+    asking at the same time wait for one build under a file lock)."""
     root = cache if cache is not None else Path(tempfile.gettempdir()) / f"memcheck-campaign-{os.getuid()}"
-    final = root / harness.key / "sim.vvp"
+    final = root / harness.key / "sim.exe"
     if final.exists():
         return final
     final.parent.mkdir(parents=True, exist_ok=True)
-    with tempfile.TemporaryDirectory(dir=final.parent) as tmp:
-        srcs = [write_text_atomic(Path(tmp) / name, text) for name, text in harness.sources]
-        exe = Path(tmp) / "sim.vvp"
-        cmd = [_tool("iverilog"), "-g2005", "-s", "campaign_tb", "-o", str(exe), *map(str, srcs)]
-        comp = subprocess.run(cmd, capture_output=True, text=True, timeout=600)
-        if comp.returncode != 0:
-            raise BistError(f"iverilog could not compile the campaign harness: {comp.stderr.strip()[:2000]}")
-        os.replace(exe, final)
+    with open(final.parent / ".lock", "w") as lock:
+        fcntl.flock(lock, fcntl.LOCK_EX)
+        if final.exists():
+            return final
+        with tempfile.TemporaryDirectory(dir=final.parent) as tmp:
+            srcs = [write_text_atomic(Path(tmp) / name, text) for name, text in harness.sources]
+            if harness.simulator == "verilator":
+                exe = build_verilator(srcs, Path(tmp), root)
+            else:
+                exe = _icarus(srcs, Path(tmp))
+            os.replace(exe, final)
     return final
+
+
+def shard_command(harness: Harness, exe: Path, table: Path) -> list[str]:
+    """The command line that simulates one fault table (a vvp run, or the Verilator executable)."""
+    if harness.simulator == "verilator":
+        return [str(exe), f"+faults={table}"]
+    return [_tool("vvp"), "-n", str(exe), f"+faults={table}"]
 
 
 def _bits(hex_text: str, copies: int) -> list[bool]:
@@ -189,11 +213,11 @@ def run_shard(harness: Harness, job: ShardJob, cache: Path | None = None) -> Sha
     with tempfile.TemporaryDirectory(prefix="memcheck-shard-") as tmp:
         table = Path(tmp) / "faults.hex"
         table.write_text(table_text(list(job.rows), harness.copies), encoding="ascii")
-        run = subprocess.run(
-            [_tool("vvp"), "-n", str(exe), f"+faults={table}"], capture_output=True, text=True, timeout=3600
-        )
+        run = subprocess.run(shard_command(harness, exe, table), capture_output=True, text=True, timeout=3600)
     if run.returncode != 0:
-        raise BistError(f"vvp failed on shard {job.index} ({run.returncode}): {(run.stderr or run.stdout)[-800:]}")
+        raise BistError(
+            f"{harness.simulator} failed on shard {job.index} ({run.returncode}): {(run.stderr or run.stdout)[-800:]}"
+        )
     res = parse_output(job.index, run.stdout, harness.copies)
     n = len(job.rows)
     return ShardResult(job.index, res.failed[:n], res.first[:n], res.engine_fail)

@@ -8,8 +8,6 @@ shard, whichever way the shards ran.
 from __future__ import annotations
 
 import os
-import re
-import socket
 import time
 from collections.abc import Callable, Iterator, Sequence
 from concurrent.futures import ProcessPoolExecutor, as_completed
@@ -18,7 +16,9 @@ from typing import Any, Literal
 
 from memcheck.bist.campaign.plan import RTL_CLASSES, Row, check_budget, plan_instances, rows_of, verdict_of
 from memcheck.bist.campaign.report import CampaignReport, InstanceOutcome, build_report
-from memcheck.bist.campaign.rtl import Harness, ShardJob, ShardResult, build_harness, run_shard
+from memcheck.bist.campaign.rtl import Harness, ShardJob, ShardResult, build_harness, compiled, run_shard
+from memcheck.bist.campaign.scheduler import on_cluster, probe
+from memcheck.bist.campaign.verilator import VERILATOR_COPIES, choose_simulator
 from memcheck.bist.faulty_memory import MemoryShape, check_copies, default_copies
 from memcheck.bist.microcode import plan_engine
 from memcheck.errors import BistError
@@ -28,7 +28,6 @@ from memcheck.faults.universe import parse_classes, parse_universe
 from memcheck.march import MarchTest, resolve_test
 
 Progress = Callable[[int, int], None]
-SCHEDULER_TIMEOUT = 10.0
 
 
 @dataclass(frozen=True)
@@ -48,6 +47,7 @@ class CampaignSpec:
     copies: int | None = None
     pause_cycles: int = 100
     read_latency: int = 1
+    simulator: str = "auto"  # auto, icarus or verilator (see choose_simulator)
 
 
 @dataclass(frozen=True)
@@ -94,7 +94,10 @@ def prepare(spec: CampaignSpec) -> Prepared:
     flat = [f for _, found in instances for f in found]
     for i, f in enumerate(flat):
         rows.extend(rows_of(i, f, spec.width))
+    simulator = choose_simulator(spec.simulator, len(rows) * plan.cycles())
     copies = spec.copies if spec.copies is not None else default_copies(spec.words, len(rows))
+    if spec.copies is None and simulator == "verilator":
+        copies = min(copies, VERILATOR_COPIES)
     check_copies(spec.words, copies)
     shape = MemoryShape(spec.words, spec.width, plan.read_latency, copies, max(1, spec.pause_cycles))
     jobs = [
@@ -105,7 +108,7 @@ def prepare(spec: CampaignSpec) -> Prepared:
     return Prepared(
         spec,
         setup,
-        build_harness(plan, shape),
+        build_harness(plan, shape, simulator),
         instances,
         rows,
         jobs,
@@ -116,6 +119,7 @@ def prepare(spec: CampaignSpec) -> Prepared:
 
 
 def _local(harness: Harness, jobs: Sequence[ShardJob], workers: int) -> Iterator[ShardResult]:
+    compiled(harness)  # once, here, before the workers need it
     if workers <= 1 or len(jobs) <= 1:
         for job in jobs:
             yield run_shard(harness, job)
@@ -131,58 +135,16 @@ def _local(harness: Harness, jobs: Sequence[ShardJob], workers: int) -> Iterator
             raise
 
 
-def _probe(address: str) -> None:
-    """Fail fast when nothing listens at a tcp:// scheduler address (other protocols: left to Dask)."""
-    m = re.match(r"^(?:tcp://)?\[?([^\]/]+?)\]?:(\d+)/?$", address.strip())
-    if m is None:
-        if "://" in address and not address.startswith("tcp://"):
-            return
-        raise ValueError(f"not host:port: {address!r}")
-    with socket.create_connection((m[1], int(m[2])), timeout=SCHEDULER_TIMEOUT / 2):
-        pass
-
-
-def _dask(harness: Harness, jobs: Sequence[ShardJob], address: str) -> Iterator[ShardResult]:
-    try:
-        from dask.distributed import Client
-    except ModuleNotFoundError:
-        raise BistError("--scheduler needs Dask: pip install 'memcheck[cluster]'") from None
-    import dask
-
-    try:
-        with dask.config.set({"distributed.comm.timeouts.connect": f"{SCHEDULER_TIMEOUT:.0f}s"}):
-            client = Client(address, timeout=f"{SCHEDULER_TIMEOUT:.0f}s")  # type: ignore[no-untyped-call]
-    except Exception as exc:  # whatever answered at the address, it is not a usable scheduler
-        raise _unreachable(address, exc) from None
-    return _with_client(client, harness, jobs)
-
-
-def _unreachable(address: str, exc: BaseException) -> BistError:
-    return BistError(
-        f"cannot reach the Dask scheduler at {address} within {SCHEDULER_TIMEOUT:.0f} s ({type(exc).__name__}); "
-        "start one with 'dask scheduler' and workers with 'dask worker ADDRESS', or drop --scheduler "
-        "to use local worker processes"
-    )
-
-
-def _with_client(client: Any, harness: Harness, jobs: Sequence[ShardJob]) -> Iterator[ShardResult]:
-    from dask.distributed import as_completed as dask_completed
-
-    with client:
-        shared = client.scatter(harness, broadcast=True)
-        futures = client.map(run_shard, [shared] * len(jobs), list(jobs), pure=False)
-        for fut in dask_completed(futures):  # type: ignore[no-untyped-call]
-            yield fut.result()
-
-
 def execute(
     prepared: Prepared, *, workers: int | None = None, scheduler: str | None = None, progress: Progress | None = None
 ) -> list[ShardResult]:
     """Every shard's result, in shard order."""
     jobs = prepared.jobs
     n = workers if workers is not None else (os.cpu_count() or 1)
-    source = _dask(prepared.harness, jobs, scheduler) if scheduler else _local(prepared.harness, jobs, n)
+    source = on_cluster(prepared.harness, jobs, scheduler) if scheduler else _local(prepared.harness, jobs, n)
     results: dict[int, ShardResult] = {}
+    if progress is not None:
+        progress(0, len(jobs))  # the total is known while the harness compiles
     for res in source:
         results[res.index] = res
         if progress is not None:
@@ -228,11 +190,12 @@ def run_campaign(
     """Measure ``spec`` on RTL and compare it with the fast fault simulator, instance by instance."""
     t0 = time.perf_counter()
     if scheduler:
-        try:
-            _probe(scheduler)
-        except (OSError, ValueError) as exc:
-            raise _unreachable(scheduler, exc) from None
+        probe(scheduler)  # before planning: a bad address costs only the probe
     prepared = prepare(spec)
+    t1 = time.perf_counter()
     results = execute(prepared, workers=workers, scheduler=scheduler, progress=progress)
+    t2 = time.perf_counter()
     found = outcomes(prepared, results)
-    return build_report(prepared, found, time.perf_counter() - t0)
+    t3 = time.perf_counter()
+    phases = (("plan", t1 - t0), ("simulate", t2 - t1), ("compare", t3 - t2))
+    return build_report(prepared, found, t3 - t0, phases)
