@@ -30,8 +30,11 @@ from memcheck.bist.campaign import CampaignSpec, prepare, run_campaign
 from memcheck.bist.campaign.rtl import ShardJob, build_harness, compiled, run_shard
 from memcheck.bist.faulty_memory import MemoryShape
 from memcheck.bist.microcode import plan_engine
+from memcheck.faults.universe import CLASSES
 
-PER_CLASS = 112  # 112 x 18 classes = 2,016 instances
+#: The issue's "2,000 sampled instances over all classes": per class, every class (static and dynamic)
+#: of the campaign's default (25 classes: 80 x 25 = 2,000).
+PER_CLASS = -(-2000 // len(CLASSES))
 
 
 def load() -> str:
